@@ -1,0 +1,24 @@
+"""Exceptions and warnings raised by actsim.
+
+Every error that reaches a user names the field, the value, the unit and the
+allowed range in one line; the command line turns :class:`ActsimInputError`
+into that line and exit status 2.
+"""
+
+from __future__ import annotations
+
+
+class ActsimError(Exception):
+    """Base class of all actsim errors."""
+
+
+class ActsimInputError(ActsimError, ValueError):
+    """Bad user input: a scenario field, a data file or a command-line option."""
+
+
+class ActsimSimulationError(ActsimError, RuntimeError):
+    """The simulation could not produce finite results (never written to disk)."""
+
+
+class ActsimWarning(UserWarning):
+    """A result is usable but the user should know something about it."""

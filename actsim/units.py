@@ -1,0 +1,134 @@
+"""Units at the edges: parse user strings such as ``"0.2 mm"`` into SI floats.
+
+Inside actsim every number is SI (m, s, K, Pa, W m-2, mol m-3). This module is
+the only place where unit strings are read; it turns every failure into a
+one-line :class:`~actsim.errors.ActsimInputError` that names the field.
+"""
+
+from __future__ import annotations
+
+import math
+
+import pint
+
+from .errors import ActsimInputError
+
+ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+ureg.define("percent = 0.01 = %")
+Q_ = ureg.Quantity
+
+#: SI unit used inside the code for each physical kind, with a typical example
+#: shown in error messages.
+SI_UNITS = {
+    "length": ("m", "0.2 mm"),
+    "time": ("s", "30 s"),
+    "temperature": ("K", "25 degC"),
+    "pressure": ("Pa", "2 GPa"),
+    "irradiance": ("W/m^2", "50 mW/cm^2"),
+    "concentration": ("mol/m^3", "0.5 mol/L"),
+    "molar_absorptivity": ("m^2/mol", "1500 L/(mol*cm)"),
+    "absorption_coefficient": ("1/m", "10 1/cm"),
+    "rate": ("1/s", "0.01 1/s"),
+    "wavelength": ("m", "365 nm"),
+    "force": ("N", "5 mN"),
+    "mass": ("kg", "5 g"),
+    "energy_per_mol": ("J/mol", "80 kJ/mol"),
+    "conductivity": ("W/(m*K)", "0.2 W/(m*K)"),
+    "heat_capacity": ("J/(kg*K)", "1500 J/(kg*K)"),
+    "density": ("kg/m^3", "1200 kg/m^3"),
+    "heat_transfer_coefficient": ("W/(m^2*K)", "10 W/(m^2*K)"),
+    "thermal_expansion": ("1/K", "1e-4 1/K"),
+    "dose": ("J/m^2", "30 J/m^2"),
+    "curvature": ("1/m", "50 1/m"),
+    "angle": ("rad", "45 deg"),
+    "moment": ("N*m", "1 mN*m"),
+}
+
+
+def parse_quantity(value, *, field: str, kind: str):
+    """Parse a unit string (or a pint quantity) into an SI float.
+
+    Parameters
+    ----------
+    value : str or pint.Quantity
+        For example ``"50 mW/cm^2"``. A bare number is refused: the unit is
+        required for every dimensional field.
+    field : str
+        Dotted field name used in error messages.
+    kind : str
+        A key of :data:`SI_UNITS`, naming the physical kind expected.
+
+    Returns
+    -------
+    float
+        The value in the SI unit of ``kind``.
+    """
+    si_unit, example = SI_UNITS[kind]
+    if isinstance(value, bool) or value is None:
+        raise ActsimInputError(f"{field}: {value!r} is not a quantity; give a number with a unit, e.g. \"{example}\"")
+    if isinstance(value, (int, float)):
+        if kind == "angle":
+            raise ActsimInputError(f"{field}: bare number {value!r} has no unit; write e.g. \"{example}\" (deg or rad)")
+        raise ActsimInputError(
+            f"{field}: bare number {value!r} has no unit; write it with a unit of {kind.replace('_', ' ')}, e.g. \"{example}\""
+        )
+    try:
+        q = Q_(value) if isinstance(value, str) else value
+    except Exception as exc:  # pint raises many kinds
+        raise ActsimInputError(f"{field}: cannot read {value!r} as a quantity ({exc.__class__.__name__}); e.g. \"{example}\"") from None
+    if not isinstance(q, pint.Quantity):
+        raise ActsimInputError(
+            f"{field}: {value!r} has no unit; write it with a unit of {kind.replace('_', ' ')}, e.g. \"{example}\""
+        )
+    try:
+        si = q.to(si_unit).magnitude
+    except pint.DimensionalityError:
+        raise ActsimInputError(
+            f"{field}: {value!r} has unit {q.units:~} but a {kind.replace('_', ' ')} is required (in {si_unit}, e.g. \"{example}\")"
+        ) from None
+    si = float(si)
+    if not math.isfinite(si):
+        raise ActsimInputError(f"{field}: {value!r} is not finite")
+    return si
+
+
+def parse_dimensionless(value, *, field: str) -> float:
+    """Parse a dimensionless number (a float, or a string such as ``"15 %"``)."""
+    if isinstance(value, bool) or value is None:
+        raise ActsimInputError(f"{field}: {value!r} is not a number")
+    if isinstance(value, (int, float)):
+        v = float(value)
+    else:
+        try:
+            q = Q_(value) if isinstance(value, str) else value
+            v = float(q.to("dimensionless").magnitude) if isinstance(q, pint.Quantity) else float(q)
+        except pint.DimensionalityError:
+            raise ActsimInputError(f"{field}: {value!r} must be dimensionless (a plain number or a percentage)") from None
+        except Exception:
+            raise ActsimInputError(f"{field}: cannot read {value!r} as a number") from None
+    if not math.isfinite(v):
+        raise ActsimInputError(f"{field}: {value!r} is not finite")
+    return v
+
+
+def check_range(value: float, *, field: str, unit: str, lo=None, hi=None, lo_open=False, hi_open=False, shown=None):
+    """Raise the standard one-line error if ``value`` is outside [lo, hi].
+
+    ``shown`` is the value as the user wrote it (defaults to ``value``).
+    """
+    bad = False
+    if lo is not None and (value < lo or (lo_open and value == lo)):
+        bad = True
+    if hi is not None and (value > hi or (hi_open and value == hi)):
+        bad = True
+    if bad:
+        parts = []
+        if lo is not None:
+            parts.append(("> " if lo_open else ">= ") + f"{lo:g}")
+        if hi is not None:
+            parts.append(("< " if hi_open else "<= ") + f"{hi:g}")
+        allowed = " and ".join(parts)
+        shown_value = shown if shown is not None else f"{value:g}"
+        unit_txt = "" if unit in ("", "1") else f" {unit}"
+        raise ActsimInputError(f"{field}: {shown_value} is outside the allowed range ({allowed}{unit_txt})")
+    return value
