@@ -1,0 +1,185 @@
+"""Mechanics stage: layered-beam force and moment balance.
+
+Strain through the thickness follows the textbook beam sign,
+:math:`e(z) = e_0 - \\kappa z` (z from the bottom face), and the stress is
+:math:`\\sigma = E (e - e^*)`. With the section integrals (per unit width)
+
+.. math:: A = \\int E\\,dz,\\; B = \\int E z\\,dz,\\; D = \\int E z^2\\,dz,\\;
+   N^* = \\int E e^*\\,dz,\\; M^* = \\int E e^* z\\,dz
+
+the free strip (no net force, no net moment) has
+
+.. math:: e_0 = \\frac{D N^* - B M^*}{A D - B^2}, \\qquad
+   \\kappa = \\frac{B N^* - A M^*}{A D - B^2}.
+
+This is the general form of Timoshenko's bimetal solution for any number of
+layers and any through-thickness eigenstrain and modulus. Curvature
+:math:`\\kappa > 0` bends the strip toward +z (the top face becomes concave).
+Integrals are exact for values constant within each cell.
+
+References
+----------
+.. [1] Timoshenko, S. "Analysis of bi-metal thermostats." J. Opt. Soc. Am. 11
+   (1925) 233–255.
+.. [2] Hsueh, C. H. "Thermal stresses in elastic multilayer systems." Thin Solid
+   Films 418 (2002) 182–188.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+
+def section_integrals(*, z_edges, modulus, eigenstrain):
+    """Section integrals A, B, D, N*, M* per unit width (exact per cell).
+
+    Parameters
+    ----------
+    z_edges : numpy.ndarray, shape (n_cell + 1,)
+        Cell faces from the bottom face z = 0 [m].
+    modulus : numpy.ndarray, shape (..., n_cell)
+        Section modulus of each cell [Pa].
+    eigenstrain : numpy.ndarray, shape (..., n_cell)
+        Eigenstrain of each cell [1].
+
+    Returns
+    -------
+    dict of numpy.ndarray, shape (...)
+        ``A`` [N m-1], ``B`` [N], ``D`` [N m], ``N_star`` [N m-1], ``M_star`` [N].
+    """
+    z0, z1 = z_edges[:-1], z_edges[1:]
+    w1 = z1 - z0
+    w2 = 0.5 * (z1**2 - z0**2)
+    w3 = (z1**3 - z0**3) / 3.0
+    e_star = modulus * eigenstrain
+    return {
+        "A": modulus @ w1,
+        "B": modulus @ w2,
+        "D": modulus @ w3,
+        "N_star": e_star @ w1,
+        "M_star": e_star @ w2,
+    }
+
+
+def free_strip_response(*, z_edges, modulus, eigenstrain):
+    """Strain at z = 0 and curvature of a free strip (zero force and moment).
+
+    .. math:: \\begin{pmatrix} A & -B \\\\ B & -D \\end{pmatrix}
+       \\begin{pmatrix} e_0 \\\\ \\kappa \\end{pmatrix} =
+       \\begin{pmatrix} N^* \\\\ M^* \\end{pmatrix}
+
+    Parameters
+    ----------
+    z_edges : numpy.ndarray, shape (n_cell + 1,)
+        [m].
+    modulus : numpy.ndarray, shape (..., n_cell)
+        [Pa].
+    eigenstrain : numpy.ndarray, shape (..., n_cell)
+        [1].
+
+    Returns
+    -------
+    (strain_bottom, curvature, bending_stiffness) : numpy.ndarray, shape (...)
+        e0 at z = 0 [1], kappa [m-1] and the bending stiffness about the
+        neutral axis per unit width, D - B^2/A [N m].
+    """
+    s = section_integrals(z_edges=z_edges, modulus=modulus, eigenstrain=eigenstrain)
+    det = s["A"] * s["D"] - s["B"] ** 2
+    e0 = (s["D"] * s["N_star"] - s["B"] * s["M_star"]) / det
+    kappa = (s["B"] * s["N_star"] - s["A"] * s["M_star"]) / det
+    return e0, kappa, det / s["A"]
+
+
+def stress_profile(*, z_centres, modulus, eigenstrain, strain_bottom, curvature):
+    """Stress of each cell, sigma = E (e0 - kappa z - e*), at cell centres [Pa].
+
+    Parameters
+    ----------
+    z_centres : numpy.ndarray, shape (n_cell,)
+        [m].
+    modulus, eigenstrain : numpy.ndarray, shape (..., n_cell)
+        [Pa], [1].
+    strain_bottom, curvature : numpy.ndarray, shape (...)
+        [1], [m-1].
+    """
+    e = np.asarray(strain_bottom)[..., None] - np.asarray(curvature)[..., None] * z_centres
+    return modulus * (e - eigenstrain)
+
+
+def blocked_moment(*, bending_stiffness, curvature, width):
+    """Moment that holds the strip flat, M = b (D - B^2/A) kappa_free [N m].
+
+    Holding kappa = 0 with the axial strain free leaves the section moment
+    :math:`B N^*/A - M^*`, which equals the free curvature times the bending
+    stiffness about the neutral axis.
+
+    Parameters
+    ----------
+    bending_stiffness : array_like
+        Per unit width, D - B^2/A [N m].
+    curvature : array_like
+        Free curvature [m-1].
+    width : float
+        Strip width [m].
+    """
+    return width * np.asarray(bending_stiffness) * np.asarray(curvature)
+
+
+def blocked_tip_force(*, bending_stiffness, curvature, width, free_length):
+    """Force that holds the tip of a uniformly curved cantilever in place (small deflection).
+
+    .. math:: F = \\frac{3 E I \\kappa}{2 L}
+
+    from equating the free tip deflection :math:`\\kappa L^2/2` with the tip
+    deflection under an end load, :math:`F L^3/(3 E I)`; the tip is free to rotate.
+
+    Parameters
+    ----------
+    bending_stiffness : array_like
+        Per unit width [N m].
+    curvature : array_like
+        Free curvature [m-1].
+    width, free_length : float
+        [m].
+
+    Returns
+    -------
+    numpy.ndarray
+        Force normal to the clamped tangent [N], positive toward +z.
+
+    References
+    ----------
+    .. [1] Gere, J. M. and Timoshenko, S. P. Mechanics of Materials, 4th ed.,
+       PWS 1997, Appendix G (cantilever deflections).
+    """
+    ei = width * np.asarray(bending_stiffness)
+    return 1.5 * ei * np.asarray(curvature) / free_length
+
+
+def arc_tip_position(*, curvature, free_length):
+    """Tip of a uniformly curved cantilever (exact circular arc), clamped tangent along +x.
+
+    .. math:: x = \\frac{\\sin \\kappa L}{\\kappa}, \\qquad y = \\frac{1 - \\cos \\kappa L}{\\kappa}
+
+    with series :math:`x = L(1 - \\theta^2/6)`, :math:`y = L(\\theta/2 - \\theta^3/24)` for
+    small :math:`\\theta = \\kappa L` (no 0/0).
+
+    Parameters
+    ----------
+    curvature : array_like
+        [m-1].
+    free_length : float
+        [m].
+
+    Returns
+    -------
+    (x_tip, y_tip) : numpy.ndarray
+        Tip position along the clamped tangent and toward +z [m].
+    """
+    k = np.asarray(curvature, dtype=float)
+    theta = k * free_length
+    small = np.abs(theta) < 1e-4
+    safe = np.where(small, 1.0, k)
+    x = np.where(small, free_length * (1 - theta**2 / 6 + theta**4 / 120), np.sin(theta) / safe)
+    y = np.where(small, free_length * (theta / 2 - theta**3 / 24), (1 - np.cos(theta)) / safe)
+    return x, y

@@ -1,0 +1,334 @@
+"""Light sources and spectral functions: spectra -> photon flux per wavelength band.
+
+A source is a single line, a Gaussian band (centre, FWHM) or a tabulated
+spectrum. Each is cut into wavelength bands; each band carries a fraction of
+the source's irradiance and the *energy-weighted mean wavelength* of its part
+of the spectrum, so the photon flux of the band,
+
+.. math:: q_k = \\frac{w_k E \\bar\\lambda_k}{h c N_A}
+   \\quad [\\mathrm{mol\\,m^{-2}\\,s^{-1}}],
+
+is exactly the photon flux of that part of the spectrum
+(:math:`\\int E_\\lambda \\lambda / (h c)\\, d\\lambda`).
+
+Spectral *material* properties (absorptivity, quantum yield, background
+absorption) are :class:`SpectralFunction` objects: a constant, a table or a sum
+of Gaussian bands, evaluated at the band wavelengths.
+
+References
+----------
+.. [1] CODATA 2018 recommended values of the fundamental physical constants,
+   via :mod:`scipy.constants`.
+"""
+
+from __future__ import annotations
+
+import csv
+import math
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+from scipy import constants
+from scipy.special import erf
+
+from .errors import ActsimInputError
+
+#: Energy of one mole of photons times the wavelength, N_A h c [J m mol-1].
+MOLAR_PHOTON_ENERGY_TIMES_WAVELENGTH = constants.Avogadro * constants.h * constants.c
+
+#: FWHM of a Gaussian in units of its standard deviation, 2 sqrt(2 ln 2).
+FWHM_PER_SIGMA = 2.0 * math.sqrt(2.0 * math.log(2.0))
+
+
+def photon_flux(*, irradiance, wavelength):
+    """Photon flux of monochromatic light.
+
+    .. math:: q = \\frac{E \\lambda}{h c N_A}
+
+    Parameters
+    ----------
+    irradiance : float or array_like
+        Irradiance E [W m-2].
+    wavelength : float or array_like
+        Wavelength in vacuum [m].
+
+    Returns
+    -------
+    numpy.ndarray or float
+        Photon flux [mol m-2 s-1] (einstein m-2 s-1).
+    """
+    return np.asarray(irradiance) * np.asarray(wavelength) / MOLAR_PHOTON_ENERGY_TIMES_WAVELENGTH
+
+
+def molar_photon_energy(wavelength):
+    """Energy of one mole of photons, N_A h c / lambda [J mol-1]; wavelength [m]."""
+    return MOLAR_PHOTON_ENERGY_TIMES_WAVELENGTH / np.asarray(wavelength)
+
+
+@dataclass(frozen=True, eq=False)
+class SpectralFunction:
+    """A material property as a function of wavelength.
+
+    Exactly one form is used: ``constant``; a ``table`` (``wavelength`` [m] and
+    ``values``, linear interpolation, evaluating outside the table is an error);
+    or Gaussian ``bands`` (centre [m], FWHM [m], peak value) summed.
+    """
+
+    field: str
+    kind: str  # "constant" | "table" | "bands"
+    constant: float = 0.0
+    wavelength: np.ndarray = field(default_factory=lambda: np.zeros(0))
+    values: np.ndarray = field(default_factory=lambda: np.zeros(0))
+    bands: tuple = ()
+    unit: str = "1"
+
+    def __call__(self, wavelength):
+        lam = np.atleast_1d(np.asarray(wavelength, dtype=float))
+        if self.kind == "constant":
+            return np.full(lam.shape, self.constant)
+        if self.kind == "table":
+            lo, hi = self.wavelength[0], self.wavelength[-1]
+            outside = (lam < lo * (1 - 1e-12)) | (lam > hi * (1 + 1e-12))
+            if np.any(outside):
+                bad = lam[outside][0]
+                raise ActsimInputError(
+                    f"{self.field}: the table covers {lo * 1e9:g} to {hi * 1e9:g} nm but light at "
+                    f"{bad * 1e9:.4g} nm reaches this material; extend the table to cover every source band"
+                )
+            return np.interp(lam, self.wavelength, self.values)
+        total = np.zeros(lam.shape)
+        for centre, fwhm, peak in self.bands:
+            sigma = fwhm / FWHM_PER_SIGMA
+            total += peak * np.exp(-0.5 * ((lam - centre) / sigma) ** 2)
+        return total
+
+    def is_zero(self) -> bool:
+        if self.kind == "constant":
+            return self.constant == 0.0
+        if self.kind == "table":
+            return not np.any(self.values)
+        return all(b[2] == 0.0 for b in self.bands)
+
+
+@dataclass(frozen=True, eq=False)
+class LightSource:
+    """A light source cut into wavelength bands.
+
+    Attributes
+    ----------
+    name : str
+    face : str
+        ``"top"`` (light travels toward -z) or ``"bottom"``.
+    irradiance : float
+        Default irradiance at the entry face, before reflection [W m-2].
+    band_wavelength : numpy.ndarray
+        Energy-weighted mean wavelength of each band [m].
+    band_fraction : numpy.ndarray
+        Fraction of the irradiance in each band [1], summing to 1.
+    description : str
+        Plain-words description (``"line at 365 nm"``).
+    """
+
+    name: str
+    face: str
+    irradiance: float
+    band_wavelength: np.ndarray
+    band_fraction: np.ndarray
+    description: str
+
+
+def line_bands(*, wavelength):
+    """A single spectral line: one band carrying all the irradiance.
+
+    Parameters
+    ----------
+    wavelength : float
+        Wavelength [m].
+
+    Returns
+    -------
+    (numpy.ndarray, numpy.ndarray)
+        Band wavelengths [m] and fractions [1].
+    """
+    return np.array([float(wavelength)]), np.array([1.0])
+
+
+def gaussian_bands(*, centre, fwhm, n_bands):
+    """Cut a Gaussian emission band into ``n_bands`` equal-width bins.
+
+    The bins span centre +- 1.5 FWHM (+- 3.53 sigma, 99.96 % of the power);
+    the truncated tails are renormalised so the fractions sum to one. Each
+    bin's wavelength is its energy-weighted mean, so photon fluxes are exact
+    for the truncated Gaussian.
+
+    .. math:: w_k = \\frac{\\Phi(b_{k+1}) - \\Phi(b_k)}{\\Phi(b_n) - \\Phi(b_0)}, \\qquad
+       \\bar\\lambda_k = \\mu + \\sigma^2 \\frac{\\phi(b_k) - \\phi(b_{k+1})}{\\Phi(b_{k+1}) - \\Phi(b_k)}
+
+    Parameters
+    ----------
+    centre : float
+        Peak wavelength [m].
+    fwhm : float
+        Full width at half maximum [m].
+    n_bands : int
+        Number of bins (odd keeps a bin on the centre).
+
+    Returns
+    -------
+    (numpy.ndarray, numpy.ndarray)
+        Band wavelengths [m] and fractions [1].
+
+    References
+    ----------
+    .. [1] Johnson, Kotz and Balakrishnan, Continuous Univariate Distributions,
+       vol. 1, 2nd ed., Wiley 1994, ch. 13 (moments of the truncated normal).
+    """
+    sigma = fwhm / FWHM_PER_SIGMA
+    edges = np.linspace(centre - 1.5 * fwhm, centre + 1.5 * fwhm, n_bands + 1)
+    u = (edges - centre) / sigma
+    cdf = 0.5 * (1.0 + erf(u / math.sqrt(2.0)))
+    pdf = np.exp(-0.5 * u**2) / math.sqrt(2.0 * math.pi)
+    mass = np.diff(cdf)
+    mean = centre + sigma * (pdf[:-1] - pdf[1:]) / mass
+    return mean, mass / mass.sum()
+
+
+def tabulated_bands(*, wavelength, spectral_irradiance, n_bands, field_name="spectrum"):
+    """Cut a tabulated spectrum into ``n_bands`` equal-width bins.
+
+    The table is taken as piecewise linear; each bin's fraction and
+    energy-weighted mean wavelength are integrated exactly on a fine
+    resampling (trapezoid on 64 sub-points per bin, second-order accurate).
+
+    Parameters
+    ----------
+    wavelength : array_like
+        Strictly increasing wavelengths [m].
+    spectral_irradiance : array_like
+        Relative spectral irradiance (any scale; only the shape is used) [1].
+    n_bands : int
+        Number of bins.
+
+    Returns
+    -------
+    (numpy.ndarray, numpy.ndarray)
+        Band wavelengths [m] and fractions [1]; bins with no power are dropped.
+    """
+    lam = np.asarray(wavelength, float)
+    val = np.asarray(spectral_irradiance, float)
+    edges = np.linspace(lam[0], lam[-1], n_bands + 1)
+    centres, powers = [], []
+    for a, b in zip(edges[:-1], edges[1:]):
+        sub = np.linspace(a, b, 65)
+        e = np.interp(sub, lam, val)
+        p = np.trapezoid(e, sub)
+        if p > 0:
+            centres.append(np.trapezoid(e * sub, sub) / p)
+            powers.append(p)
+    if not powers:
+        raise ActsimInputError(f"{field_name}: the spectrum has no power (all values zero)")
+    powers = np.array(powers)
+    return np.array(centres), powers / powers.sum()
+
+
+def read_table_csv(path, *, field_name, value_unit_kind=None, default_value_unit=None):
+    """Read a two-column CSV table (wavelength, value) with units in the header.
+
+    The header names the units in brackets, e.g. ``wavelength [nm], epsilon10 [L/(mol*cm)]``.
+    Lines starting with ``#`` are comments. Wavelengths must be strictly
+    increasing and values non-negative.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        The file.
+    field_name : str
+        Scenario field that named the file (for error messages).
+    value_unit_kind : str or None
+        Physical kind of the value column (a key of :data:`actsim.units.SI_UNITS`),
+        or None for a dimensionless column.
+    default_value_unit : str or None
+        Unit assumed for the value column when the header gives none
+        (only allowed for dimensionless or relative columns).
+
+    Returns
+    -------
+    (numpy.ndarray, numpy.ndarray)
+        Wavelengths [m] and values in SI.
+    """
+    from .units import Q_, SI_UNITS
+
+    path = Path(path)
+    if not path.is_file():
+        raise ActsimInputError(f"{field_name}: spectrum file '{path}' does not exist")
+    rows = []
+    header = None
+    with open(path, newline="") as fh:
+        for lineno, row in enumerate(csv.reader(fh), start=1):
+            if not row or row[0].strip().startswith("#") or all(not c.strip() for c in row):
+                continue
+            if header is None:
+                header = [c.strip() for c in row]
+                continue
+            if len(row) < 2:
+                raise ActsimInputError(f"{field_name}: '{path.name}' line {lineno} has {len(row)} column(s), 2 needed")
+            try:
+                rows.append((float(row[0]), float(row[1])))
+            except ValueError:
+                raise ActsimInputError(
+                    f"{field_name}: '{path.name}' line {lineno} is not numeric: {','.join(row)!r}"
+                ) from None
+    if header is None or len(rows) < 2:
+        raise ActsimInputError(f"{field_name}: '{path.name}' needs a header line and at least 2 data rows")
+
+    def unit_of(col):
+        if "[" in col and col.endswith("]"):
+            return col[col.index("[") + 1 : -1].strip()
+        return None
+
+    lam_unit = unit_of(header[0])
+    if lam_unit is None:
+        raise ActsimInputError(
+            f"{field_name}: '{path.name}' header '{header[0]}' gives no unit; write e.g. 'wavelength [nm]'"
+        )
+    val_unit = unit_of(header[1]) if len(header) > 1 else None
+    data = np.array(rows)
+    try:
+        lam = Q_(data[:, 0], lam_unit).to("m").magnitude
+    except Exception:
+        raise ActsimInputError(f"{field_name}: '{path.name}' wavelength unit [{lam_unit}] is not a length") from None
+    if value_unit_kind is None:
+        if val_unit not in (None, "", "1", "relative", "a.u."):
+            try:
+                values = Q_(data[:, 1], val_unit).to("dimensionless").magnitude
+            except Exception:
+                raise ActsimInputError(
+                    f"{field_name}: '{path.name}' value unit [{val_unit}] must be dimensionless"
+                ) from None
+        else:
+            values = data[:, 1]
+    else:
+        si_unit, example = SI_UNITS[value_unit_kind]
+        unit = val_unit or default_value_unit
+        if unit is None:
+            raise ActsimInputError(
+                f"{field_name}: '{path.name}' header '{header[1]}' gives no unit; write e.g. 'value [{example.split(' ', 1)[1]}]'"
+            )
+        try:
+            values = Q_(data[:, 1], unit).to(si_unit).magnitude
+        except Exception:
+            raise ActsimInputError(
+                f"{field_name}: '{path.name}' value unit [{unit}] is not a {value_unit_kind.replace('_', ' ')}"
+            ) from None
+    if np.any(np.diff(lam) <= 0):
+        i = int(np.argmax(np.diff(lam) <= 0))
+        raise ActsimInputError(
+            f"{field_name}: '{path.name}' wavelengths must be strictly increasing (row {i + 2} is {lam[i + 1] * 1e9:g} nm after {lam[i] * 1e9:g} nm)"
+        )
+    if np.any(values < 0) or not np.all(np.isfinite(values)):
+        i = int(np.argmax((values < 0) | ~np.isfinite(values)))
+        raise ActsimInputError(
+            f"{field_name}: '{path.name}' has a negative or non-finite value {data[i, 1]:g} at {lam[i] * 1e9:g} nm (allowed >= 0)"
+        )
+    return lam, values
