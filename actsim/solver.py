@@ -266,6 +266,9 @@ def simulate(scenario: Scenario, *, engine: str = "kernel") -> xr.Dataset:
         actsim_version=__version__,
         sign_convention="curvature > 0 bends the strip toward +z (top face concave); z = 0 is the bottom face",
         Conventions="CF-1.8",
+        thickness=scenario.thickness,
+        free_length=scenario.strip.free_length,
+        width=scenario.strip.width,
     )
     return ds
 
@@ -292,6 +295,10 @@ def assemble_dataset(scenario: Scenario, p: Problem, x, irr, pabs, budget) -> xr
         if not np.all(np.isfinite(arr)):
             raise ActsimSimulationError(f"non-finite {name} in the result; nothing was written")
     layer_names = np.array([scenario.layers[i].name for i in p.layer_index])
+    from .metrics import conversion_front_depth
+
+    lit_from_top = not scenario.sources or scenario.sources[0].face == "top"
+    front = conversion_front_depth(z=z_c, conversion=x, thickness=h, from_top=lit_from_top)
     ds = xr.Dataset(
         data_vars={
             "irradiance": _var(("time", "z"), irr, "W m-2", "cell-mean irradiance (all bands)"),
@@ -312,6 +319,7 @@ def assemble_dataset(scenario: Scenario, p: Problem, x, irr, pabs, budget) -> xr
             "photon_flux_reflected": _var(("time",), budget[:, 1], "mol m-2 s-1", "photon flux reflected at the entry faces"),
             "photon_flux_absorbed": _var(("time",), budget[:, 2], "mol m-2 s-1", "photon flux absorbed in the stack"),
             "photon_flux_transmitted": _var(("time",), budget[:, 3], "mol m-2 s-1", "photon flux leaving through the far faces"),
+            "conversion_front_depth": _var(("time",), front, "m", f"depth below the {'top' if lit_from_top else 'bottom'} face where conversion falls to half its maximum"),
             "incident_irradiance": _var(("time",), incident_power, "W m-2", "total incident irradiance of the sources on"),
             "optical_dose": _var(("time",), dose, "J m-2", "incident radiant exposure since t = 0"),
             "protocol_step": _var(("time",), step_of_time.astype(np.int32), "1", "index of the protocol step (0-based) that ends at or contains this time"),

@@ -1,0 +1,159 @@
+"""The ``actsim`` command.
+
+Every verb writes into an output folder it names and prints where. Bad input
+prints one line ``actsim: error: ...`` and exits with status 2; nothing is
+written in that case.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import math
+import sys
+from pathlib import Path
+
+from .errors import ActsimError, ActsimInputError
+
+#: Modules that add further verbs: each has ``register(subparsers)``.
+VERB_MODULES: list[str] = []
+
+EXAMPLES = {
+    "demo": "example:\n  actsim demo                 # the vent-flap demo into actsim-out/vent_flap\n  actsim demo --list\n  actsim demo --scenario gripper_pulses -o out/",
+    "run": "example:\n  actsim run scenarios/vent_flap.toml -o out/vent\n  actsim run my.toml --no-figures",
+}
+
+
+def scenarios_folder() -> Path:
+    """The bundled demo scenarios (``scenarios/`` beside the package)."""
+    here = Path(__file__).resolve().parent
+    for cand in (here.parent / "scenarios", here / "data" / "scenarios"):
+        if cand.is_dir():
+            return cand
+    raise ActsimInputError("demo: the bundled scenarios folder was not found; run from a source checkout (pip install -e .)")
+
+
+def _fmt_angle(v):
+    return "not reached" if v is None else f"{math.degrees(v):.2f} deg"
+
+
+def _fmt(v, unit, scale=1.0, digits=4):
+    return "not reached" if v is None else f"{v * scale:.{digits}g} {unit}"
+
+
+def summary_table(summary: dict) -> str:
+    """Plain-text table of the key metrics of a run."""
+    rows = [
+        ("peak bend angle", _fmt_angle(summary["peak_bend_angle"])),
+        ("final bend angle", _fmt_angle(summary["final_bend_angle"])),
+        ("time to 90 % of peak bend", _fmt(summary["time_to_90_percent"], "s")),
+        ("peak blocked force", _fmt(summary["peak_blocked_force"], "mN", 1e3)),
+        ("peak blocked moment", _fmt(summary["peak_blocked_moment"], "uN m", 1e6)),
+        ("peak tip travel", _fmt(summary["peak_tip_deflection"], "mm", 1e3)),
+    ]
+    if "peak_front_depth" in summary:
+        rows.append(("deepest conversion front", _fmt(summary["peak_front_depth"], "um", 1e6)))
+    if "peak_temperature" in summary:
+        rows.append(("peak temperature", _fmt(summary["peak_temperature"] - 273.15, "degC")))
+    rows.append(("optical dose (incident)", _fmt(summary["optical_dose"], "J/cm^2", 1e-4)))
+    if "target_bend_angle" in summary:
+        tgt = _fmt_angle(summary["target_bend_angle"])
+        rows.append((f"time to {tgt}", _fmt(summary["time_to_target"], "s")))
+        if summary.get("time_to_target") is not None:
+            rows.append((f"blocked force at {tgt}", _fmt(summary["blocked_force_at_target"], "mN", 1e3)))
+            if "front_depth_at_target" in summary:
+                rows.append((f"front depth at {tgt}", _fmt(summary["front_depth_at_target"], "um", 1e6)))
+    w = max(len(r[0]) for r in rows)
+    return "\n".join(f"  {k:<{w}}  {v}" for k, v in rows)
+
+
+def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel"):
+    from .cautions import with_caution
+    from .results import write_result_folder
+    from .scenario import load_scenario
+    from .solver import simulate
+
+    sc = load_scenario(scenario_path)
+    ds = simulate(sc, engine=engine)
+    summary = write_result_folder(ds, sc, out_dir, figures=figures)
+    print(f"{sc.title}")
+    print(summary_table(summary))
+    print(with_caution(f"\nresults written to {out_dir}/ (result.nc, timeseries.csv, summary.json{', figures/' if figures else ''})"))
+    return 0
+
+
+def cmd_run(args):
+    out = args.output or str(Path("actsim-out") / Path(args.scenario).stem)
+    return _run_and_write(args.scenario, out, figures=not args.no_figures, engine=args.engine)
+
+
+def cmd_demo(args):
+    folder = scenarios_folder()
+    if args.list:
+        for p in sorted(folder.glob("*.toml")):
+            first = next((ln for ln in p.read_text().splitlines() if ln.startswith("title")), "")
+            print(f"  {p.stem:<24} {first.split('=', 1)[-1].strip().strip(chr(34))}")
+        return 0
+    path = folder / f"{args.scenario}.toml"
+    if not path.is_file():
+        import difflib
+
+        names = [p.stem for p in folder.glob("*.toml")]
+        hint = difflib.get_close_matches(args.scenario, names, n=1)
+        extra = f"; did you mean '{hint[0]}'?" if hint else f"; available: {', '.join(sorted(names))}"
+        raise ActsimInputError(f"--scenario: no demo scenario '{args.scenario}'{extra}")
+    out = args.output or str(Path("actsim-out") / args.scenario)
+    return _run_and_write(path, out, figures=not args.no_figures)
+
+
+def build_parser() -> argparse.ArgumentParser:
+    from . import __version__
+
+    parser = argparse.ArgumentParser(
+        prog="actsim",
+        description="Simulate light-driven bending actuators: light, photochemistry, heat and layered-beam mechanics.",
+    )
+    parser.add_argument("--version", action="version", version=f"actsim {__version__}")
+    sub = parser.add_subparsers(dest="verb", metavar="VERB")
+    sub.required = True
+
+    p = sub.add_parser("demo", help="run a bundled demo scenario", epilog=EXAMPLES["demo"],
+                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    p.add_argument("--scenario", default="vent_flap", help="demo scenario name (default: vent_flap)")
+    p.add_argument("--list", action="store_true", help="list the demo scenarios and exit")
+    p.add_argument("-o", "--output", help="output folder (default: actsim-out/<scenario>)")
+    p.add_argument("--no-figures", action="store_true", help="skip the PNG figures")
+    p.set_defaults(func=cmd_demo)
+
+    p = sub.add_parser("run", help="simulate a scenario file", epilog=EXAMPLES["run"],
+                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    p.add_argument("scenario", help="scenario TOML file")
+    p.add_argument("-o", "--output", help="output folder (default: actsim-out/<scenario name>)")
+    p.add_argument("--no-figures", action="store_true", help="skip the PNG figures")
+    p.add_argument("--engine", choices=("kernel", "reference"), default="kernel",
+                   help="numba kernel (default) or the slow readable reference path")
+    p.set_defaults(func=cmd_run)
+
+    for mod in VERB_MODULES:
+        importlib.import_module(mod).register(sub)
+    return parser
+
+
+def main(argv=None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    try:
+        return int(args.func(args) or 0)
+    except ActsimInputError as exc:
+        print(f"actsim: error: {exc}", file=sys.stderr)
+        return 2
+    except ActsimError as exc:
+        print(f"actsim: error: {exc}", file=sys.stderr)
+        return 3
+    except KeyboardInterrupt:
+        print("actsim: interrupted; finished files are complete, unfinished ones were not written", file=sys.stderr)
+        return 130
+
+
+if __name__ == "__main__":
+    sys.exit(main())

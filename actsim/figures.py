@@ -1,0 +1,88 @@
+"""Figures of a simulation result (matplotlib, Agg backend, PNG)."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .io import save_figure
+
+
+def _plt():
+    import matplotlib
+
+    matplotlib.use("Agg", force=True)
+    import matplotlib.pyplot as plt
+
+    return plt
+
+
+def bend_angle_figure(ds, path, *, target_bend_angle=None):
+    """Bend angle [deg] and blocked force [mN] against time."""
+    plt = _plt()
+    fig, ax = plt.subplots(figsize=(6.4, 3.8))
+    t = ds["time"].values
+    ax.plot(t, np.degrees(ds["bend_angle"].values), color="C0", label="bend angle")
+    if target_bend_angle is not None:
+        ax.axhline(np.degrees(target_bend_angle), color="C0", ls=":", lw=1, label="target")
+    ax.set_xlabel("time [s]")
+    ax.set_ylabel("bend angle [deg]", color="C0")
+    ax2 = ax.twinx()
+    ax2.plot(t, 1e3 * ds["blocked_force"].values, color="C3", ls="--", label="blocked force")
+    ax2.set_ylabel("blocked force [mN]", color="C3")
+    lit = ds["incident_irradiance"].values > 0
+    if lit.any():
+        ax.fill_between(t, 0, 1, where=lit, transform=ax.get_xaxis_transform(), color="gold", alpha=0.15, lw=0, label="light on")
+    ax.set_title(ds.attrs.get("title", ""), fontsize=10)
+    h1, l1 = ax.get_legend_handles_labels()
+    h2, l2 = ax2.get_legend_handles_labels()
+    ax.legend(h1 + h2, l1 + l2, fontsize=8, loc="best")
+    save_figure(fig, path)
+    plt.close(fig)
+
+
+def profiles_figure(ds, path, n_times=5):
+    """Conversion and irradiance against depth below the top face at a few times."""
+    plt = _plt()
+    fig, (a1, a2) = plt.subplots(1, 2, figsize=(8.4, 3.6), sharey=True)
+    z = ds["z"].values
+    h = float(ds.attrs.get("thickness", z.max() + (z[-1] - z[-2]) / 2 if z.size > 1 else z.max() * 2))
+    depth_um = (h - z) * 1e6
+    lit_idx = np.nonzero(ds["incident_irradiance"].values > 0)[0]
+    end = int(lit_idx[-1]) if lit_idx.size else ds.sizes["time"] - 1
+    idx = np.unique(np.linspace(0, end, n_times).round().astype(int))
+    for k, i in enumerate(idx):
+        lab = f"t = {ds['time'].values[i]:.3g} s"
+        a1.plot(ds["conversion"].values[i], depth_um, color=f"C{k}", label=lab)
+        a2.plot(ds["irradiance"].values[i] / 10.0, depth_um, color=f"C{k}", label=lab)
+    for lz in _layer_interfaces(ds, h):
+        a1.axhline(lz * 1e6, color="0.6", lw=0.8)
+        a2.axhline(lz * 1e6, color="0.6", lw=0.8)
+    a1.set_xlabel("conversion [1]")
+    a1.set_ylabel("depth below top face [um]")
+    a1.invert_yaxis()
+    a2.set_xlabel("irradiance [mW/cm^2]")
+    a1.legend(fontsize=7)
+    fig.suptitle("Conversion and irradiance through the thickness (light on)", fontsize=10)
+    save_figure(fig, path)
+    plt.close(fig)
+
+
+def _layer_interfaces(ds, h):
+    names = ds["layer"].values
+    z = ds["z"].values
+    out = []
+    for i in range(1, names.size):
+        if names[i] != names[i - 1]:
+            out.append(h - 0.5 * (z[i] + z[i - 1]))
+    return out
+
+
+def write_standard_figures(ds, folder, *, target_bend_angle=None):
+    """Write the standard figures into ``folder``; returns their paths."""
+    from pathlib import Path
+
+    folder = Path(folder)
+    paths = [folder / "bend_angle.png", folder / "profiles.png"]
+    bend_angle_figure(ds, paths[0], target_bend_angle=target_bend_angle)
+    profiles_figure(ds, paths[1])
+    return paths

@@ -1,0 +1,76 @@
+"""Result files, written atomically: a temporary file in the same folder, then a rename.
+
+An interrupted run never leaves a half-written file: either the old file (or
+none) or the complete new one is there.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import tempfile
+from contextlib import contextmanager
+from pathlib import Path
+
+import numpy as np
+
+
+@contextmanager
+def atomic_path(path):
+    """Yield a temporary path beside ``path``; rename it onto ``path`` when the block succeeds."""
+    path = Path(path)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
+    os.close(fd)
+    try:
+        yield Path(tmp)
+        os.replace(tmp, path)
+    except BaseException:
+        try:
+            os.unlink(tmp)
+        except FileNotFoundError:
+            pass
+        raise
+
+
+def write_text(path, text: str):
+    """Write text atomically."""
+    with atomic_path(path) as tmp:
+        tmp.write_text(text)
+
+
+def write_json(path, data):
+    """Write JSON atomically (NaN refused: every number must be finite)."""
+    write_text(path, json.dumps(data, indent=2, allow_nan=False, default=_json_default) + "\n")
+
+
+def _json_default(o):
+    if isinstance(o, (np.floating, np.integer)):
+        return o.item()
+    if isinstance(o, np.ndarray):
+        return o.tolist()
+    raise TypeError(f"not JSON serialisable: {type(o).__name__}")
+
+
+def write_netcdf(ds, path):
+    """Write an xarray Dataset to NetCDF atomically."""
+    with atomic_path(path) as tmp:
+        ds.to_netcdf(tmp)
+
+
+def write_timeseries_csv(ds, path):
+    """Write every (time,)-only variable of ``ds`` to CSV, units in the header (``name [unit]``)."""
+    names = [n for n, v in ds.data_vars.items() if v.dims == ("time",)]
+    cols = [ds["time"].values] + [ds[n].values for n in names]
+    header = ",".join([f"time [{ds['time'].attrs.get('units', '')}]"] + [f"{n} [{ds[n].attrs.get('units', '')}]" for n in names])
+    with atomic_path(path) as tmp:
+        with open(tmp, "w") as fh:
+            fh.write(header + "\n")
+            for row in zip(*cols):
+                fh.write(",".join(f"{float(v):.10g}" for v in row) + "\n")
+
+
+def save_figure(fig, path, dpi=120):
+    """Save a matplotlib figure atomically as PNG."""
+    with atomic_path(path) as tmp:
+        fig.savefig(tmp, format="png", dpi=dpi, bbox_inches="tight")

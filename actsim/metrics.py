@@ -1,0 +1,128 @@
+"""Strip metrics from a simulation result: the numbers a designer reads first.
+
+All functions take the :class:`xarray.Dataset` of :func:`actsim.simulate` and
+return SI floats (NaN is never returned: a metric that does not exist, such as
+the time to an angle never reached, is ``None``).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+
+def first_crossing_time(times, values, level):
+    """First time at which ``|values|`` reaches ``|level|``, linearly interpolated, or None.
+
+    Parameters
+    ----------
+    times : numpy.ndarray
+        [s].
+    values : numpy.ndarray
+        Signal (any unit); compared by magnitude.
+    level : float
+        Level in the unit of ``values``.
+    """
+    v = np.abs(np.asarray(values, float))
+    lv = abs(level)
+    hit = np.nonzero(v >= lv)[0]
+    if hit.size == 0:
+        return None
+    i = int(hit[0])
+    if i == 0:
+        return float(times[0])
+    t0, t1, v0, v1 = times[i - 1], times[i], v[i - 1], v[i]
+    return float(t0 + (lv - v0) * (t1 - t0) / (v1 - v0)) if v1 != v0 else float(t1)
+
+
+def conversion_front_depth(*, z, conversion, thickness, from_top=True):
+    """Depth below the lit face where conversion falls to half its current maximum.
+
+    The front is the x = 0.5 x_max contour (x_max over the stack at that time),
+    found by linear interpolation between cell centres, measured from the lit face.
+
+    Parameters
+    ----------
+    z : numpy.ndarray, shape (n_cell,)
+        Cell centres [m].
+    conversion : numpy.ndarray, shape (n_time, n_cell)
+        [1].
+    thickness : float
+        Stack thickness [m].
+    from_top : bool
+        Lit face.
+
+    Returns
+    -------
+    numpy.ndarray, shape (n_time,)
+        Front depth [m] (0 where nothing has converted).
+    """
+    x = np.asarray(conversion, float)
+    depth = thickness - z if from_top else z
+    order = np.argsort(depth)
+    d = depth[order]
+    out = np.zeros(x.shape[0])
+    for t in range(x.shape[0]):
+        row = x[t, order]
+        xmax = row.max()
+        if xmax <= 1e-12:
+            continue
+        level = 0.5 * xmax
+        imax = int(np.argmax(row))
+        below = np.nonzero(row[imax:] < level)[0]
+        if below.size == 0:
+            out[t] = d[-1]
+            continue
+        j = imax + int(below[0])
+        x0, x1 = row[j - 1], row[j]
+        out[t] = d[j - 1] + (x0 - level) * (d[j] - d[j - 1]) / (x0 - x1)
+    return out
+
+
+def summarize(ds, *, target_bend_angle=None):
+    """Key numbers of one simulation.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        Result of :func:`actsim.simulate`.
+    target_bend_angle : float, optional
+        Angle whose first crossing is reported [rad].
+
+    Returns
+    -------
+    dict
+        ``final_bend_angle`` and ``peak_bend_angle`` [rad]; ``time_to_90_percent``
+        [s] (first time |bend| reaches 90 % of its peak); ``peak_blocked_force``
+        [N]; ``peak_blocked_moment`` [N m]; ``peak_tip_deflection`` [m];
+        ``final_front_depth`` [m]; ``optical_dose`` [J m-2]; and, with a target,
+        ``time_to_target``, ``blocked_force_at_target`` and ``front_depth_at_target``.
+    """
+    t = ds["time"].values
+    theta = ds["bend_angle"].values
+    ipk = int(np.argmax(np.abs(theta)))
+    force = ds["blocked_force"].values
+    front = ds["conversion_front_depth"].values if "conversion_front_depth" in ds else None
+    out = {
+        "final_bend_angle": float(theta[-1]),
+        "peak_bend_angle": float(theta[ipk]),
+        "time_of_peak_bend": float(t[ipk]),
+        "time_to_90_percent": first_crossing_time(t, theta, 0.9 * theta[ipk]) if theta[ipk] != 0 else None,
+        "peak_blocked_force": float(force[int(np.argmax(np.abs(force)))]),
+        "peak_blocked_moment": float(ds["blocked_moment"].values[int(np.argmax(np.abs(ds["blocked_moment"].values)))]),
+        "peak_tip_deflection": float(ds["tip_deflection"].values[int(np.argmax(np.abs(ds["tip_deflection"].values)))]),
+        "optical_dose": float(ds["optical_dose"].values[-1]),
+    }
+    if front is not None:
+        out["final_front_depth"] = float(front[-1])
+        out["peak_front_depth"] = float(front.max())
+    if "peak_temperature" in ds:
+        out["peak_temperature"] = float(ds["peak_temperature"].values.max())
+    if target_bend_angle is not None:
+        tt = first_crossing_time(t, theta, target_bend_angle)
+        out["target_bend_angle"] = float(target_bend_angle)
+        out["time_to_target"] = tt
+        if tt is not None:
+            out["blocked_force_at_target"] = float(np.interp(tt, t, force))
+            if front is not None:
+                out["front_depth_at_target"] = float(np.interp(tt, t, front))
+    return out
