@@ -359,7 +359,7 @@ def equivalent_amplitude(
     References
     ----------
     .. [1] N. E. Dowling, "Mechanical Behavior of Materials", 4th ed., Pearson,
-       2013, ch. 9.6–9.7 (mean stress effects; equivalent fully reversed
+       2013, ch. 9 (mean stress effects; equivalent fully reversed
        amplitude).
     .. [2] J. D. Morrow, "Fatigue properties of metals", in Fatigue Design
        Handbook, SAE, 1968.
