@@ -1,0 +1,117 @@
+"""The command line end to end, and every kind of bad input (one line, exit 2, no files)."""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+import numpy as np
+import pytest
+import xarray as xr
+
+from actsim.cli import main
+
+from conftest import film_toml
+
+ROOT = Path(__file__).resolve().parents[1]
+
+
+def test_demo_end_to_end(tmp_path, capsys):
+    out = tmp_path / "demo"
+    assert main(["demo", "-o", str(out)]) == 0
+    text = capsys.readouterr().out
+    assert "peak bend angle" in text and "blocked force" in text and str(out) in text
+    assert "CAUTION" in text
+    for f in ("result.nc", "timeseries.csv", "summary.json", "scenario.toml", "figures/bend_angle.png", "figures/profiles.png"):
+        assert (out / f).is_file(), f
+    ds = xr.load_dataset(out / "result.nc")
+    for name, var in list(ds.data_vars.items()) + list(ds.coords.items()):
+        assert "units" in var.attrs and "long_name" in var.attrs, name
+        if var.dtype.kind == "f":
+            assert np.all(np.isfinite(var.values)), name
+    for name in ("irradiance", "conversion", "eigenstrain", "stress", "curvature", "bend_angle", "tip_deflection",
+                 "blocked_moment", "blocked_force"):
+        assert name in ds
+    assert ds.attrs["scenario"].startswith("# Invented demo")
+    assert "actsim_version" in ds.attrs
+    summary = json.loads((out / "summary.json").read_text())
+    assert summary["metrics"]["peak_bend_angle"] > 0
+    header = (out / "timeseries.csv").read_text().splitlines()[0]
+    assert header.startswith("time [s],") and "bend_angle [rad]" in header
+    assert not list(out.rglob("*.part"))
+
+
+def test_every_demo_scenario_runs(tmp_path, capsys):
+    for p in sorted((ROOT / "scenarios").glob("*.toml")):
+        assert main(["run", str(p), "-o", str(tmp_path / p.stem), "--no-figures"]) == 0, p.name
+
+
+def test_console_script_help():
+    r = subprocess.run([sys.executable, "-m", "actsim.cli", "run", "--help"], capture_output=True, text=True)
+    assert r.returncode == 0 and "example:" in r.stdout
+
+
+def write(tmp_path, text, name="s.toml"):
+    p = tmp_path / name
+    p.write_text(text)
+    return p
+
+
+BASE = film_toml()
+
+BAD_CASES = [
+    # (description, transform of the base text, expected fragment of the one-line message)
+    ("missing field", lambda t: t.replace('thickness = "20 um"\n', ""), "layers[0].thickness: required field is missing"),
+    ("unknown field with suggestion", lambda t: t.replace("photo_strain", "photo_strian"), "did you mean 'photo_strain'"),
+    ("bare number", lambda t: t.replace('thickness = "20 um"', "thickness = 20"), "bare number 20 has no unit"),
+    ("wrong dimension", lambda t: t.replace('thickness = "20 um"', 'thickness = "20 s"'), "a length is required"),
+    ("non-positive thickness", lambda t: t.replace('thickness = "20 um"', 'thickness = "-5 um"'), "layers[0].thickness: '-5 um'"),
+    ("quantum yield above 1", lambda t: t.replace("forward_quantum_yield = 0.3", "forward_quantum_yield = 1.3"), "allowed range (>= 0 and <= 1)"),
+    ("negative irradiance", lambda t: t.replace('light = { lamp = "50 mW/cm^2" }', 'light = { lamp = "-5 mW/cm^2" }'), "protocol[0].light.lamp"),
+    ("zero duration", lambda t: t.replace('duration = "20 s"', 'duration = "0 s"'), "protocol[0].duration"),
+    ("unknown source", lambda t: t.replace("light = { lamp =", "light = { lamb ="), "did you mean 'lamp'"),
+    ("coarse grid", lambda t: t.replace("max_cell_optical_depth = 20", "max_cell_optical_depth = 0.5"), "use cells >="),
+    ("spectrum file missing", lambda t: t.replace('reactant_absorptivity = "1.2e4 L/(mol*cm)"', 'reactant_absorptivity = { file = "nope.csv" }'), "does not exist"),
+    ("not TOML", lambda t: t + "\n[[[", "not valid TOML"),
+]
+
+
+@pytest.mark.parametrize("desc,transform,fragment", BAD_CASES, ids=[c[0] for c in BAD_CASES])
+def test_bad_input_one_line_exit_2(tmp_path, capsys, desc, transform, fragment):
+    scen = write(tmp_path, transform(BASE))
+    out = tmp_path / "out"
+    assert main(["run", str(scen), "-o", str(out)]) == 2
+    err = capsys.readouterr().err.strip()
+    assert err.count("\n") == 0, err
+    assert err.startswith("actsim: error: ")
+    assert fragment in err, err
+    assert not out.exists()
+
+
+@pytest.mark.parametrize("content,fragment", [
+    ("wavelength [nm],epsilon10 [L/(mol*cm)]\n400,100\n350,200\n", "strictly increasing"),
+    ("wavelength [nm],epsilon10 [L/(mol*cm)]\n300,100\n350,-2\n400,1\n", "negative"),
+    ("wavelength [nm],epsilon10 [L/(mol*cm)]\n300,100\n350,abc\n", "not numeric"),
+    ("wavelength,epsilon10 [L/(mol*cm)]\n300,100\n350,20\n", "gives no unit"),
+])
+def test_bad_spectrum_files(tmp_path, capsys, content, fragment):
+    (tmp_path / "eps.csv").write_text(content)
+    text = BASE.replace('reactant_absorptivity = "1.2e4 L/(mol*cm)"', 'reactant_absorptivity = { file = "eps.csv" }')
+    scen = write(tmp_path, text)
+    assert main(["run", str(scen), "-o", str(tmp_path / "o")]) == 2
+    err = capsys.readouterr().err.strip()
+    assert fragment in err and err.count("\n") == 0, err
+
+
+def test_spectrum_table_outside_light(tmp_path, capsys):
+    (tmp_path / "eps.csv").write_text("wavelength [nm],epsilon10 [L/(mol*cm)]\n400,100\n500,200\n")
+    text = BASE.replace('reactant_absorptivity = "1.2e4 L/(mol*cm)"', 'reactant_absorptivity = { file = "eps.csv" }')
+    assert main(["run", str(write(tmp_path, text)), "-o", str(tmp_path / "o")]) == 2
+    assert "covers 400 to 500 nm but light at 365 nm" in capsys.readouterr().err
+
+
+def test_missing_scenario_file(tmp_path, capsys):
+    assert main(["run", str(tmp_path / "none.toml")]) == 2
+    assert "does not exist" in capsys.readouterr().err
