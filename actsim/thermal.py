@@ -1,0 +1,1135 @@
+r"""Heat conduction across the strip's thickness and temperature-dependent material laws.
+
+The strip is cut into cells ``i = 0 .. n-1`` from the bottom face (z = 0) to the top face (z = h),
+with widths ``dz[i]`` (non-uniform allowed, so each layer can have its own cells). Each cell carries
+a conductivity ``k[i]`` [W/(m K)], a volumetric heat capacity ``rho_c[i]`` (density times specific
+heat) [J/(m^3 K)] and a volumetric heat source ``q[i]`` [W/m^3] (the absorbed optical power density,
+averaged over the cell). Both faces lose heat to their own ambient through a coefficient ``h``
+[W/(m^2 K)] (convection, plus linearised radiation if wanted).
+
+Conventions
+-----------
+* The finite-volume balance of cell ``i`` is
+
+  .. math::
+
+     \rho c_i \,\Delta z_i \,\frac{dT_i}{dt} = G_{i-1/2}(T_{i-1}-T_i) + G_{i+1/2}(T_{i+1}-T_i) + q_i\,\Delta z_i ,
+
+  with the series conductance between cell centres
+  :math:`G_{i+1/2} = 1/(\Delta z_i/(2k_i) + \Delta z_{i+1}/(2k_{i+1}))` [W/(m^2 K)], and at the faces
+  :math:`G = 1/(1/h + \Delta z/(2k))` to the ambient temperature (``h = 0``: insulated; ``h = inf``:
+  the face is held at the ambient temperature).
+* The source enters each cell as the cell average ``q[i]`` [W/m^3]; the cell absorbs ``q[i]*dz[i]``
+  [W/m^2]. A flux ``q0`` [W/m^2] prescribed on a face is, in this discretisation, *exactly* the same as
+  a source ``q0/dz`` in the cell next to that face.
+* Face losses are positive when heat leaves the strip (strip to ambient), in W/m^2.
+* The numba kernels (``thomas_solve``, ``face_conductances``, ``theta_step``, ``crank_nicolson_step``,
+  ``trbdf2_step``, ``steady_temperature``, ``face_heat_loss``, ``face_temperatures`` and the ``*_nb``
+  material laws) take float64 arrays and floats only, do not check their inputs and do not allocate, so
+  the solver kernel can call them every step. Check inputs once with :func:`check_conduction_inputs`.
+  The readable path (:func:`theta_step_reference`, :func:`march_conduction`) is for tests and scripts.
+
+Time steppers and ringing
+-------------------------
+Crank–Nicolson (theta = 1/2) is second order and unconditionally stable, but not L-stable: a mode with
+decay rate lambda is multiplied per step by :math:`(1-\lambda\Delta t/2)/(1+\lambda\Delta t/2)`, which
+tends to -1 for :math:`\lambda\Delta t \gg 1`. With sharp initial data (a step in temperature, a face
+suddenly switched to a new ambient, light switched on in a thin absorbing skin) and
+``dt >> rho_c dz^2 / k`` the short-wavelength part of the error flips sign every step and decays
+slowly: the profile rings. Measured here (``tests/test_thermal.py::test_crank_nicolson_rings``,
+40 cells, ``dt = 100 rho_c dz^2/k``): with the top face suddenly held at an ambient 10 K below the
+strip, the cell next to the face falls 8.6 K *below* the new ambient after the first step, the error
+there changes sign every step, and after ten steps the largest error is still 65 % of the step; a
+hot/cold step inside the strip gives an error of 44 % of the step at the jump that alternates in sign
+and is 33 % after ten steps. TR-BDF2 (:func:`trbdf2_step`) is second order and L-stable: in the same
+runs it undershoots by 1.8 % of the step once and its error is below 0.2 % after four steps.
+Backward Euler (``theta_step`` with ``theta = 1``) is first order but obeys a discrete maximum
+principle (its matrix is an M-matrix), so it never leaves the physical bounds. Use Crank–Nicolson for smooth forcing with ``dt`` of the order of the cell diffusion time,
+TR-BDF2 when light switches on and off in steps much longer than that.
+
+Safety
+------
+The model predicts temperatures of a thin strip under light. Near skin, a warm surface can burn well
+below the temperatures that damage polymers: judge contact temperatures against the applicable
+standard for touchable surfaces (for example the limits for hot surfaces of equipment in the relevant
+ISO/IEC safety standards) and do not rely on this model alone.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+from numba import njit
+from scipy.constants import R as _GAS_CONSTANT
+from scipy.constants import Stefan_Boltzmann as _SIGMA_SB
+from scipy.linalg import solve_banded
+
+from .errors import ActsimInputError
+from .units import check_range
+
+__all__ = [
+    "WORK_ROWS",
+    "make_work",
+    "thomas_solve",
+    "face_conductances",
+    "theta_step",
+    "crank_nicolson_step",
+    "trbdf2_step",
+    "steady_temperature",
+    "face_heat_loss",
+    "face_temperatures",
+    "check_conduction_inputs",
+    "theta_step_reference",
+    "ConductionResult",
+    "march_conduction",
+    "glass_transition_modulus",
+    "glass_transition_modulus_nb",
+    "tabulated_modulus",
+    "tabulated_modulus_nb",
+    "arrhenius_rate",
+    "arrhenius_rate_nb",
+    "linearised_radiation_coefficient",
+    "linearised_radiation_coefficient_nb",
+]
+
+#: Rows of the scratch array every stepper accepts (``work.shape == (WORK_ROWS, n)``).
+#: ``theta_step``/``crank_nicolson_step`` use rows 0-3, ``steady_temperature`` rows 0-4, ``trbdf2_step`` rows 0-5.
+WORK_ROWS = 6
+
+#: TR-BDF2 stage fraction gamma = 2 - sqrt(2) (Hosea & Shampine 1996): both stages then share one matrix.
+TRBDF2_GAMMA = 2.0 - math.sqrt(2.0)
+
+_STEFAN_BOLTZMANN = float(_SIGMA_SB)
+_R = float(_GAS_CONSTANT)
+
+
+def make_work(n: int) -> np.ndarray:
+    """Scratch array for the steppers, shape ``(WORK_ROWS, n)``, float64."""
+    return np.empty((WORK_ROWS, int(n)), dtype=np.float64)
+
+
+# ----------------------------------------------------------------------------------------------
+# numba kernels
+# ----------------------------------------------------------------------------------------------
+
+
+@njit(cache=True)
+def thomas_solve(lower, diag, upper, rhs, out):
+    r"""Solve a tridiagonal system by the Thomas algorithm (Gaussian elimination without pivoting).
+
+    .. math::
+
+       l_i x_{i-1} + d_i x_i + u_i x_{i+1} = r_i ,\qquad i = 0 \dots n-1 .
+
+    Parameters
+    ----------
+    lower : ndarray, shape (n,)
+        Sub-diagonal; ``lower[0]`` is not used [matrix units].
+    diag : ndarray, shape (n,)
+        Main diagonal. **Overwritten** with the elimination pivots (it is scratch) [matrix units].
+    upper : ndarray, shape (n,)
+        Super-diagonal; ``upper[n-1]`` is not used [matrix units].
+    rhs : ndarray, shape (n,)
+        Right-hand side; left unchanged unless it is the same array as ``out`` [rhs units].
+    out : ndarray, shape (n,)
+        Receives the solution; may be the same array as ``rhs`` [rhs units / matrix units].
+
+    Notes
+    -----
+    No pivoting: the matrix must be diagonally dominant (every heat-conduction matrix built here
+    is, because the heat capacities make it strictly so), otherwise a zero pivot can occur. No
+    checks are made (hot path).
+
+    References
+    ----------
+    G. H. Golub and C. F. Van Loan, *Matrix Computations*, 4th ed., Johns Hopkins University Press,
+    2013, sec. 4.3 (banded systems; from memory).
+    L. H. Thomas, *Elliptic problems in linear difference equations over a network*, Watson
+    Scientific Computing Laboratory report, Columbia University, 1949.
+    """
+    n = diag.shape[0]
+    out[0] = rhs[0]
+    for i in range(1, n):
+        w = lower[i] / diag[i - 1]
+        diag[i] = diag[i] - w * upper[i - 1]
+        out[i] = rhs[i] - w * out[i - 1]
+    out[n - 1] = out[n - 1] / diag[n - 1]
+    for i in range(n - 2, -1, -1):
+        out[i] = (out[i] - upper[i] * out[i + 1]) / diag[i]
+
+
+@njit(cache=True)
+def _interior_conductance(dz, k, i):
+    # Series resistance from the centre of cell i to the centre of cell i+1 [W/(m^2 K)].
+    return 1.0 / (0.5 * dz[i] / k[i] + 0.5 * dz[i + 1] / k[i + 1])
+
+
+@njit(cache=True)
+def _face_conductance(h, dz_cell, k_cell):
+    # Ambient -> film coefficient h -> half cell -> cell centre [W/(m^2 K)]; h = 0 insulated, inf = fixed T.
+    if h <= 0.0:
+        return 0.0
+    return 1.0 / (1.0 / h + 0.5 * dz_cell / k_cell)
+
+
+@njit(cache=True)
+def face_conductances(dz, k, h_bottom, h_top, out_interior, out_faces):
+    r"""Finite-volume conductances between cell centres and from the two faces' ambients.
+
+    .. math::
+
+       G_{i+1/2} = \left(\frac{\Delta z_i}{2k_i} + \frac{\Delta z_{i+1}}{2k_{i+1}}\right)^{-1},\qquad
+       G_\mathrm{face} = \left(\frac{1}{h} + \frac{\Delta z}{2k}\right)^{-1}
+
+    Parameters
+    ----------
+    dz : ndarray, shape (n,)
+        Cell widths, bottom to top [m].
+    k : ndarray, shape (n,)
+        Cell conductivities [W/(m K)].
+    h_bottom, h_top : float
+        Surface coefficients at z = 0 and z = h; 0 means insulated, ``inf`` a face held at the
+        ambient temperature [W/(m^2 K)].
+    out_interior : ndarray, shape (n-1,)
+        Receives :math:`G_{i+1/2}` between cells i and i+1 [W/(m^2 K)].
+    out_faces : ndarray, shape (2,)
+        Receives (G_bottom, G_top) [W/(m^2 K)].
+
+    References
+    ----------
+    S. V. Patankar, *Numerical Heat Transfer and Fluid Flow*, Hemisphere, 1980, sec. 4.2 (harmonic
+    interface conductivity; from memory).
+    """
+    n = dz.shape[0]
+    for i in range(n - 1):
+        out_interior[i] = _interior_conductance(dz, k, i)
+    out_faces[0] = _face_conductance(h_bottom, dz[0], k[0])
+    out_faces[1] = _face_conductance(h_top, dz[n - 1], k[n - 1])
+
+
+@njit(cache=True)
+def face_heat_loss(T, dz, k, h_bottom, T_amb_bottom, h_top, T_amb_top):
+    r"""Heat flux leaving the strip through each face, consistent with the discretisation.
+
+    .. math::
+
+       \dot q_\mathrm{bottom} = G_\mathrm{bottom}\,(T_0 - T_{\infty,b}),\qquad
+       \dot q_\mathrm{top} = G_\mathrm{top}\,(T_{n-1} - T_{\infty,t})
+
+    Parameters
+    ----------
+    T : ndarray, shape (n,)
+        Cell temperatures [K].
+    dz : ndarray, shape (n,)
+        Cell widths [m].
+    k : ndarray, shape (n,)
+        Cell conductivities [W/(m K)].
+    h_bottom : float
+        Surface coefficient at z = 0 [W/(m^2 K)].
+    T_amb_bottom : float
+        Ambient temperature below the strip [K].
+    h_top : float
+        Surface coefficient at z = h [W/(m^2 K)].
+    T_amb_top : float
+        Ambient temperature above the strip [K].
+
+    Returns
+    -------
+    loss_bottom, loss_top : float
+        Positive when heat leaves the strip [W/m^2].
+
+    Notes
+    -----
+    Integrated over a step with the same weights as the stepper (trapezoid for Crank–Nicolson), these
+    losses close the energy balance of the stepper to round-off.
+
+    References
+    ----------
+    F. P. Incropera, D. P. DeWitt, T. L. Bergman and A. S. Lavine, *Fundamentals of Heat and Mass
+    Transfer*, 6th ed., Wiley, 2007, sec. 1.3 (surface energy balance) and sec. 3.1 (thermal resistance).
+    """
+    n = T.shape[0]
+    gb = _face_conductance(h_bottom, dz[0], k[0])
+    gt = _face_conductance(h_top, dz[n - 1], k[n - 1])
+    return gb * (T[0] - T_amb_bottom), gt * (T[n - 1] - T_amb_top)
+
+
+@njit(cache=True)
+def face_temperatures(T, dz, k, h_bottom, T_amb_bottom, h_top, T_amb_top):
+    r"""Surface temperatures of the two faces, from the half-cell resistance.
+
+    .. math::
+
+       T_s = T_\mathrm{cell} - \dot q_\mathrm{loss}\,\frac{\Delta z}{2k}
+
+    Parameters
+    ----------
+    T : ndarray, shape (n,)
+        Cell temperatures [K].
+    dz : ndarray, shape (n,)
+        Cell widths [m].
+    k : ndarray, shape (n,)
+        Cell conductivities [W/(m K)].
+    h_bottom, T_amb_bottom, h_top, T_amb_top : float
+        As in :func:`face_heat_loss` [W/(m^2 K)], [K].
+
+    Returns
+    -------
+    T_surface_bottom, T_surface_top : float
+        [K]. With an insulated face this is the adjacent cell temperature.
+
+    References
+    ----------
+    F. P. Incropera et al., *Fundamentals of Heat and Mass Transfer*, 6th ed., Wiley, 2007, sec. 3.1.
+    """
+    n = T.shape[0]
+    lb, lt = face_heat_loss(T, dz, k, h_bottom, T_amb_bottom, h_top, T_amb_top)
+    return T[0] - lb * 0.5 * dz[0] / k[0], T[n - 1] - lt * 0.5 * dz[n - 1] / k[n - 1]
+
+
+@njit(cache=True)
+def _assemble(dz, k, rho_c, coef, h_bottom, h_top, lower, diag, upper):
+    # Matrix C + coef * A of the implicit part (C = rho_c dz, A the conduction operator).
+    n = dz.shape[0]
+    gb = _face_conductance(h_bottom, dz[0], k[0])
+    gt = _face_conductance(h_top, dz[n - 1], k[n - 1])
+    for i in range(n):
+        diag[i] = rho_c[i] * dz[i]
+        lower[i] = 0.0
+        upper[i] = 0.0
+    for i in range(n - 1):
+        g = coef * _interior_conductance(dz, k, i)
+        upper[i] = -g
+        lower[i + 1] = -g
+        diag[i] += g
+        diag[i + 1] += g
+    diag[0] += coef * gb
+    diag[n - 1] += coef * gt
+
+
+@njit(cache=True)
+def _add_flux(T, dz, k, h_bottom, T_amb_bottom, h_top, T_amb_top, weight, acc):
+    # acc += weight * (conduction + face exchange) [W/m^2 per cell], with T the given state.
+    n = T.shape[0]
+    for i in range(n - 1):
+        f = _interior_conductance(dz, k, i) * (T[i + 1] - T[i])
+        acc[i] += weight * f
+        acc[i + 1] -= weight * f
+    gb = _face_conductance(h_bottom, dz[0], k[0])
+    gt = _face_conductance(h_top, dz[n - 1], k[n - 1])
+    acc[0] += weight * gb * (T_amb_bottom - T[0])
+    acc[n - 1] += weight * gt * (T_amb_top - T[n - 1])
+
+
+@njit(cache=True)
+def theta_step(T, dz, k, rho_c, q_old, q_new, dt, h_bottom, T_amb_bottom, h_top, T_amb_top, theta, work, out):
+    r"""One theta-method step of the cell heat balance (theta = 1/2 Crank–Nicolson, 1 backward Euler).
+
+    .. math::
+
+       (C + \theta\Delta t A)\,T^{n+1} = (C - (1-\theta)\Delta t A)\,T^n
+       + \Delta t\,[\theta b^{n+1} + (1-\theta) b^n],
+
+    with :math:`C = \mathrm{diag}(\rho c_i \Delta z_i)`, :math:`A` the conduction operator (interior
+    and face conductances) and :math:`b = q\,\Delta z + G_b T_{\infty,b} e_0 + G_t T_{\infty,t} e_{n-1}`.
+
+    Parameters
+    ----------
+    T : ndarray, shape (n,)
+        Cell temperatures at the start of the step [K].
+    dz : ndarray, shape (n,)
+        Cell widths [m].
+    k : ndarray, shape (n,)
+        Cell conductivities [W/(m K)].
+    rho_c : ndarray, shape (n,)
+        Volumetric heat capacities, density times specific heat [J/(m^3 K)].
+    q_old, q_new : ndarray, shape (n,)
+        Cell-averaged heat source at the start and at the end of the step [W/m^3].
+    dt : float
+        Time step [s].
+    h_bottom, h_top : float
+        Surface coefficients at z = 0 and z = h (0 insulated, inf fixed temperature) [W/(m^2 K)].
+    T_amb_bottom, T_amb_top : float
+        Ambient temperatures, constant over the step [K].
+    theta : float
+        Implicitness, 0.5 for Crank–Nicolson, 1 for backward Euler [1].
+    work : ndarray, shape (>= 4, n)
+        Scratch, overwritten [-].
+    out : ndarray, shape (n,)
+        Receives the temperatures at the end of the step; may be ``T`` itself [K].
+
+    Returns
+    -------
+    energy_bottom, energy_top : float
+        Heat lost through each face during the step,
+        :math:`\Delta t[\theta\,\dot q(T^{n+1}) + (1-\theta)\,\dot q(T^n)]` [J/m^2].
+
+    References
+    ----------
+    J. Crank and P. Nicolson, "A practical method for numerical evaluation of solutions of partial
+    differential equations of the heat-conduction type", Proc. Cambridge Philos. Soc. 43, 50-67, 1947.
+    S. V. Patankar, *Numerical Heat Transfer and Fluid Flow*, Hemisphere, 1980, ch. 4.
+    """
+    n = T.shape[0]
+    lower = work[0]
+    diag = work[1]
+    upper = work[2]
+    rhs = work[3]
+    lb0, lt0 = face_heat_loss(T, dz, k, h_bottom, T_amb_bottom, h_top, T_amb_top)
+    for i in range(n):
+        rhs[i] = dt * (theta * q_new[i] + (1.0 - theta) * q_old[i]) * dz[i]
+    # explicit part of the fluxes at T^n
+    _add_flux(T, dz, k, h_bottom, T_amb_bottom, h_top, T_amb_top, (1.0 - theta) * dt, rhs)
+    for i in range(n):
+        rhs[i] += rho_c[i] * dz[i] * T[i]
+    # implicit ambient terms theta*dt*G*T_amb
+    gb = _face_conductance(h_bottom, dz[0], k[0])
+    gt = _face_conductance(h_top, dz[n - 1], k[n - 1])
+    rhs[0] += theta * dt * gb * T_amb_bottom
+    rhs[n - 1] += theta * dt * gt * T_amb_top
+    _assemble(dz, k, rho_c, theta * dt, h_bottom, h_top, lower, diag, upper)
+    thomas_solve(lower, diag, upper, rhs, out)
+    lb1, lt1 = face_heat_loss(out, dz, k, h_bottom, T_amb_bottom, h_top, T_amb_top)
+    return (
+        dt * (theta * lb1 + (1.0 - theta) * lb0),
+        dt * (theta * lt1 + (1.0 - theta) * lt0),
+    )
+
+
+@njit(cache=True)
+def crank_nicolson_step(T, dz, k, rho_c, q_old, q_new, dt, h_bottom, T_amb_bottom, h_top, T_amb_top, work, out):
+    r"""One Crank–Nicolson step (theta = 1/2) of the cell heat balance, source averaged over the step.
+
+    .. math::
+
+       \left(C + \tfrac{\Delta t}{2}A\right)T^{n+1} = \left(C - \tfrac{\Delta t}{2}A\right)T^n
+       + \Delta t\left[\tfrac{q^n + q^{n+1}}{2}\Delta z + G_b T_{\infty,b} e_0 + G_t T_{\infty,t} e_{n-1}\right]
+
+    Parameters
+    ----------
+    T : ndarray, shape (n,)
+        Cell temperatures at the start of the step [K].
+    dz : ndarray, shape (n,)
+        Cell widths [m].
+    k : ndarray, shape (n,)
+        Cell conductivities [W/(m K)].
+    rho_c : ndarray, shape (n,)
+        Volumetric heat capacities [J/(m^3 K)].
+    q_old, q_new : ndarray, shape (n,)
+        Cell-averaged heat source at the start and end of the step [W/m^3].
+    dt : float
+        Time step [s].
+    h_bottom : float
+        Surface coefficient at z = 0 [W/(m^2 K)].
+    T_amb_bottom : float
+        Ambient temperature below [K].
+    h_top : float
+        Surface coefficient at z = h [W/(m^2 K)].
+    T_amb_top : float
+        Ambient temperature above [K].
+    work : ndarray, shape (>= 4, n)
+        Scratch, overwritten [-].
+    out : ndarray, shape (n,)
+        Receives the new temperatures; may be ``T`` itself [K].
+
+    Returns
+    -------
+    energy_bottom, energy_top : float
+        Heat lost through each face during the step (trapezoid rule) [J/m^2].
+
+    Notes
+    -----
+    Not L-stable: rings for ``dt >> rho_c dz^2/k`` with sharp data; see the module notes and
+    :func:`trbdf2_step`.
+
+    References
+    ----------
+    J. Crank and P. Nicolson, Proc. Cambridge Philos. Soc. 43, 50-67, 1947.
+    """
+    return theta_step(T, dz, k, rho_c, q_old, q_new, dt, h_bottom, T_amb_bottom, h_top, T_amb_top, 0.5, work, out)
+
+
+@njit(cache=True)
+def trbdf2_step(T, dz, k, rho_c, q_old, q_new, dt, h_bottom, T_amb_bottom, h_top, T_amb_top, work, out):
+    r"""One TR-BDF2 step: a trapezoid stage to :math:`t+\gamma\Delta t`, then BDF2 to :math:`t+\Delta t`.
+
+    .. math::
+
+       C\,T^{\gamma} = C\,T^n + \tfrac{\gamma\Delta t}{2}\,[F(T^n, q^n) + F(T^\gamma, q^\gamma)]
+
+       C\,T^{n+1} - d\,\Delta t\,F(T^{n+1}, q^{n+1}) =
+       C\left[\frac{T^\gamma}{\gamma(2-\gamma)} - \frac{(1-\gamma)^2}{\gamma(2-\gamma)}T^n\right]
+
+    with :math:`\gamma = 2-\sqrt2`, :math:`d = (1-\gamma)/(2-\gamma) = \gamma/2`,
+    :math:`F(T, q) = -AT + b(q)` and the source interpolated linearly,
+    :math:`q^\gamma = (1-\gamma)q^n + \gamma q^{n+1}`.
+
+    Parameters
+    ----------
+    T : ndarray, shape (n,)
+        Cell temperatures at the start of the step [K].
+    dz : ndarray, shape (n,)
+        Cell widths [m].
+    k : ndarray, shape (n,)
+        Cell conductivities [W/(m K)].
+    rho_c : ndarray, shape (n,)
+        Volumetric heat capacities [J/(m^3 K)].
+    q_old, q_new : ndarray, shape (n,)
+        Cell-averaged heat source at the start and end of the step [W/m^3].
+    dt : float
+        Time step [s].
+    h_bottom : float
+        Surface coefficient at z = 0 [W/(m^2 K)].
+    T_amb_bottom : float
+        Ambient temperature below [K].
+    h_top : float
+        Surface coefficient at z = h [W/(m^2 K)].
+    T_amb_top : float
+        Ambient temperature above [K].
+    work : ndarray, shape (>= 6, n)
+        Scratch, overwritten [-].
+    out : ndarray, shape (n,)
+        Receives the new temperatures; may be ``T`` itself [K].
+
+    Returns
+    -------
+    energy_bottom, energy_top : float
+        Heat lost through each face during the step, with the scheme's own quadrature weights
+        :math:`\Delta t\,[w\,\dot q(T^n) + w\,\dot q(T^\gamma) + d\,\dot q(T^{n+1})]`,
+        :math:`w = 1/(2(2-\gamma))`; with these the energy balance closes to round-off, and the
+        absorbed energy is exactly the trapezoid :math:`\Delta t\,\Delta z\,(q^n + q^{n+1})/2` [J/m^2].
+
+    Notes
+    -----
+    Second order and L-stable: modes with :math:`\lambda\Delta t \gg 1` are damped in one step, so no
+    ringing after sudden changes. Costs two tridiagonal solves per step.
+
+    References
+    ----------
+    R. E. Bank, W. M. Coughran, W. Fichtner, E. H. Grosse, D. J. Rose and R. K. Smith, "Transient
+    simulation of silicon devices and circuits", IEEE Trans. Computer-Aided Design 4(4), 436-451, 1985.
+    M. E. Hosea and L. F. Shampine, "Analysis and implementation of TR-BDF2", Applied Numerical
+    Mathematics 20, 21-37, 1996.
+    """
+    n = T.shape[0]
+    g = 2.0 - math.sqrt(2.0)
+    d = 0.5 * g
+    q_g = work[4]
+    T_g = work[5]
+    for i in range(n):
+        q_g[i] = (1.0 - g) * q_old[i] + g * q_new[i]
+    eb1, et1 = theta_step(T, dz, k, rho_c, q_old, q_g, g * dt, h_bottom, T_amb_bottom, h_top, T_amb_top, 0.5, work, T_g)
+    lower = work[0]
+    diag = work[1]
+    upper = work[2]
+    rhs = work[3]
+    a_g = 1.0 / (g * (2.0 - g))
+    a_n = (1.0 - g) * (1.0 - g) / (g * (2.0 - g))
+    gb = _face_conductance(h_bottom, dz[0], k[0])
+    gt = _face_conductance(h_top, dz[n - 1], k[n - 1])
+    for i in range(n):
+        rhs[i] = rho_c[i] * dz[i] * (a_g * T_g[i] - a_n * T[i]) + d * dt * q_new[i] * dz[i]
+    rhs[0] += d * dt * gb * T_amb_bottom
+    rhs[n - 1] += d * dt * gt * T_amb_top
+    _assemble(dz, k, rho_c, d * dt, h_bottom, h_top, lower, diag, upper)
+    thomas_solve(lower, diag, upper, rhs, out)
+    lb1, lt1 = face_heat_loss(out, dz, k, h_bottom, T_amb_bottom, h_top, T_amb_top)
+    return a_g * eb1 + d * dt * lb1, a_g * et1 + d * dt * lt1
+
+
+@njit(cache=True)
+def steady_temperature(dz, k, q, h_bottom, T_amb_bottom, h_top, T_amb_top, work, out):
+    r"""Steady cell temperatures, :math:`A\,T = q\,\Delta z + G_b T_{\infty,b} e_0 + G_t T_{\infty,t} e_{n-1}`.
+
+    Parameters
+    ----------
+    dz : ndarray, shape (n,)
+        Cell widths [m].
+    k : ndarray, shape (n,)
+        Cell conductivities [W/(m K)].
+    q : ndarray, shape (n,)
+        Cell-averaged heat source [W/m^3].
+    h_bottom, h_top : float
+        Surface coefficients; at least one must be > 0, else there is no steady state [W/(m^2 K)].
+    T_amb_bottom, T_amb_top : float
+        Ambient temperatures [K].
+    work : ndarray, shape (>= 5, n)
+        Scratch, overwritten [-].
+    out : ndarray, shape (n,)
+        Receives the steady temperatures [K].
+
+    References
+    ----------
+    F. P. Incropera et al., *Fundamentals of Heat and Mass Transfer*, 6th ed., Wiley, 2007, ch. 3.
+    """
+    n = dz.shape[0]
+    lower = work[0]
+    diag = work[1]
+    upper = work[2]
+    rhs = work[3]
+    # Solve for the rise above a reference ambient: A 1 = G_b e_0 + G_t e_{n-1}, so the ambient terms become
+    # differences and the round-off scales with the temperature differences, not with ~300 K.
+    t_ref = T_amb_top if h_top > 0.0 else T_amb_bottom
+    for i in range(n):
+        rhs[i] = q[i] * dz[i]
+    rhs[0] += _face_conductance(h_bottom, dz[0], k[0]) * (T_amb_bottom - t_ref)
+    rhs[n - 1] += _face_conductance(h_top, dz[n - 1], k[n - 1]) * (T_amb_top - t_ref)
+    zero_capacity = work[4]  # the steady operator has no heat capacity; scratch row, no allocation
+    for i in range(n):
+        zero_capacity[i] = 0.0
+    _assemble(dz, k, zero_capacity, 1.0, h_bottom, h_top, lower, diag, upper)
+    thomas_solve(lower, diag, upper, rhs, out)
+    for i in range(n):
+        out[i] += t_ref
+
+
+# ----------------------------------------------------------------------------------------------
+# readable path: input checks, reference stepper, a marching driver with an energy ledger
+# ----------------------------------------------------------------------------------------------
+
+
+def _as_cell_array(value, *, field, unit, n=None, lo=None, lo_open=False):
+    arr = np.atleast_1d(np.asarray(value, dtype=np.float64))
+    if arr.ndim != 1:
+        raise ActsimInputError(f"{field}: must be a 1-D array of cell values in {unit}, got shape {arr.shape}")
+    if n is not None and arr.shape[0] != n:
+        raise ActsimInputError(f"{field}: has {arr.shape[0]} cells but dz has {n}; give one value per cell in {unit}")
+    bad = ~np.isfinite(arr)
+    if bad.any():
+        i = int(np.flatnonzero(bad)[0])
+        raise ActsimInputError(f"{field}[{i}]: {arr[i]!r} is not finite (unit {unit})")
+    if lo is not None:
+        viol = arr <= lo if lo_open else arr < lo
+        if viol.any():
+            i = int(np.flatnonzero(viol)[0])
+            check_range(float(arr[i]), field=f"{field}[{i}]", unit=unit, lo=lo, lo_open=lo_open)
+    return arr
+
+
+def _check_coefficient(value, *, field):
+    v = float(value)
+    if math.isnan(v):
+        raise ActsimInputError(f"{field}: nan is not allowed (W/(m^2*K), >= 0; 0 insulated, inf fixed temperature)")
+    return check_range(v, field=field, unit="W/(m^2*K)", lo=0.0)
+
+
+def _check_temperature(value, *, field):
+    v = float(value)
+    if not math.isfinite(v):
+        raise ActsimInputError(f"{field}: {v!r} is not finite (K, > 0)")
+    return check_range(v, field=field, unit="K", lo=0.0, lo_open=True)
+
+
+def check_conduction_inputs(
+    *, dz, conductivity, volumetric_heat_capacity, h_bottom, h_top, ambient_bottom=None, ambient_top=None
+):
+    """Check grid and material arrays once, before the kernels run; return them as float64 arrays.
+
+    Parameters
+    ----------
+    dz : array_like, shape (n,)
+        Cell widths, > 0 [m].
+    conductivity : array_like, shape (n,)
+        > 0 [W/(m K)].
+    volumetric_heat_capacity : array_like, shape (n,)
+        Density times specific heat, > 0 [J/(m^3 K)].
+    h_bottom, h_top : float
+        >= 0, ``inf`` allowed [W/(m^2 K)].
+    ambient_bottom, ambient_top : float, optional
+        > 0 [K].
+
+    Returns
+    -------
+    dz, conductivity, volumetric_heat_capacity : ndarray
+        Contiguous float64 copies [m], [W/(m K)], [J/(m^3 K)].
+
+    Raises
+    ------
+    ActsimInputError
+        One line naming the field, value, unit and allowed range.
+    """
+    dz = _as_cell_array(dz, field="dz", unit="m", lo=0.0, lo_open=True)
+    n = dz.shape[0]
+    k = _as_cell_array(conductivity, field="conductivity", unit="W/(m*K)", n=n, lo=0.0, lo_open=True)
+    rc = _as_cell_array(
+        volumetric_heat_capacity, field="volumetric_heat_capacity", unit="J/(m^3*K)", n=n, lo=0.0, lo_open=True
+    )
+    _check_coefficient(h_bottom, field="h_bottom")
+    _check_coefficient(h_top, field="h_top")
+    if ambient_bottom is not None:
+        _check_temperature(ambient_bottom, field="ambient_bottom")
+    if ambient_top is not None:
+        _check_temperature(ambient_top, field="ambient_top")
+    return np.ascontiguousarray(dz), np.ascontiguousarray(k), np.ascontiguousarray(rc)
+
+
+def theta_step_reference(
+    *,
+    temperature,
+    dz,
+    conductivity,
+    volumetric_heat_capacity,
+    source_old,
+    source_new,
+    dt,
+    h_bottom,
+    ambient_bottom,
+    h_top,
+    ambient_top,
+    theta=0.5,
+):
+    r"""Readable numpy version of :func:`theta_step` (assembles the banded matrix, uses scipy).
+
+    .. math::
+
+       (C + \theta\Delta t A)\,T^{n+1} = (C - (1-\theta)\Delta t A)\,T^n
+       + \Delta t\,[\theta b^{n+1} + (1-\theta) b^n]
+
+    Parameters
+    ----------
+    temperature : ndarray, shape (n,)
+        Cell temperatures at the start of the step [K].
+    dz : ndarray, shape (n,)
+        Cell widths [m].
+    conductivity : ndarray, shape (n,)
+        [W/(m K)].
+    volumetric_heat_capacity : ndarray, shape (n,)
+        [J/(m^3 K)].
+    source_old, source_new : ndarray, shape (n,)
+        Cell-averaged source at the start and end of the step [W/m^3].
+    dt : float
+        [s].
+    h_bottom, h_top : float
+        [W/(m^2 K)].
+    ambient_bottom, ambient_top : float
+        [K].
+    theta : float
+        Implicitness [1].
+
+    Returns
+    -------
+    ndarray, shape (n,)
+        Temperatures at the end of the step [K].
+
+    References
+    ----------
+    J. Crank and P. Nicolson, Proc. Cambridge Philos. Soc. 43, 50-67, 1947.
+    """
+    T = np.asarray(temperature, dtype=float)
+    dz = np.asarray(dz, dtype=float)
+    k = np.asarray(conductivity, dtype=float)
+    cap = np.asarray(volumetric_heat_capacity, dtype=float) * dz  # [J/(m^2 K)]
+    g_int = 1.0 / (dz[:-1] / (2 * k[:-1]) + dz[1:] / (2 * k[1:]))
+
+    def g_face(h, dzc, kc):
+        return 0.0 if h <= 0 else 1.0 / (1.0 / h + dzc / (2 * kc))
+
+    g_b = g_face(h_bottom, dz[0], k[0])
+    g_t = g_face(h_top, dz[-1], k[-1])
+    a_diag = np.zeros_like(T)
+    a_diag[:-1] += g_int
+    a_diag[1:] += g_int
+    a_diag[0] += g_b
+    a_diag[-1] += g_t
+
+    def a_times(x):
+        y = a_diag * x
+        y[:-1] -= g_int * x[1:]
+        y[1:] -= g_int * x[:-1]
+        return y
+
+    amb = np.zeros_like(T)
+    amb[0] += g_b * ambient_bottom
+    amb[-1] += g_t * ambient_top
+    b_old = np.asarray(source_old, dtype=float) * dz + amb
+    b_new = np.asarray(source_new, dtype=float) * dz + amb
+    rhs = cap * T - (1 - theta) * dt * a_times(T) + dt * (theta * b_new + (1 - theta) * b_old)
+    ab = np.zeros((3, T.size))
+    ab[0, 1:] = -theta * dt * g_int
+    ab[1] = cap + theta * dt * a_diag
+    ab[2, :-1] = -theta * dt * g_int
+    return solve_banded((1, 1), ab, rhs)
+
+
+@dataclass(frozen=True)
+class ConductionResult:
+    """Temperatures and the energy ledger of :func:`march_conduction` (all per unit area)."""
+
+    #: Times [s], shape (nt,).
+    time: np.ndarray
+    #: Cell temperatures [K], shape (nt, n).
+    temperature: np.ndarray
+    #: Energy absorbed since the start [J/m^2], shape (nt,).
+    absorbed: np.ndarray
+    #: Change of stored energy since the start [J/m^2], shape (nt,).
+    stored: np.ndarray
+    #: Heat lost through the bottom face since the start [J/m^2], shape (nt,).
+    lost_bottom: np.ndarray
+    #: Heat lost through the top face since the start [J/m^2], shape (nt,).
+    lost_top: np.ndarray
+
+    def balance_residual(self) -> float:
+        r"""Relative energy-balance residual at the end, :math:`|E_a - \Delta E_s - E_l| / \max(|E_a|, |\Delta E_s|, |E_l|)` [1]."""
+        a, s = self.absorbed[-1], self.stored[-1]
+        lost = self.lost_bottom[-1] + self.lost_top[-1]
+        scale = max(abs(a), abs(s), abs(lost), 1e-300)
+        return abs(a - s - lost) / scale
+
+
+_STEPPERS = {"crank-nicolson": 0, "tr-bdf2": 1, "backward-euler": 2}
+
+
+@njit(cache=True)
+def _march(T0, dz, k, rho_c, times, q, h_b, Ta_b, h_t, Ta_t, method, T_out, e_b, e_t):
+    n = T0.shape[0]
+    work = np.empty((6, n))
+    for i in range(n):
+        T_out[0, i] = T0[i]
+    e_b[0] = 0.0
+    e_t[0] = 0.0
+    for j in range(1, times.shape[0]):
+        dt = times[j] - times[j - 1]
+        if method == 0:
+            eb, et = crank_nicolson_step(T_out[j - 1], dz, k, rho_c, q[j - 1], q[j], dt, h_b, Ta_b, h_t, Ta_t, work, T_out[j])
+        elif method == 1:
+            eb, et = trbdf2_step(T_out[j - 1], dz, k, rho_c, q[j - 1], q[j], dt, h_b, Ta_b, h_t, Ta_t, work, T_out[j])
+        else:
+            eb, et = theta_step(T_out[j - 1], dz, k, rho_c, q[j - 1], q[j], dt, h_b, Ta_b, h_t, Ta_t, 1.0, work, T_out[j])
+        e_b[j] = e_b[j - 1] + eb
+        e_t[j] = e_t[j - 1] + et
+
+
+def march_conduction(
+    *,
+    dz,
+    conductivity,
+    volumetric_heat_capacity,
+    initial_temperature,
+    time,
+    source,
+    h_bottom,
+    ambient_bottom,
+    h_top,
+    ambient_top,
+    method="crank-nicolson",
+):
+    r"""March the cell heat balance over given times and keep an energy ledger.
+
+    .. math::
+
+       E_\mathrm{absorbed}(t) = \Delta E_\mathrm{stored}(t) + E_\mathrm{lost,bottom}(t) + E_\mathrm{lost,top}(t)
+
+    Parameters
+    ----------
+    dz : array_like, shape (n,)
+        Cell widths, bottom to top [m].
+    conductivity : array_like, shape (n,)
+        [W/(m K)].
+    volumetric_heat_capacity : array_like, shape (n,)
+        Density times specific heat [J/(m^3 K)].
+    initial_temperature : float or array_like, shape (n,)
+        [K].
+    time : array_like, shape (nt,)
+        Strictly increasing output and step times [s].
+    source : array_like, shape (nt, n) or (n,)
+        Cell-averaged heat source at each time (constant if 1-D) [W/m^3].
+    h_bottom, h_top : float
+        Surface coefficients (add :func:`linearised_radiation_coefficient` for radiation) [W/(m^2 K)].
+    ambient_bottom, ambient_top : float
+        Ambient temperatures [K].
+    method : {"crank-nicolson", "tr-bdf2", "backward-euler"}
+        Time stepper [-].
+
+    Returns
+    -------
+    ConductionResult
+        Temperatures [K] and cumulative energies [J/m^2]. The absorbed energy is integrated over the given
+        times with the stepper's own weights (trapezoid for Crank–Nicolson and TR-BDF2, the end value for
+        backward Euler), and so are the losses, so the balance closes to round-off.
+
+    References
+    ----------
+    F. P. Incropera et al., *Fundamentals of Heat and Mass Transfer*, 6th ed., Wiley, 2007, sec. 1.3
+    (conservation of energy for a control volume).
+    """
+    dz, k, rc = check_conduction_inputs(
+        dz=dz,
+        conductivity=conductivity,
+        volumetric_heat_capacity=volumetric_heat_capacity,
+        h_bottom=h_bottom,
+        h_top=h_top,
+        ambient_bottom=ambient_bottom,
+        ambient_top=ambient_top,
+    )
+    n = dz.size
+    if method not in _STEPPERS:
+        raise ActsimInputError(f"method: {method!r} is not one of {', '.join(_STEPPERS)}")
+    t = np.asarray(time, dtype=np.float64)
+    if t.ndim != 1 or t.size < 1 or not np.all(np.isfinite(t)):
+        raise ActsimInputError("time: must be a 1-D array of finite times in s")
+    if t.size > 1 and np.any(np.diff(t) <= 0):
+        i = int(np.flatnonzero(np.diff(t) <= 0)[0]) + 1
+        raise ActsimInputError(f"time[{i}]: {t[i]:g} s is not after time[{i - 1}] = {t[i - 1]:g} s (must increase)")
+    q = np.asarray(source, dtype=np.float64)
+    if q.ndim == 1:
+        q = np.broadcast_to(q, (t.size, q.size))
+    if q.shape != (t.size, n):
+        raise ActsimInputError(f"source: shape {q.shape} does not match (len(time), len(dz)) = ({t.size}, {n}) in W/m^3")
+    if not np.all(np.isfinite(q)):
+        raise ActsimInputError("source: contains non-finite values (W/m^3)")
+    q = np.ascontiguousarray(q)
+    T0 = np.broadcast_to(np.asarray(initial_temperature, dtype=np.float64), (n,)).copy()
+    if not np.all(np.isfinite(T0)) or np.any(T0 <= 0):
+        raise ActsimInputError("initial_temperature: must be finite and > 0 K")
+    T = np.empty((t.size, n))
+    e_b = np.empty(t.size)
+    e_t = np.empty(t.size)
+    _march(T0, dz, k, rc, t, q, float(h_bottom), float(ambient_bottom), float(h_top), float(ambient_top),
+           _STEPPERS[method], T, e_b, e_t)
+    absorbed_rate = q @ dz  # [W/m^2]
+    w_new = 1.0 if method == "backward-euler" else 0.5  # the stepper's own quadrature of the source
+    absorbed = np.concatenate(
+        [[0.0], np.cumsum((w_new * absorbed_rate[1:] + (1.0 - w_new) * absorbed_rate[:-1]) * np.diff(t))]
+    )
+    stored = (T - T[0]) @ (rc * dz)
+    return ConductionResult(time=t, temperature=T, absorbed=absorbed, stored=stored, lost_bottom=e_b, lost_top=e_t)
+
+
+# ----------------------------------------------------------------------------------------------
+# material laws
+# ----------------------------------------------------------------------------------------------
+
+
+def _finite_array(value, *, field, unit, lo=None, lo_open=False):
+    arr = np.asarray(value, dtype=np.float64)
+    flat = arr.reshape(-1)
+    bad = ~np.isfinite(flat)
+    if bad.any():
+        i = int(np.flatnonzero(bad)[0])
+        raise ActsimInputError(f"{field}: {flat[i]!r} is not finite (unit {unit})")
+    if lo is not None and flat.size:
+        viol = flat <= lo if lo_open else flat < lo
+        if viol.any():
+            i = int(np.flatnonzero(viol)[0])
+            check_range(float(flat[i]), field=field, unit=unit, lo=lo, lo_open=lo_open)
+    return arr
+
+
+def _scalar_out(arr):
+    return float(arr) if np.ndim(arr) == 0 else arr
+
+
+@njit(cache=True)
+def glass_transition_modulus_nb(temperature, glassy_modulus, rubbery_modulus, glass_transition_temperature, transition_width):
+    """Scalar numba version of :func:`glass_transition_modulus` (no checks) [Pa]."""
+    s = 0.5 * (1.0 - math.tanh(0.5 * (temperature - glass_transition_temperature) / transition_width))
+    return rubbery_modulus * math.exp(s * math.log(glassy_modulus / rubbery_modulus))
+
+
+def glass_transition_modulus(
+    *, temperature, glassy_modulus, rubbery_modulus, glass_transition_temperature, transition_width
+):
+    r"""Modulus through the glass transition: a smooth step in :math:`\ln E` between glassy and rubbery.
+
+    .. math::
+
+       \ln E(T) = \ln E_r + \frac{\ln E_g - \ln E_r}{1 + \exp\left((T - T_g)/w\right)},
+       \qquad\text{i.e.}\qquad E = E_r\,(E_g/E_r)^{s(T)},\; s = \tfrac12\left[1 - \tanh\tfrac{T-T_g}{2w}\right]
+
+    Parameters
+    ----------
+    temperature : float or array_like
+        [K].
+    glassy_modulus : float
+        Plateau below the transition, > 0 [Pa].
+    rubbery_modulus : float
+        Plateau above the transition, > 0 [Pa].
+    glass_transition_temperature : float
+        Midpoint of the step, > 0 [K].
+    transition_width : float
+        Width w, > 0; E moves from 73 % to 27 % of the way (in log) over :math:`T_g \pm w`, and is within
+        about 1 % of each plateau (in log) 4.6 w away from :math:`T_g` [K].
+
+    Returns
+    -------
+    float or ndarray
+        Modulus [Pa]; :math:`\sqrt{E_g E_r}` at :math:`T = T_g`.
+
+    Notes
+    -----
+    Common practice, no source: a logistic step is the usual smooth fit to a DMA storage-modulus curve.
+    The step is taken in :math:`\ln E` (not in E) because the modulus falls by two to three decades through
+    the transition and DMA curves look symmetric on a log axis; a step in E would leave E several times the
+    rubbery plateau well above :math:`T_g`. The form is a fit, not a viscoelastic model: it has no rate or
+    frequency dependence.
+
+    References
+    ----------
+    J. D. Ferry, *Viscoelastic Properties of Polymers*, 3rd ed., Wiley, 1980 (shape of modulus vs
+    temperature curves; the formula itself is common practice, no source).
+    """
+    for name, v, unit in (
+        ("transition_width", transition_width, "K"),
+        ("glassy_modulus", glassy_modulus, "Pa"),
+        ("rubbery_modulus", rubbery_modulus, "Pa"),
+        ("glass_transition_temperature", glass_transition_temperature, "K"),
+    ):
+        if not math.isfinite(float(v)):
+            raise ActsimInputError(f"{name}: {v!r} is not finite ({unit}, > 0)")
+        check_range(float(v), field=name, unit=unit, lo=0.0, lo_open=True)
+    T = _finite_array(temperature, field="temperature", unit="K", lo=0.0, lo_open=True)
+    s = 0.5 * (1.0 - np.tanh(0.5 * (T - glass_transition_temperature) / transition_width))
+    return _scalar_out(rubbery_modulus * np.exp(s * math.log(glassy_modulus / rubbery_modulus)))
+
+
+@njit(cache=True)
+def tabulated_modulus_nb(temperature, table_T, log_table_E):
+    """Scalar numba version of :func:`tabulated_modulus`; takes ``log(table_E)`` (precompute it) [Pa]."""
+    m = table_T.shape[0]
+    if temperature <= table_T[0]:
+        return math.exp(log_table_E[0])
+    if temperature >= table_T[m - 1]:
+        return math.exp(log_table_E[m - 1])
+    lo = 0
+    hi = m - 1
+    while hi - lo > 1:  # bisection for table_T[lo] <= T < table_T[hi]
+        mid = (lo + hi) // 2
+        if table_T[mid] <= temperature:
+            lo = mid
+        else:
+            hi = mid
+    f = (temperature - table_T[lo]) / (table_T[hi] - table_T[lo])
+    return math.exp(log_table_E[lo] + f * (log_table_E[hi] - log_table_E[lo]))
+
+
+def tabulated_modulus(*, temperature, table_T, table_E):
+    r"""Modulus from a DMA-style table, interpolated linearly in :math:`\ln E`, clamped at the ends.
+
+    .. math::
+
+       \ln E(T) = \ln E_j + \frac{T - T_j}{T_{j+1} - T_j}\,(\ln E_{j+1} - \ln E_j),\qquad T_j \le T \le T_{j+1}
+
+    Parameters
+    ----------
+    temperature : float or array_like
+        [K].
+    table_T : array_like, shape (m,)
+        Strictly increasing table temperatures, m >= 1 [K].
+    table_E : array_like, shape (m,)
+        Moduli at ``table_T``, > 0 [Pa].
+
+    Returns
+    -------
+    float or ndarray
+        Modulus [Pa]. Below ``table_T[0]`` it is ``table_E[0]``, above ``table_T[-1]`` it is
+        ``table_E[-1]``: the table is not extrapolated (check that it spans the temperatures reached).
+
+    Notes
+    -----
+    Interpolating in :math:`\ln E` keeps E positive and follows the near-exponential fall of the modulus
+    between table points through the transition (common practice, no source).
+
+    References
+    ----------
+    Common practice, no source.
+    """
+    tT = _finite_array(table_T, field="table_T", unit="K", lo=0.0, lo_open=True).reshape(-1)
+    tE = _finite_array(table_E, field="table_E", unit="Pa", lo=0.0, lo_open=True).reshape(-1)
+    if tT.size == 0:
+        raise ActsimInputError("table_T: the table is empty; give at least one temperature in K")
+    if tE.size != tT.size:
+        raise ActsimInputError(f"table_E: has {tE.size} values but table_T has {tT.size}; give one modulus in Pa per temperature")
+    if tT.size > 1 and np.any(np.diff(tT) <= 0):
+        i = int(np.flatnonzero(np.diff(tT) <= 0)[0]) + 1
+        raise ActsimInputError(f"table_T[{i}]: {tT[i]:g} K is not above table_T[{i - 1}] = {tT[i - 1]:g} K (must increase)")
+    T = _finite_array(temperature, field="temperature", unit="K", lo=0.0, lo_open=True)
+    return _scalar_out(np.exp(np.interp(T, tT, np.log(tE))))
+
+
+@njit(cache=True)
+def arrhenius_rate_nb(temperature, pre_factor, activation_energy):
+    """Scalar numba version of :func:`arrhenius_rate` (no checks) [unit of pre_factor]."""
+    return pre_factor * math.exp(-activation_energy / (_R * temperature))
+
+
+def arrhenius_rate(*, temperature, pre_factor, activation_energy):
+    r"""Arrhenius rate constant.
+
+    .. math::
+
+       k(T) = A\,\exp\left(-\frac{E_a}{R\,T}\right)
+
+    Parameters
+    ----------
+    temperature : float or array_like
+        > 0 [K].
+    pre_factor : float
+        A, >= 0, in the unit of the rate (1/s for a first-order step) [1/s].
+    activation_energy : float
+        E_a, >= 0 [J/mol].
+
+    Returns
+    -------
+    float or ndarray
+        Rate constant [1/s] (the unit of ``pre_factor``).
+
+    References
+    ----------
+    S. Arrhenius, "Über die Reaktionsgeschwindigkeit bei der Inversion von Rohrzucker durch Säuren",
+    Z. Phys. Chem. 4, 226-248, 1889. R from CODATA 2018 via ``scipy.constants.R``.
+    """
+    for name, v, unit in (("pre_factor", pre_factor, "1/s"), ("activation_energy", activation_energy, "J/mol")):
+        if not math.isfinite(float(v)):
+            raise ActsimInputError(f"{name}: {v!r} is not finite ({unit}, >= 0)")
+        check_range(float(v), field=name, unit=unit, lo=0.0)
+    T = _finite_array(temperature, field="temperature", unit="K", lo=0.0, lo_open=True)
+    return _scalar_out(pre_factor * np.exp(-activation_energy / (_R * T)))
+
+
+@njit(cache=True)
+def linearised_radiation_coefficient_nb(emissivity, ambient_temperature):
+    """Scalar numba version of :func:`linearised_radiation_coefficient` (no checks) [W/(m^2 K)]."""
+    return 4.0 * emissivity * _STEFAN_BOLTZMANN * ambient_temperature**3
+
+
+def linearised_radiation_coefficient(*, emissivity, ambient_temperature):
+    r"""Radiation exchange with large surroundings, linearised about the ambient temperature.
+
+    .. math::
+
+       \varepsilon\sigma(T_s^4 - T_\infty^4) \approx h_\mathrm{rad}(T_s - T_\infty),\qquad
+       h_\mathrm{rad} = 4\varepsilon\sigma T_\infty^3
+
+    Parameters
+    ----------
+    emissivity : float or array_like
+        Total hemispherical emissivity of the face, 0..1 [1].
+    ambient_temperature : float or array_like
+        Temperature of the surroundings, taken equal to the air's, > 0 [K].
+
+    Returns
+    -------
+    float or ndarray
+        h_rad, to be added to the convection coefficient of that face [W/(m^2 K)].
+
+    Notes
+    -----
+    Valid for small :math:`\Delta T = T_s - T_\infty`: the exact coefficient is
+    :math:`\varepsilon\sigma(T_s + T_\infty)(T_s^2 + T_\infty^2) = h_\mathrm{rad}(1 + \tfrac32\Delta T/T_\infty + \dots)`,
+    so the linearisation under-estimates the radiative loss by about 1.5 ΔT/T_∞ (5 % at ΔT = 10 K,
+    15 % at ΔT = 30 K near room temperature). It assumes a grey face seeing surroundings that are large
+    and at the ambient temperature.
+
+    References
+    ----------
+    F. P. Incropera et al., *Fundamentals of Heat and Mass Transfer*, 6th ed., Wiley, 2007, sec. 1.2.3
+    (radiation heat transfer coefficient; from memory). sigma from CODATA via
+    ``scipy.constants.Stefan_Boltzmann``.
+    """
+    eps = _finite_array(emissivity, field="emissivity", unit="1", lo=0.0)
+    if np.any(eps > 1.0):
+        check_range(float(np.max(eps)), field="emissivity", unit="1", lo=0.0, hi=1.0)
+    Ta = _finite_array(ambient_temperature, field="ambient_temperature", unit="K", lo=0.0, lo_open=True)
+    return _scalar_out(4.0 * eps * _STEFAN_BOLTZMANN * Ta**3)
