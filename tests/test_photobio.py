@@ -292,3 +292,48 @@ def test_verdict_wording_and_caution_in_output():
     assert "\n".join(caution_lines()) in text
     assert "measure" in CAUTION and "eye protection" in CAUTION.replace("eye and skin protection", "eye protection")
     assert "risk group" in text
+
+
+# --- other inputs ---------------------------------------------------------------------------------
+
+
+def test_radiance_form_of_blue_light():
+    # [IEC62471] 4.3.3 (from memory): L_B t <= 1e6 J/(m^2 sr) for t <= 1e4 s. L_B = 1e3 W/(m^2 sr) at 437 nm
+    # (B = 1): t_max = 1000 s by hand; a 2000 s exposure gives 2e6 J/(m^2 sr), over the limit; RG1 (>= 100 s).
+    irr = pb.line_spectrum(wavelength=437 * NM, irradiance=0.5)
+    rad = pb.line_spectrum(wavelength=437 * NM, irradiance=1e3)
+    results, summary = pb.photobio_check(irr, exposure_duration=2000.0, radiance_spectrum=rad)
+    r = results[-1]
+    assert r.unit == "J/(m^2 sr)" and r.value == pytest.approx(2e6) and not r.passed
+    assert summary["permissible_time"]["blue_light_radiance"] == pytest.approx(1000.0)
+    assert summary["risk_groups"]["blue_light_radiance"] == "RG1"
+
+
+def test_light_source_bands_become_lines():
+    # band fractions times irradiance, IEC 62471 4.3 weighting applied per band (from memory)
+    from actsim.spectra import LightSource, gaussian_bands
+
+    wl, frac = gaussian_bands(centre=365 * NM, fwhm=10 * NM, n_bands=9)
+    src = LightSource(name="lamp", face="top", irradiance=4.0, band_wavelength=wl, band_fraction=frac, description="band")
+    sp = pb.spectrum_from_light_source(src)
+    assert sp.total_irradiance() == pytest.approx(4.0)
+    assert pb.uva_irradiance(sp) == pytest.approx(4.0)
+    assert pb.effective_actinic_irradiance(pb.spectrum_from_light_source(src, irradiance=8.0)) == pytest.approx(
+        8.0 * float(np.sum(frac * pb.actinic_weighting(wl)))
+    )
+
+
+def test_spectrum_validates_direct_construction():
+    with pytest.raises(ActsimInputError, match="line_irradiance"):
+        pb.Spectrum(line_wavelength=[365 * NM], line_irradiance=[-1.0])
+    with pytest.raises(ActsimInputError, match="strictly increasing"):
+        pb.Spectrum(tables=(([400 * NM, 300 * NM], [1.0, 1.0]),))
+
+
+def test_long_protocol_is_fast():
+    # 2000 alternating steps; the window search stays well under a second
+    on = pb.line_spectrum(wavelength=365 * NM, irradiance=12.0)
+    steps = [(5.0, on if k % 2 == 0 else None) for k in range(2000)]
+    results, summary = pb.protocol_check(steps)
+    # mean over any window of >= 1000 s is at most about half of 12 W/m^2 (duty cycle 50 %), by hand
+    assert results[1].value == pytest.approx(6.0, rel=0.01) and results[1].passed

@@ -47,6 +47,7 @@ __all__ = [
     "WeightingFunction",
     "line_spectrum",
     "table_spectrum",
+    "spectrum_from_light_source",
     "gaussian_band",
     "actinic_weighting",
     "blue_light_weighting",
@@ -368,6 +369,25 @@ class Spectrum:
     line_wavelength: np.ndarray = field(default_factory=lambda: np.zeros(0))
     line_irradiance: np.ndarray = field(default_factory=lambda: np.zeros(0))
 
+    def __post_init__(self):
+        lw = np.zeros(0) if np.size(self.line_wavelength) == 0 else _wavelength_array(self.line_wavelength, field_name="Spectrum.line_wavelength")
+        le = _nonneg_array(self.line_irradiance, field_name="Spectrum.line_irradiance", unit="W/m^2", n=lw.size) if lw.size else np.zeros(0)
+        if lw.size == 0 and np.size(self.line_irradiance) != 0:
+            raise ActsimInputError("Spectrum.line_irradiance: given without line_wavelength [m]")
+        tabs = []
+        for i, tab in enumerate(self.tables):
+            try:
+                wl, e = tab
+            except (TypeError, ValueError):
+                raise ActsimInputError(f"Spectrum.tables[{i}]: must be a (wavelength [m], spectral_irradiance [W/m^2/m]) pair") from None
+            wl = _wavelength_array(wl, field_name=f"Spectrum.tables[{i}].wavelength")
+            if wl.size < 2 or np.any(np.diff(wl) <= 0):
+                raise ActsimInputError(f"Spectrum.tables[{i}].wavelength: needs at least two strictly increasing wavelengths (m)")
+            tabs.append((wl, _nonneg_array(e, field_name=f"Spectrum.tables[{i}].spectral_irradiance", unit="W/m^2/m", n=wl.size)))
+        object.__setattr__(self, "line_wavelength", lw)
+        object.__setattr__(self, "line_irradiance", le)
+        object.__setattr__(self, "tables", tuple(tabs))
+
     def total_irradiance(self) -> float:
         """Unweighted irradiance, all wavelengths [W/m^2]."""
         tot = float(np.sum(self.line_irradiance))
@@ -411,6 +431,46 @@ def line_spectrum(*, wavelength, irradiance) -> Spectrum:
     wl = _wavelength_array(wavelength, field_name="line_spectrum.wavelength")
     e = _nonneg_array(irradiance, field_name="line_spectrum.irradiance", unit="W/m^2", n=wl.size)
     return Spectrum(line_wavelength=wl, line_irradiance=e)
+
+
+def spectrum_from_light_source(source, *, irradiance: float | None = None) -> Spectrum:
+    """Lines from a light source already cut into bands (band wavelengths and fractions).
+
+    Parameters
+    ----------
+    source : object
+        Anything with ``band_wavelength`` [m], ``band_fraction`` [-] and
+        ``irradiance`` [W/m^2] attributes, such as :class:`actsim.spectra.LightSource`.
+    irradiance : float, optional
+        Irradiance to use instead of ``source.irradiance`` [W/m^2].
+
+    Returns
+    -------
+    Spectrum
+        One line per band at the band's mean wavelength.
+
+    Notes
+    -----
+    Bands stand in for the spectrum at their energy-weighted mean wavelength.
+    Where the weighting is steep (S(lambda) falls 50-fold from 300 to 313 nm)
+    wide bands misplace weight; prefer :func:`gaussian_band` or
+    :func:`table_spectrum` when the spectral shape is known.
+
+    .. math::
+
+        E_k = w_k E
+
+    References
+    ----------
+    .. [1] IEC 62471:2006, §4.3 (spectral weighting of sources; from memory).
+    """
+    try:
+        wl = np.asarray(source.band_wavelength, dtype=float)
+        frac = np.asarray(source.band_fraction, dtype=float)
+        e = float(source.irradiance if irradiance is None else irradiance)
+    except (AttributeError, TypeError, ValueError):
+        raise ActsimInputError("spectrum_from_light_source: source needs band_wavelength [m], band_fraction [-] and irradiance [W/m^2]") from None
+    return line_spectrum(wavelength=wl, irradiance=frac * e)
 
 
 def table_spectrum(*, wavelength, spectral_irradiance) -> Spectrum:
@@ -967,11 +1027,12 @@ def _window_stats(durations: np.ndarray, rates: np.ndarray, window: float):
     e = tb[tb - window >= 0]
     peak = max(float(np.max(H(s + window) - H(s))) if s.size else 0.0, float(np.max(H(e) - H(e - window))) if e.size else 0.0)
     mean = peak / window
-    dt = tb[None, :] - tb[:, None]
-    dh = hb[None, :] - hb[:, None]
-    ok = dt >= window
-    if np.any(ok):
-        mean = max(mean, float(np.max(dh[ok] / dt[ok])))
+    # all pairs of step boundaries at least one window apart, one row at a time (O(n) memory)
+    for i in range(tb.size - 1):
+        dt = tb[i + 1 :] - tb[i]
+        ok = dt >= window
+        if np.any(ok):
+            mean = max(mean, float(np.max((hb[i + 1 :][ok] - hb[i]) / dt[ok])))
     return peak, mean
 
 
@@ -1080,30 +1141,62 @@ def _fmt_t(t: float) -> str:
     return "no limit within the model" if math.isinf(t) else f"{t:.4g} s"
 
 
-def _dose_or_mean_result(*, check, peak, mean, total_t, window, dose_limit, rate_limit, unit_dose, unit_rate, source, validity, note):
-    if mean is None:
-        return CheckResult.upper_bound(
-            check=f"{check}, dose over {total_t:.4g} s",
-            value=peak,
-            limit=dose_limit,
-            unit=unit_dose,
-            source=source,
-            validity=validity,
-            note=note,
+@dataclass(frozen=True)
+class _Hazard:
+    """One hazard's exposure limit: dose up to ``window``, mean rate beyond (if any)."""
+
+    label: str
+    window: float  # [s]
+    dose_limit: float  # [J/m^2] or [J/(m^2 sr)]
+    rate_limit: float | None  # [W/m^2] or [W/(m^2 sr)]; None: dose in any window only
+    unit_dose: str
+    unit_rate: str
+    source: str
+    validity: str
+
+
+_HAZARDS = {
+    "actinic_uv": _Hazard(
+        "actinic UV effective dose (S(lambda))", ACTINIC_DAY, ACTINIC_DAILY_LIMIT, None, "J/m^2", "W/m^2", _SRC_UV,
+        "eye and skin, 200-400 nm, daily (8 h) exposure; S(lambda) and limit from memory",
+    ),
+    "uva": _Hazard(
+        "UV-A (315-400 nm, unweighted)", UVA_WINDOW, UVA_DOSE_LIMIT, UVA_IRRADIANCE_LIMIT, "J/m^2", "W/m^2", _SRC_UV,
+        "eye (lens), 315-400 nm; limit from memory",
+    ),
+    "blue_light": _Hazard(
+        "blue light E_B (B(lambda), small source)", BLUE_WINDOW, BLUE_DOSE_LIMIT, BLUE_IRRADIANCE_LIMIT, "J/m^2", "W/m^2",
+        _SRC_BLUE,
+        "retina, 300-700 nm, irradiance form valid only for sources subtending < 0.011 rad; B(lambda) and limit from memory",
+    ),
+    "blue_light_radiance": _Hazard(
+        "blue light L_B (B(lambda), radiance form)", BLUE_RADIANCE_WINDOW, BLUE_RADIANCE_DOSE_LIMIT, BLUE_RADIANCE_LIMIT,
+        "J/(m^2 sr)", "W/(m^2 sr)", _SRC_BLUE, "retina, 300-700 nm, any source size; B(lambda) and limit from memory",
+    ),
+}
+
+
+def _hazard_result(h: _Hazard, *, peak, mean, total_t, permissible_time, extra_note="") -> CheckResult:
+    """Dose against the dose limit (total time within the window, or no rate
+    limit), else the highest mean rate over windows >= the window against the
+    rate limit; the note starts with the verdict wording."""
+    notes = [f"permissible time at the most intense step {_fmt_t(permissible_time)}"]
+    if mean is None or h.rate_limit is None:
+        span = f"{total_t:.4g} s" if total_t <= h.window else f"any {h.window:g} s"
+        r = CheckResult.upper_bound(
+            check=f"{h.label}, dose over {span}", value=peak, limit=h.dose_limit, unit=h.unit_dose,
+            source=h.source, validity=h.validity,
         )
-    return CheckResult.upper_bound(
-        check=f"{check}, highest mean over any window >= {window:g} s",
-        value=mean,
-        limit=rate_limit,
-        unit=unit_rate,
-        source=source,
-        validity=validity,
-        note=(note + "; " if note else "") + f"peak dose in any {window:g} s window {peak:.4g} {unit_dose} (limit {dose_limit:g})",
-    )
-
-
-def _verdict_words(r: CheckResult, standard: str) -> str:
-    return ("within" if r.passed else "exceeds") + f" the modelled limit of {standard}"
+    else:
+        r = CheckResult.upper_bound(
+            check=f"{h.label}, highest mean over any window >= {h.window:g} s", value=mean, limit=h.rate_limit,
+            unit=h.unit_rate, source=h.source, validity=h.validity,
+        )
+        notes.append(f"peak dose in any {h.window:g} s window {peak:.4g} {h.unit_dose} (limit {h.dose_limit:g})")
+    if extra_note:
+        notes.append(extra_note)
+    words = ("within" if r.passed else "exceeds") + f" the modelled limit of {h.source}"
+    return dataclasses.replace(r, note="; ".join([words, *notes]))
 
 
 def protocol_check(protocol, *, distance_factor: float | None = None, radiance_spectrum: Spectrum | None = None):
@@ -1155,94 +1248,31 @@ def protocol_check(protocol, *, distance_factor: float | None = None, radiance_s
     dose = protocol_dose(protocol, distance_factor=distance_factor)
     T = dose["duration"]
     lit = dose["step_lit"]
-    note_na = "; ".join(dose["not_assessed"])
-    results = []
-
-    es_max = float(np.max(dose["step_actinic_irradiance"]))
-    t_a = actinic_permissible_time(effective_irradiance=es_max)
-    results.append(
-        CheckResult.upper_bound(
-            check=f"actinic UV effective dose (S(lambda)), {'any 8 h' if T > ACTINIC_DAY else f'{T:.4g} s'}",
-            value=dose["actinic_peak_day_dose"],
-            limit=ACTINIC_DAILY_LIMIT,
-            unit="J/m^2",
-            source=_SRC_UV,
-            validity="eye and skin, 200-400 nm, daily (8 h) exposure; S(lambda) and limit from memory",
-            note=f"permissible time at the most intense step {_fmt_t(t_a)}" + (f"; {note_na}" if note_na else ""),
-        )
-    )
-    eu_max = float(np.max(dose["step_uva_irradiance"]))
-    t_u = uva_permissible_time(uva_irradiance=eu_max)
-    results.append(
-        _dose_or_mean_result(
-            check="UV-A (315-400 nm, unweighted)",
-            peak=dose["uva_peak_window_dose"],
-            mean=dose["uva_peak_mean_irradiance"],
-            total_t=T,
-            window=UVA_WINDOW,
-            dose_limit=UVA_DOSE_LIMIT,
-            rate_limit=UVA_IRRADIANCE_LIMIT,
-            unit_dose="J/m^2",
-            unit_rate="W/m^2",
-            source=_SRC_UV,
-            validity="eye (lens), 315-400 nm; limit from memory",
-            note=f"permissible time at the most intense step {_fmt_t(t_u)}",
-        )
-    )
-    eb_max = float(np.max(dose["step_blue_light_irradiance"]))
-    t_b = blue_light_permissible_time(weighted_irradiance=eb_max)
-    results.append(
-        _dose_or_mean_result(
-            check="blue light E_B (B(lambda), small source)",
-            peak=dose["blue_light_peak_window_dose"],
-            mean=dose["blue_light_peak_mean_irradiance"],
-            total_t=T,
-            window=BLUE_WINDOW,
-            dose_limit=BLUE_DOSE_LIMIT,
-            rate_limit=BLUE_IRRADIANCE_LIMIT,
-            unit_dose="J/m^2",
-            unit_rate="W/m^2",
-            source=_SRC_BLUE,
-            validity="retina, 300-700 nm, irradiance form valid only for sources subtending < 0.011 rad; B(lambda) and limit from memory",
-            note=f"permissible time at the most intense step {_fmt_t(t_b)}",
-        )
-    )
-    groups = {
-        "actinic_uv": risk_group(hazard="actinic_uv", permissible_time=t_a),
-        "uva": risk_group(hazard="uva", permissible_time=t_u),
-        "blue_light": risk_group(hazard="blue_light", permissible_time=t_b),
+    times = {
+        "actinic_uv": actinic_permissible_time(effective_irradiance=float(np.max(dose["step_actinic_irradiance"]))),
+        "uva": uva_permissible_time(uva_irradiance=float(np.max(dose["step_uva_irradiance"]))),
+        "blue_light": blue_light_permissible_time(weighted_irradiance=float(np.max(dose["step_blue_light_irradiance"]))),
     }
-    times = {"actinic_uv": t_a, "uva": t_u, "blue_light": t_b}
+    windows = {
+        "actinic_uv": (dose["actinic_peak_day_dose"], None),
+        "uva": (dose["uva_peak_window_dose"], dose["uva_peak_mean_irradiance"]),
+        "blue_light": (dose["blue_light_peak_window_dose"], dose["blue_light_peak_mean_irradiance"]),
+    }
+    extra = {"actinic_uv": "; ".join(dose["not_assessed"])}
     if radiance_spectrum is not None:
         if not isinstance(radiance_spectrum, Spectrum):
             raise ActsimInputError(f"radiance_spectrum: must be an actsim Spectrum, got {type(radiance_spectrum).__name__}")
         fb = blue_light_function()
         lb = _weighted(radiance_spectrum, fb.lo, fb.hi, fb).value
-        t_r = blue_light_permissible_time(weighted_radiance=lb)
+        times["blue_light_radiance"] = blue_light_permissible_time(weighted_radiance=lb)
         # the source is seen (radiance lb) during the lit steps only
-        peak, mean = _window_stats(dose["step_duration"], np.where(lit, lb, 0.0), BLUE_RADIANCE_WINDOW)
-        results.append(
-            _dose_or_mean_result(
-                check="blue light L_B (B(lambda), radiance form)",
-                peak=peak,
-                mean=mean,
-                total_t=T,
-                window=BLUE_RADIANCE_WINDOW,
-                dose_limit=BLUE_RADIANCE_DOSE_LIMIT,
-                rate_limit=BLUE_RADIANCE_LIMIT,
-                unit_dose="J/(m^2 sr)",
-                unit_rate="W/(m^2 sr)",
-                source=_SRC_BLUE,
-                validity="retina, 300-700 nm, any source size; B(lambda) and limit from memory",
-                note=f"L_B = {lb:.4g} W/(m^2 sr); permissible time {_fmt_t(t_r)}",
-            )
-        )
-        groups["blue_light_radiance"] = risk_group(hazard="blue_light_radiance", permissible_time=t_r)
-        times["blue_light_radiance"] = t_r
-    names = ("actinic_uv", "uva", "blue_light", "blue_light_radiance")
-    standards = (_SRC_UV, _SRC_UV, _SRC_BLUE, _SRC_BLUE)
-    verdicts = {n: _verdict_words(r, s) for n, r, s in zip(names, results, standards)}
-    results = [dataclasses.replace(r, note=f"{verdicts[n]}; {r.note}") for r, n in zip(results, names)]
+        windows["blue_light_radiance"] = _window_stats(dose["step_duration"], np.where(lit, lb, 0.0), BLUE_RADIANCE_WINDOW)
+        extra["blue_light_radiance"] = f"L_B = {lb:.4g} W/(m^2 sr)"
+    results = [
+        _hazard_result(_HAZARDS[k], peak=peak, mean=mean, total_t=T, permissible_time=times[k], extra_note=extra.get(k, ""))
+        for k, (peak, mean) in windows.items()
+    ]
+    groups = {k: risk_group(hazard=k, permissible_time=t) for k, t in times.items()}
     summary = dict(dose)
     summary.update(
         {
@@ -1250,7 +1280,7 @@ def protocol_check(protocol, *, distance_factor: float | None = None, radiance_s
             "permissible_time": times,
             "risk_groups": groups,
             "risk_group": worst_risk_group(groups.values()),
-            "verdicts": verdicts,
+            "verdicts": {k: r.note.split(";")[0] for k, r in zip(windows, results)},
             "not_modelled": _NOT_MODELLED,
         }
     )

@@ -50,7 +50,7 @@ _IEC_SOURCE = "IEC 60601-1:2005 Table 24 (from memory)"
 _ISO_SOURCE = "ISO 13732-1:2006 burn thresholds (from memory)"
 _IEC_VALIDITY = (
     "applied parts in contact with the patient, healthy adult skin, parts not intended to supply heat; "
-    "not for infants or impaired sensation"
+    "not for infants, impaired sensation, or contact over 10 % of the body surface or of the head"
 )
 _ISO_VALIDITY = (
     "smooth hot surface on healthy adult skin, threshold of a superficial partial-thickness burn "
