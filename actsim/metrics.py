@@ -34,7 +34,7 @@ def first_crossing_time(times, values, level):
     return float(t0 + (lv - v0) * (t1 - t0) / (v1 - v0)) if v1 != v0 else float(t1)
 
 
-def conversion_front_depth(*, z, conversion, thickness, from_top=True):
+def conversion_front_depth(*, z, conversion, thickness, from_top=True, active=None, dz=None):
     """Depth below the lit face where conversion falls to half its current maximum.
 
     The front is the x = 0.5 x_max contour (x_max over the stack at that time),
@@ -50,6 +50,11 @@ def conversion_front_depth(*, z, conversion, thickness, from_top=True):
         Stack thickness [m].
     from_top : bool
         Lit face.
+    active : numpy.ndarray of bool, optional
+        Cells that hold chromophore; the front is sought among them only.
+    dz : numpy.ndarray, optional
+        Cell thickness [m]; with ``active``, a fully converted active region
+        reports the depth of its far face.
 
     Returns
     -------
@@ -58,6 +63,15 @@ def conversion_front_depth(*, z, conversion, thickness, from_top=True):
     """
     x = np.asarray(conversion, float)
     depth = thickness - z if from_top else z
+    if active is not None:
+        sel = np.asarray(active, bool)
+        if not sel.any():
+            return np.zeros(x.shape[0])
+        far = depth[sel] + (0.5 * np.asarray(dz)[sel] if dz is not None else 0.0)
+        x, depth = x[:, sel], depth[sel]
+        deepest = float(far.max())
+    else:
+        deepest = float(depth.max())
     order = np.argsort(depth)
     d = depth[order]
     out = np.zeros(x.shape[0])
@@ -70,7 +84,7 @@ def conversion_front_depth(*, z, conversion, thickness, from_top=True):
         imax = int(np.argmax(row))
         below = np.nonzero(row[imax:] < level)[0]
         if below.size == 0:
-            out[t] = d[-1]
+            out[t] = deepest
             continue
         j = imax + int(below[0])
         x0, x1 = row[j - 1], row[j]

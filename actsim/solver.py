@@ -298,7 +298,7 @@ def assemble_dataset(scenario: Scenario, p: Problem, x, irr, pabs, budget) -> xr
     from .metrics import conversion_front_depth
 
     lit_from_top = not scenario.sources or scenario.sources[0].face == "top"
-    front = conversion_front_depth(z=z_c, conversion=x, thickness=h, from_top=lit_from_top)
+    front = conversion_front_depth(z=z_c, conversion=x, thickness=h, from_top=lit_from_top, active=p.c0 > 0, dz=p.dz)
     ds = xr.Dataset(
         data_vars={
             "irradiance": _var(("time", "z"), irr, "W m-2", "cell-mean irradiance (all bands)"),
