@@ -165,3 +165,13 @@ def test_reader_units_to_si(tmp_path):
     np.testing.assert_allclose(d.x, [298.15, 373.15])
     np.testing.assert_allclose(d.y, [365e-9, 405e-9])
     assert d.synthetic and d.x_unit == "degC"
+
+
+def test_percent_header_with_fraction_values_gets_a_hint(tmp_path):
+    e, s = ramberg_osgood(n_points=500)
+    f = write_csv(tmp_path / "frac.csv", "strain [%], stress [MPa]", np.column_stack([e, s / 1e6]))
+    res = fit_tensile(f)
+    assert any("says % but reaches only" in w for w in res.warnings)
+    # if the regression range itself is empty, the error carries the hint
+    with pytest.raises(ActsimInputError, match="says % but reaches only"):
+        fit_tensile(f, linear_range=(0.002, 0.004))

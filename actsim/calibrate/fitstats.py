@@ -347,7 +347,7 @@ def fit_statistics(jacobian, residuals, *, values, names, units, confidence=0.95
         Parameter names and SI units.
     confidence : float
         Two-sided confidence level, in (0, 1) [1]. Default 0.95.
-    success, message
+    success, message : bool, str
         Passed through from the optimiser.
     absolute_sigma : bool
         Residuals already weighted by known standard deviations (``s^2 = 1``).

@@ -68,6 +68,18 @@ def read_spectrum(data, *, wavelength_unit=None, min_points=3) -> XYData:
     -------
     XYData
         Wavelength [m] (sorted increasing, distinct) and absorbance [1].
+
+    Notes
+    -----
+    The absorbance column must be decadic absorbance, not transmittance:
+
+    .. math::
+
+        A = -\\log_{10}(I / I_0)
+
+    References
+    ----------
+    .. [1] IUPAC, *Compendium of Chemical Terminology* (Gold Book), entry "absorbance".
     """
     xy = as_xy(data, x_kind="wavelength", y_kind="absorbance", x_unit=wavelength_unit, min_points=min_points,
                x_name="wavelength", y_name="absorbance")
@@ -102,6 +114,21 @@ def common_grid(*spectra):
         Each spectrum on the grid [1].
     note : str
         "" if all grids were already the same, else a sentence saying what was interpolated.
+
+    Notes
+    -----
+    Linear interpolation between neighbouring points :math:`\\lambda_j \\le \\lambda \\le \\lambda_{j+1}`:
+
+    .. math::
+
+        A(\\lambda) = A_j + \\frac{\\lambda - \\lambda_j}{\\lambda_{j+1} - \\lambda_j}(A_{j+1} - A_j)
+
+    Its error is at most :math:`h^2 \\max|A''|/8` for grid spacing :math:`h`.
+
+    References
+    ----------
+    .. [1] G. Dahlquist and A. Björck, *Numerical Methods*, Prentice-Hall, 1974 (linear
+       interpolation error bound).
     """
     data = [read_spectrum(s) for s in spectra]
     lo = max(float(d.x[0]) for d in data)

@@ -84,6 +84,20 @@ def check_strain_is_fraction(strain, *, unit="", allow_large_strain=False, field
     ------
     ActsimInputError
         If max(strain) > 1.5 and the unit does not say percent.
+
+    Notes
+    -----
+    Common practice, no source: a tensile strain above 150 % is rare outside elastomers, while a
+    percent column read as a fraction is a frequent mistake. The test is
+
+    .. math::
+
+        \\max_i \\varepsilon_i > 1.5 \\;\\wedge\\; \\text{unit} \\ne \\% \\Rightarrow \\text{error}
+
+    References
+    ----------
+    .. [1] ISO 527-1:2019, *Plastics — Determination of tensile properties — Part 1* (strain as
+       a dimensionless ratio or in percent).
     """
     e = np.asarray(strain, dtype=float)
     said_percent = str(unit).strip().lower() in ("%", "percent", "pct")
@@ -531,7 +545,13 @@ def fit_tensile(data, *, toe=False, linear_range=None, offset=0.002, e1=0.0005, 
         lr = (tc.strain_range[0] - shift, tc.strain_range[1] - shift)
     else:
         lr = tuple(float(v) for v in (linear_range if linear_range is not None else (e1, e2)))
-    reg = regression_modulus(e, s, strain_range=lr, min_points=min_points, confidence=confidence)
+    try:
+        reg = regression_modulus(e, s, strain_range=lr, min_points=min_points, confidence=confidence)
+    except ActsimInputError as exc:
+        if xy.x_unit.strip().lower() in ("%", "percent") and float(np.max(e)) < lr[1]:
+            raise ActsimInputError(f"{exc}; the strain column says % but reaches only {100 * float(np.max(e)):g} %: "
+                                   "were the values written as fractions?") from None
+        raise
     E = reg.value("modulus")
     if E <= 0:
         raise ActsimInputError(f"linear_range: slope over {lr} is {E:g} Pa, not positive; choose the rising linear part")
@@ -540,6 +560,9 @@ def fit_tensile(data, *, toe=False, linear_range=None, offset=0.002, e1=0.0005, 
     except ActsimInputError as exc:
         chord = None
         notes.append(f"no chord modulus: {exc}")
+        if xy.x_unit.strip().lower() in ("%", "percent") and float(np.max(e)) < e2:
+            notes.append(f"the strain column says % but reaches only {100 * float(np.max(e)):g} %: "
+                         "were the values written as fractions?")
     if chord is not None and abs(chord - E) > 0.05 * abs(E):
         notes.append(f"chord modulus {chord / 1e6:.4g} MPa differs from the regression modulus {E / 1e6:.4g} MPa "
                      "by more than 5 %: check the linear range on the plot")
