@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import difflib
 import math
+import re
 import tomllib
 from dataclasses import dataclass, field, replace
 from pathlib import Path
@@ -115,6 +116,7 @@ class Scenario:
     path: str = ""
     description: str = ""
     target_bend_angle: float | None = None  # rad
+    extras: dict = field(default_factory=dict)  # parsed optional sections (see SECTION_PARSERS)
 
     @property
     def thickness(self) -> float:
@@ -132,6 +134,18 @@ class Scenario:
 # ----------------------------------------------------------------------------
 # Parsing helpers
 # ----------------------------------------------------------------------------
+
+#: Optional top-level sections parsed by the module of the job that uses them:
+#: section name -> (module, function). The function is called as
+#: ``fn(data, field=name, base_dir=Path, scenario_info=dict)`` and returns a frozen object
+#: stored in ``Scenario.extras[name]``; it raises ActsimInputError on bad input.
+SECTION_PARSERS = {
+    "checks": ("actsim.checks.settings", "parse_checks"),
+    "safety": ("actsim.checks.settings", "parse_safety"),
+    "joint": ("actsim.checks.settings", "parse_joint"),
+    "mask": ("actsim.patterned", "parse_mask"),
+    "calibration": ("actsim.calibrate.settings", "parse_calibration"),
+}
 
 
 class _Table:
@@ -461,11 +475,24 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
         target = rt.quantity("target_bend_angle", "angle")
     rt.finish()
 
+    extras = {}
+    info = {"materials": list(materials), "layers": [layer.name for layer in layers], "sources": names,
+            "n_steps": len(protocol), "free_length": strip.free_length, "width": strip.width}
+    for section, (module, func) in SECTION_PARSERS.items():
+        if top.has(section):
+            import importlib
+
+            try:
+                parser = getattr(importlib.import_module(module), func)
+            except (ImportError, AttributeError):
+                raise ActsimInputError(f"{section}: this section is not supported by this actsim installation") from None
+            extras[section] = parser(top.raw(section), field=section, base_dir=base, scenario_info=info)
+
     top.finish()
     return Scenario(
         title=title, strip=strip, layers=tuple(layers), sources=tuple(sources), protocol=tuple(protocol),
         optics=optics, output_interval=output_interval, time_step=time_step, text=text, path=str(path),
-        description=description, target_bend_angle=target,
+        description=description, target_bend_angle=target, extras=extras,
     )
 
 
@@ -492,3 +519,87 @@ def load_scenario(path) -> Scenario:
     if not p.is_file():
         raise ActsimInputError(f"scenario: file '{p}' does not exist")
     return parse_scenario(p.read_text(), path=p)
+
+
+# ----------------------------------------------------------------------------
+# Overrides: change any field of a scenario by its dotted path
+# ----------------------------------------------------------------------------
+
+_PATH_TOKEN = re.compile(r"([^.\[\]]+)|\[([^\]]+)\]")
+
+
+def split_field_path(path: str):
+    """Split ``"layers[1].thickness"`` or ``"layers[active film].thickness"`` into tokens."""
+    tokens = []
+    for name, index in _PATH_TOKEN.findall(path):
+        tokens.append(name if name else ("[", index))
+    if not tokens:
+        raise ActsimInputError(f"field path '{path}' is empty")
+    return tokens
+
+
+def _descend(container, token, path, *, create=False):
+    if isinstance(token, tuple):
+        index = token[1].strip()
+        if not isinstance(container, list):
+            raise ActsimInputError(f"{path}: '[{index}]' used on something that is not a list")
+        if index.lstrip("-").isdigit():
+            i = int(index)
+            if not -len(container) <= i < len(container):
+                raise ActsimInputError(f"{path}: index {i} is out of range (the list has {len(container)} entries)")
+            return container, i
+        names = [item.get("name") if isinstance(item, dict) else None for item in container]
+        if index in names:
+            return container, names.index(index)
+        hint = difflib.get_close_matches(index, [n for n in names if n], n=1)
+        extra = f"; did you mean '{hint[0]}'?" if hint else f"; names are: {', '.join(n for n in names if n)}"
+        raise ActsimInputError(f"{path}: no entry named '{index}'{extra}")
+    if not isinstance(container, dict):
+        raise ActsimInputError(f"{path}: '{token}' used on something that is not a table")
+    if token not in container and not create:
+        hint = difflib.get_close_matches(token, list(container), n=1)
+        extra = f"; did you mean '{hint[0]}'?" if hint else f"; fields here: {', '.join(container)}"
+        raise ActsimInputError(f"{path}: no field '{token}'{extra}")
+    return container, token
+
+
+def apply_overrides(scenario: Scenario, overrides: dict) -> Scenario:
+    """A new scenario with some fields replaced, validated like a file.
+
+    Parameters
+    ----------
+    scenario : Scenario
+        The base scenario (its TOML text is the starting point).
+    overrides : dict
+        Dotted field path -> value as it would be written in the file, e.g.
+        ``{"layers[1].thickness": "30 um", "materials.film.photo_strain": -0.02,
+        "protocol[0].light.lamp": "80 mW/cm^2"}``. List entries are addressed
+        by index or by ``name``. The last field may be new (an optional field
+        not in the file); every table on the way must exist.
+
+    Returns
+    -------
+    Scenario
+        Parsed from the modified TOML, so every value is checked exactly as in
+        a scenario file; its ``text`` is the modified TOML.
+    """
+    import copy
+
+    import tomli_w
+
+    raw = copy.deepcopy(tomllib.loads(scenario.text))
+    for path, value in overrides.items():
+        tokens = split_field_path(path)
+        node = raw
+        for tok in tokens[:-1]:
+            parent, key = _descend(node, tok, path)
+            node = parent[key]
+        parent, key = _descend(node, tokens[-1], path, create=True)
+        if hasattr(value, "units") and hasattr(value, "magnitude"):
+            value = f"{value.magnitude!r} {value.units:~}"
+        elif isinstance(value, (np.floating, np.integer)):
+            value = value.item()
+        parent[key] = value
+    text = tomli_w.dumps(raw)
+    base = Path(scenario.path).parent if scenario.path else Path.cwd()
+    return parse_scenario(text, path=scenario.path, base_dir=base)
