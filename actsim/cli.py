@@ -15,8 +15,14 @@ from pathlib import Path
 
 from .errors import ActsimError, ActsimInputError
 
-#: Modules that add further verbs: each has ``register(subparsers)``.
-VERB_MODULES: list[str] = []
+#: Modules that add further verbs: each has ``register(subparsers)``. A module not
+#: present in this installation is skipped (its verb is simply not offered).
+VERB_MODULES: list[str] = [
+    "actsim.commands.check",
+    "actsim.commands.report",
+    "actsim.commands.fit",
+    "actsim.commands.sweep",
+]
 
 EXAMPLES = {
     "demo": "example:\n  actsim demo                 # the vent-flap demo into actsim-out/vent_flap\n  actsim demo --list\n  actsim demo --scenario gripper_pulses -o out/",
@@ -84,7 +90,15 @@ def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel"):
 
 def cmd_run(args):
     out = args.output or str(Path("actsim-out") / Path(args.scenario).stem)
-    return _run_and_write(args.scenario, out, figures=not args.no_figures, engine=args.engine)
+    status = _run_and_write(args.scenario, out, figures=not args.no_figures, engine=args.engine)
+    if args.uncertainty:
+        if args.uncertainty < 2:
+            raise ActsimInputError(f"--uncertainty: {args.uncertainty} draws is too few (allowed >= 2)")
+        from .calibrate.uncertainty import run_uncertainty
+        from .scenario import load_scenario
+
+        run_uncertainty(load_scenario(args.scenario), n_draws=args.uncertainty, out_dir=out)
+    return status
 
 
 def cmd_demo(args):
@@ -132,10 +146,18 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--no-figures", action="store_true", help="skip the PNG figures")
     p.add_argument("--engine", choices=("kernel", "reference"), default="kernel",
                    help="numba kernel (default) or the slow readable reference path")
+    p.add_argument("--uncertainty", type=int, metavar="N", default=0,
+                   help="also draw N parameter sets from the scenario's [calibration] covariance and write 5-95 %% bands")
     p.set_defaults(func=cmd_run)
 
     for mod in VERB_MODULES:
-        importlib.import_module(mod).register(sub)
+        try:
+            module = importlib.import_module(mod)
+        except ModuleNotFoundError as exc:
+            if exc.name == mod:
+                continue
+            raise
+        module.register(sub)
     return parser
 
 
