@@ -25,7 +25,6 @@ from __future__ import annotations
 
 import os
 import re
-import tempfile
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -35,7 +34,7 @@ import pint
 from ..errors import ActsimInputError
 from ..units import Q_, SI_UNITS, ureg
 
-__all__ = ["XYData", "KINDS", "read_xy_csv", "save_figure_atomic", "as_xy"]
+__all__ = ["XYData", "KINDS", "read_xy_csv", "as_xy"]
 
 #: Physical kind of a column -> key of :data:`actsim.units.SI_UNITS`, or None for dimensionless.
 KINDS = {
@@ -297,40 +296,3 @@ def as_xy(data, *, x_kind, y_kind, x_unit=None, y_unit=None, min_points=2, x_nam
     if y_unit is not None:
         y = _to_si(y, y_unit, y_kind, where=y_name)
     return XYData(x=x, y=y, x_name=x_name, y_name=y_name, x_unit=x_unit or "", y_unit=y_unit or "")
-
-
-def save_figure_atomic(fig, path, *, dpi=150):
-    """Save a matplotlib figure as PNG atomically (temporary file in the same folder, then rename).
-
-    Parameters
-    ----------
-    fig : matplotlib.figure.Figure
-        The figure (made without pyplot, on the Agg canvas).
-    path : str or os.PathLike
-        Target file name.
-    dpi : int
-        Resolution [1/inch].
-
-    Returns
-    -------
-    pathlib.Path
-        The written file.
-    """
-    from matplotlib.backends.backend_agg import FigureCanvasAgg
-
-    target = Path(path)
-    folder = target.parent if str(target.parent) else Path(".")
-    if not folder.is_dir():
-        raise ActsimInputError(f"figure path: folder {str(folder)!r} does not exist")
-    if fig.canvas is None or not isinstance(fig.canvas, FigureCanvasAgg):
-        FigureCanvasAgg(fig)
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
-    try:
-        with os.fdopen(fd, "wb") as fh:
-            fig.savefig(fh, format="png", dpi=dpi)
-        os.replace(tmp, target)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
-    return target

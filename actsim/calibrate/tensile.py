@@ -20,13 +20,15 @@ References
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from pathlib import Path
 
 import numpy as np
 
 from ..errors import ActsimInputError
+from ..io import save_figure
 from ..units import check_range
 from .fitstats import FitResult, fit_statistics
-from .readers import XYData, as_xy, save_figure_atomic
+from .readers import XYData, as_xy
 
 __all__ = [
     "chord_modulus",
@@ -630,4 +632,5 @@ def plot_tensile(result: TensileResult, path, *, title=None):
         ttl += " (synthetic data)"
     ax.set_title(ttl)
     fig.tight_layout()
-    return save_figure_atomic(fig, path)
+    save_figure(fig, path)
+    return Path(path)
