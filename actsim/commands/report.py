@@ -1,0 +1,41 @@
+"""``actsim report RESULT_DIR``: the study report of a result folder as one HTML file."""
+
+from __future__ import annotations
+
+import argparse
+
+EPILOG = """\
+The report is one self-contained HTML file (figures embedded, no external
+resources): the scenario in words and as a parameter table, the key results,
+every figure of the folder, the design checks of checks.json (from
+`actsim check`), the caution, and the software versions.
+
+example:
+  actsim run scenarios/vent_flap.toml -o out/vent
+  actsim report out/vent                      # writes out/vent/report.html
+  actsim check scenarios/vent_flap.toml -o out/vent && actsim report out/vent
+  actsim report out/vent -o vent_report.html
+"""
+
+
+def cmd_report(args) -> int:
+    from ..cautions import with_caution
+    from ..report import write_report
+
+    path = write_report(args.result_dir, args.output)
+    print(with_caution(f"report written to {path}"))
+    return 0
+
+
+def register(subparsers) -> None:
+    """Add the ``report`` verb to the ``actsim`` command line."""
+    p = subparsers.add_parser(
+        "report",
+        help="write the study report of a result folder (one self-contained HTML file)",
+        description="Write the study report of a result folder as one self-contained HTML file.",
+        epilog=EPILOG,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    p.add_argument("result_dir", metavar="RESULT_DIR", help="result folder written by `actsim run`")
+    p.add_argument("-o", "--output", metavar="FILE", help="report file (default: RESULT_DIR/report.html)")
+    p.set_defaults(func=cmd_report)
