@@ -1,8 +1,10 @@
-"""The hot loop: optics and kinetics time stepping in one numba call.
+"""The hot loop: optics, kinetics, heat and the light-formed network in one numba call.
 
-Same arithmetic as the readable stage functions in :mod:`actsim.optics` and
-:mod:`actsim.kinetics` (``tests/test_kernels.py`` compares them to 1e-12).
-All arrays are SI; see :func:`actsim.solver.build_problem` for their layout.
+Same arithmetic as the readable stage functions in :mod:`actsim.optics`,
+:mod:`actsim.kinetics`, :mod:`actsim.thermal`, :mod:`actsim.network` and
+:mod:`actsim.mechanics` (``tests/test_kernels.py`` compares the two paths to
+1e-12). All arrays are SI; :func:`actsim.solver.build_problem` documents their
+layout.
 """
 
 from __future__ import annotations
@@ -12,7 +14,24 @@ import math
 import numpy as np
 from numba import njit
 
+from .thermal import (
+    crank_nicolson_step,
+    glass_transition_modulus_nb,
+    tabulated_modulus_nb,
+    trbdf2_step,
+)
+
 LN10 = math.log(10.0)
+GAS_CONSTANT = 8.314462618  # J/(mol K), CODATA 2018 (scipy.constants.R)
+
+HOLD_FREE = 0
+HOLD_STRETCH = 1
+HOLD_BEND = 2
+HOLD_FLAT = 3
+
+HEAT_OFF = 0
+HEAT_CN = 1
+HEAT_TRBDF2 = 2
 
 
 @njit(cache=True)
@@ -39,8 +58,19 @@ def light_pass(x, dz, c0, eps_a, eps_b, alpha_bg, from_top, entry, q_surface, me
 
 
 @njit(cache=True)
-def rates(mean_flux, eps_a, eps_b, phi_f, phi_b, k_th, k_f, k_b):
-    """First-order rate constants of each cell from the mean flux of each beam."""
+def heat_source(absorbed, beam_emol, dz, heat_frac, out):
+    """Absorbed optical power turned into heat, per unit volume [W m-3]."""
+    n_cell, n_beam = absorbed.shape
+    for i in range(n_cell):
+        p = 0.0
+        for b in range(n_beam):
+            p += absorbed[i, b] * beam_emol[b]
+        out[i] = heat_frac[i] * p / dz[i]
+
+
+@njit(cache=True)
+def rates(mean_flux, eps_a, eps_b, phi_f, phi_b, k_ref, e_act, T, T_ref, k_f, k_b):
+    """First-order rate constants of each cell; thermal back rate by Arrhenius about T_ref."""
     n_cell, n_beam = eps_a.shape
     for i in range(n_cell):
         sf = 0.0
@@ -48,8 +78,11 @@ def rates(mean_flux, eps_a, eps_b, phi_f, phi_b, k_th, k_f, k_b):
         for b in range(n_beam):
             sf += phi_f[i, b] * eps_a[i, b] * mean_flux[i, b]
             sb += phi_b[i, b] * eps_b[i, b] * mean_flux[i, b]
+        k_th = k_ref[i]
+        if e_act[i] != 0.0 and k_th != 0.0:
+            k_th = k_th * math.exp(-e_act[i] / GAS_CONSTANT * (1.0 / T[i] - 1.0 / T_ref))
         k_f[i] = LN10 * sf
-        k_b[i] = LN10 * sb + k_th[i]
+        k_b[i] = LN10 * sb + k_th
 
 
 @njit(cache=True)
@@ -65,11 +98,87 @@ def exact_update(x, k_f, k_b, dt, out):
 
 
 @njit(cache=True)
-def record(slot, x, dz, mean_flux, absorbed, beam_emol, q_surface, entry, transmitted, out_x, out_irr, out_pabs, out_budget):
+def material_state(x, T, S, mod_kind, mod_base, mod_ratio, sec_fac, gl, tab_idx, tab_T, tab_logE,
+                   network_mod, photo_strain, alpha_th, T_ref, E_out, Ee_out):
+    """Effective modulus E and E*e* of each cell (two-network model).
+
+    E = E_p + E_n x and E e* = E_p (e_ph + e_th) + E_n (x e_th + S), with
+    E_p = base(T) (1 + (ratio - 1) x) times the section factor.
+    """
+    for i in range(x.size):
+        kind = mod_kind[i]
+        if kind == 0:
+            base = mod_base[i]
+        elif kind == 1:
+            base = glass_transition_modulus_nb(T[i], gl[i, 0], gl[i, 1], gl[i, 2], gl[i, 3])
+        else:
+            j = tab_idx[i]
+            base = tabulated_modulus_nb(T[i], tab_T[j], tab_logE[j])
+        e_p = sec_fac[i] * base * (1.0 + (mod_ratio[i] - 1.0) * x[i])
+        e_th = alpha_th[i] * (T[i] - T_ref)
+        e_n = network_mod[i]
+        E_out[i] = e_p + e_n * x[i]
+        Ee_out[i] = e_p * (photo_strain[i] * x[i] + e_th) + e_n * (x[i] * e_th + S[i])
+
+
+@njit(cache=True)
+def section_solve(z_edges, E, Ee, hold, value, h):
+    """Strain at z = 0 and curvature under the step's mechanical condition.
+
+    Returns (e0, kappa, N, M): N and M are the section's force and moment
+    about z = 0 per unit width (zero for a free strip).
+    """
+    A = 0.0
+    B = 0.0
+    D = 0.0
+    Ns = 0.0
+    Ms = 0.0
+    for i in range(E.size):
+        z0 = z_edges[i]
+        z1 = z_edges[i + 1]
+        w1 = z1 - z0
+        w2 = 0.5 * (z1 * z1 - z0 * z0)
+        w3 = (z1 * z1 * z1 - z0 * z0 * z0) / 3.0
+        A += E[i] * w1
+        B += E[i] * w2
+        D += E[i] * w3
+        Ns += Ee[i] * w1
+        Ms += Ee[i] * w2
+    if hold == HOLD_STRETCH:
+        kappa = 0.0
+        e0 = value
+    elif hold == HOLD_BEND:
+        kappa = value
+        e0 = (Ns + B * kappa) / A
+    elif hold == HOLD_FLAT:
+        kappa = 0.0
+        e0 = Ns / A
+    else:
+        det = A * D - B * B
+        e0 = (D * Ns - B * Ms) / det
+        kappa = (B * Ns - A * Ms) / det
+    N = A * e0 - B * kappa - Ns
+    M = B * e0 - D * kappa - Ms
+    return e0, kappa, N, M
+
+
+@njit(cache=True)
+def cell_strain(z_edges, e0, kappa, out):
+    for i in range(out.size):
+        out[i] = e0 - kappa * 0.5 * (z_edges[i] + z_edges[i + 1])
+
+
+@njit(cache=True)
+def record(slot, x, T, S, E, Ee, mech, dz, mean_flux, absorbed, beam_emol, q_surface, entry, transmitted,
+           out_x, out_T, out_S, out_E, out_Ee, out_mech, out_irr, out_pabs, out_budget):
     n_cell, n_beam = mean_flux.shape
     total_abs = 0.0
     for i in range(n_cell):
         out_x[slot, i] = x[i]
+        out_T[slot, i] = T[i]
+        out_S[slot, i] = S[i]
+        out_E[slot, i] = E[i]
+        out_Ee[slot, i] = Ee[i]
         irr = 0.0
         p = 0.0
         for b in range(n_beam):
@@ -78,6 +187,8 @@ def record(slot, x, dz, mean_flux, absorbed, beam_emol, q_surface, entry, transm
             total_abs += absorbed[i, b]
         out_irr[slot, i] = irr
         out_pabs[slot, i] = p / dz[i]
+    for k in range(4):
+        out_mech[slot, k] = mech[k]
     inc = 0.0
     refl = 0.0
     for b in range(n_beam):
@@ -90,47 +201,139 @@ def record(slot, x, dz, mean_flux, absorbed, beam_emol, q_surface, entry, transm
 
 
 @njit(cache=True)
-def run_optics_kinetics(dz, c0, eps_a, eps_b, alpha_bg, phi_f, phi_b, k_th, from_top, entry, beam_emol,
-                        step_flux, seg_step, seg_dt, seg_n, x0, out_x, out_irr, out_pabs, out_budget):
-    """March the coupled Beer–Lambert / first-order kinetics problem.
+def run_design(z_edges, dz, c0, eps_a, eps_b, alpha_bg, phi_f, phi_b, k_ref, e_act, from_top, entry, beam_emol,
+               heat_mode, k_cond, rho_c, heat_frac, T_ref,
+               mod_kind, mod_base, mod_ratio, sec_fac, gl, tab_idx, tab_T, tab_logE, network_mod, photo_strain, alpha_th,
+               step_flux, step_hold, step_value, step_env, seg_step, seg_dt, seg_n, x0, T0,
+               out_x, out_T, out_S, out_E, out_Ee, out_mech, out_irr, out_pabs, out_budget):
+    """March one design through its protocol.
 
-    Predictor–corrector per step: rates from the light at the start, a
-    predicted conversion by the exact update, rates from the light at the
-    prediction, the exact update again with the averaged rates. Output slot 0
-    holds the initial state; slot s+1 the state at the end of segment s.
+    Per step: light at the start -> rates and heat source; predicted
+    conversion by the exact first-order update; light at the prediction ->
+    heat step (Crank–Nicolson or TR-BDF2, source averaged) and rates at the new
+    temperature; the exact update again with the averaged rates. Where a
+    light-formed network exists, network formed in the step remembers the
+    midpoint strain of the step (predicted, then corrected), and cleavage
+    removes the same fraction of the remembered strain. Output slot 0 holds the
+    initial state; slot s+1 the state at the end of segment s.
 
-    Returns the number of the first segment with a non-finite value, or -1.
+    Returns the index of the first segment that produced a non-finite value, or -1.
     """
     n_cell, n_beam = eps_a.shape
+    h = z_edges[n_cell]
+    has_network = False
+    for i in range(n_cell):
+        if network_mod[i] > 0.0:
+            has_network = True
     x = x0.copy()
+    T = T0.copy()
+    S = np.zeros(n_cell)
     xp = np.empty(n_cell)
+    Tn = np.empty(n_cell)
+    Sp = np.empty(n_cell)
     mf = np.empty((n_cell, n_beam))
     ab = np.empty((n_cell, n_beam))
     kf0 = np.empty(n_cell)
     kb0 = np.empty(n_cell)
     kf1 = np.empty(n_cell)
     kb1 = np.empty(n_cell)
-    q = step_flux[seg_step[0]]
+    q0 = np.empty(n_cell)
+    q1 = np.empty(n_cell)
+    E = np.empty(n_cell)
+    Ee = np.empty(n_cell)
+    e_start = np.empty(n_cell)
+    e_end = np.empty(n_cell)
+    work = np.empty((6, n_cell))
+    mech = np.zeros(4)
+
+    s0 = seg_step[0]
+    q = step_flux[s0]
+    material_state(x, T, S, mod_kind, mod_base, mod_ratio, sec_fac, gl, tab_idx, tab_T, tab_logE,
+                   network_mod, photo_strain, alpha_th, T_ref, E, Ee)
+    r = section_solve(z_edges, E, Ee, step_hold[s0], step_value[s0], h)
+    mech[0], mech[1], mech[2], mech[3] = r[0], r[1], r[2], r[3]
     tr = light_pass(x, dz, c0, eps_a, eps_b, alpha_bg, from_top, entry, q, mf, ab)
-    record(0, x, dz, mf, ab, beam_emol, q, entry, tr, out_x, out_irr, out_pabs, out_budget)
+    record(0, x, T, S, E, Ee, mech, dz, mf, ab, beam_emol, q, entry, tr,
+           out_x, out_T, out_S, out_E, out_Ee, out_mech, out_irr, out_pabs, out_budget)
+
     for s in range(seg_step.size):
-        q = step_flux[seg_step[s]]
+        st = seg_step[s]
+        q = step_flux[st]
+        hold = step_hold[st]
+        value = step_value[st]
+        T_amb_b = step_env[st, 0]
+        h_b = step_env[st, 1]
+        T_amb_t = step_env[st, 2]
+        h_t = step_env[st, 3]
         dt = seg_dt[s]
+        if has_network:
+            material_state(x, T, S, mod_kind, mod_base, mod_ratio, sec_fac, gl, tab_idx, tab_T, tab_logE,
+                           network_mod, photo_strain, alpha_th, T_ref, E, Ee)
+            r = section_solve(z_edges, E, Ee, hold, value, h)
+            cell_strain(z_edges, r[0], r[1], e_start)
         for _ in range(seg_n[s]):
+            # light and rates at the start of the step
             light_pass(x, dz, c0, eps_a, eps_b, alpha_bg, from_top, entry, q, mf, ab)
-            rates(mf, eps_a, eps_b, phi_f, phi_b, k_th, kf0, kb0)
+            rates(mf, eps_a, eps_b, phi_f, phi_b, k_ref, e_act, T, T_ref, kf0, kb0)
+            if heat_mode != HEAT_OFF:
+                heat_source(ab, beam_emol, dz, heat_frac, q0)
             exact_update(x, kf0, kb0, dt, xp)
+            # light at the predicted conversion
             light_pass(xp, dz, c0, eps_a, eps_b, alpha_bg, from_top, entry, q, mf, ab)
-            rates(mf, eps_a, eps_b, phi_f, phi_b, k_th, kf1, kb1)
+            if heat_mode != HEAT_OFF:
+                heat_source(ab, beam_emol, dz, heat_frac, q1)
+                if heat_mode == HEAT_CN:
+                    crank_nicolson_step(T, dz, k_cond, rho_c, q0, q1, dt, h_b, T_amb_b, h_t, T_amb_t, work, Tn)
+                else:
+                    trbdf2_step(T, dz, k_cond, rho_c, q0, q1, dt, h_b, T_amb_b, h_t, T_amb_t, work, Tn)
+            else:
+                for i in range(n_cell):
+                    Tn[i] = T[i]
+            rates(mf, eps_a, eps_b, phi_f, phi_b, k_ref, e_act, Tn, T_ref, kf1, kb1)
             for i in range(n_cell):
                 kf1[i] = 0.5 * (kf0[i] + kf1[i])
                 kb1[i] = 0.5 * (kb0[i] + kb1[i])
             exact_update(x, kf1, kb1, dt, xp)
+            if has_network:
+                # predictor: network formed at the start-of-step strain
+                for i in range(n_cell):
+                    Sp[i] = S[i]
+                    if network_mod[i] > 0.0:
+                        dn = xp[i] - x[i]
+                        if dn >= 0.0:
+                            Sp[i] = S[i] + e_start[i] * dn
+                        elif x[i] > 0.0:
+                            Sp[i] = S[i] * (xp[i] / x[i])
+                material_state(xp, Tn, Sp, mod_kind, mod_base, mod_ratio, sec_fac, gl, tab_idx, tab_T, tab_logE,
+                               network_mod, photo_strain, alpha_th, T_ref, E, Ee)
+                r = section_solve(z_edges, E, Ee, hold, value, h)
+                cell_strain(z_edges, r[0], r[1], e_end)
+                # corrector: midpoint strain
+                for i in range(n_cell):
+                    if network_mod[i] > 0.0:
+                        dn = xp[i] - x[i]
+                        if dn >= 0.0:
+                            S[i] = S[i] + 0.5 * (e_start[i] + e_end[i]) * dn
+                        else:
+                            S[i] = Sp[i]
+                material_state(xp, Tn, S, mod_kind, mod_base, mod_ratio, sec_fac, gl, tab_idx, tab_T, tab_logE,
+                               network_mod, photo_strain, alpha_th, T_ref, E, Ee)
+                r = section_solve(z_edges, E, Ee, hold, value, h)
+                cell_strain(z_edges, r[0], r[1], e_start)
             for i in range(n_cell):
                 x[i] = xp[i]
+                T[i] = Tn[i]
+        material_state(x, T, S, mod_kind, mod_base, mod_ratio, sec_fac, gl, tab_idx, tab_T, tab_logE,
+                       network_mod, photo_strain, alpha_th, T_ref, E, Ee)
+        r = section_solve(z_edges, E, Ee, hold, value, h)
+        mech[0], mech[1], mech[2], mech[3] = r[0], r[1], r[2], r[3]
         tr = light_pass(x, dz, c0, eps_a, eps_b, alpha_bg, from_top, entry, q, mf, ab)
-        record(s + 1, x, dz, mf, ab, beam_emol, q, entry, tr, out_x, out_irr, out_pabs, out_budget)
+        record(s + 1, x, T, S, E, Ee, mech, dz, mf, ab, beam_emol, q, entry, tr,
+               out_x, out_T, out_S, out_E, out_Ee, out_mech, out_irr, out_pabs, out_budget)
         for i in range(n_cell):
-            if not math.isfinite(x[i]):
+            if not (math.isfinite(x[i]) and math.isfinite(T[i]) and math.isfinite(S[i])):
+                return s
+        for k in range(4):
+            if not math.isfinite(mech[k]):
                 return s
     return -1

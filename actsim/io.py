@@ -60,7 +60,7 @@ def write_netcdf(ds, path):
 
 def write_timeseries_csv(ds, path):
     """Write every (time,)-only variable of ``ds`` to CSV, units in the header (``name [unit]``)."""
-    names = [n for n, v in ds.data_vars.items() if v.dims == ("time",)]
+    names = [n for n, v in ds.data_vars.items() if v.dims == ("time",) and v.dtype.kind in "fiub"]
     cols = [ds["time"].values] + [ds[n].values for n in names]
     header = ",".join([f"time [{ds['time'].attrs.get('units', '')}]"] + [f"{n} [{ds[n].attrs.get('units', '')}]" for n in names])
     with atomic_path(path) as tmp:

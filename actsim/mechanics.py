@@ -183,3 +183,43 @@ def arc_tip_position(*, curvature, free_length):
     x = np.where(small, free_length * (1 - theta**2 / 6 + theta**4 / 120), np.sin(theta) / safe)
     y = np.where(small, free_length * (theta / 2 - theta**3 / 24), (1 - np.cos(theta)) / safe)
     return x, y
+
+
+def held_strip_response(*, z_edges, modulus, eigenstrain, hold, value=0.0):
+    """Strain at z = 0, curvature and the holding force and moment under a mechanical condition.
+
+    Conditions: ``"free"`` (N = M = 0); ``"stretch"`` (uniform strain
+    ``value``, curvature held at zero by the grips); ``"bend"`` (curvature
+    ``value`` [m-1], no axial force, as around a mandrel); ``"flat"``
+    (curvature zero, no axial force). The holding force and moment are the
+    section resultants :math:`N = A e_0 - B\\kappa - N^*` and
+    :math:`M = B e_0 - D\\kappa - M^*` about z = 0, per unit width.
+
+    Parameters
+    ----------
+    z_edges : numpy.ndarray
+        [m].
+    modulus, eigenstrain : numpy.ndarray, shape (n_cell,)
+        [Pa], [1].
+    hold : str
+        One of "free", "release", "stretch", "bend", "flat".
+    value : float
+        Strain [1] for "stretch", curvature [m-1] for "bend".
+
+    Returns
+    -------
+    (e0, kappa, N, M) : float
+        [1], [m-1], [N m-1], [N].
+    """
+    s = section_integrals(z_edges=z_edges, modulus=modulus, eigenstrain=eigenstrain)
+    A, B, D, Ns, Ms = s["A"], s["B"], s["D"], s["N_star"], s["M_star"]
+    if hold == "stretch":
+        e0, kappa = value, 0.0
+    elif hold == "bend":
+        kappa = value
+        e0 = (Ns + B * kappa) / A
+    elif hold == "flat":
+        e0, kappa = Ns / A, 0.0
+    else:
+        e0, kappa, _ = free_strip_response(z_edges=z_edges, modulus=modulus, eigenstrain=eigenstrain)
+    return e0, kappa, A * e0 - B * kappa - Ns, B * e0 - D * kappa - Ms

@@ -57,10 +57,26 @@ class Material:
     backward_quantum_yield: SpectralFunction | None = None
     reactant_absorptivity: SpectralFunction | None = None  # decadic, m^2/mol
     product_absorptivity: SpectralFunction | None = None  # decadic, m^2/mol
+    # heat
+    conductivity: float = 0.2  # W/(m K)
+    density: float = 1200.0  # kg/m^3
+    specific_heat: float = 1500.0  # J/(kg K)
+    thermal_expansion: float = 0.0  # 1/K
+    heat_fraction: float = 1.0  # fraction of absorbed light that becomes heat
+    back_reaction_activation_energy: float = 0.0  # J/mol (Arrhenius; 0: rate independent of T)
+    # modulus against temperature: None, ("glass", Eg, Er, Tg, width) or ("table", T[], E[])
+    temperature_modulus: tuple | None = None
+    product_modulus_ratio: float = 1.0  # E_B/E_A when the modulus follows a temperature law
+    # light-formed (second) network: modulus of the fully formed network [Pa]; network density = conversion
+    network_modulus: float = 0.0
 
     @property
     def is_active(self) -> bool:
         return self.chromophore_concentration > 0.0
+
+    @property
+    def forms_network(self) -> bool:
+        return self.network_modulus > 0.0
 
 
 @dataclass(frozen=True, eq=False)
@@ -83,13 +99,37 @@ class Strip:
     section: str = "beam"  # "beam" (plane stress) or "plate" (plane strain)
 
 
+#: Mechanical conditions of a protocol step.
+HOLDS = ("free", "release", "stretch", "bend", "flat")
+
+
 @dataclass(frozen=True)
 class Step:
-    """One protocol step: duration and the irradiance of each source [W m-2]."""
+    """One protocol step: duration, irradiance of each source [W m-2], mechanical condition, surroundings."""
 
     duration: float  # s
     irradiance: tuple  # one value per source, in the order of Scenario.sources
     label: str = ""
+    hold: str = "free"  # one of HOLDS
+    hold_value: float = 0.0  # stretch: mid-plane strain [1]; bend: curvature [1/m]
+    ambient_bottom: float = 293.15  # K
+    ambient_top: float = 293.15  # K
+    h_bottom: float = 10.0  # W/(m^2 K), convection + linearised radiation
+    h_top: float = 10.0  # W/(m^2 K)
+
+
+@dataclass(frozen=True)
+class HeatSettings:
+    """Photothermal heating: on when the scenario has a [heat] section."""
+
+    enabled: bool = False
+    ambient_temperature: float = 293.15  # K
+    reference_temperature: float = 293.15  # K, zero of thermal strain and reference of the back-reaction rate
+    top_heat_transfer: float = 10.0  # W/(m^2 K)
+    bottom_heat_transfer: float = 10.0
+    top_emissivity: float = 0.0
+    bottom_emissivity: float = 0.0
+    scheme: str = "tr-bdf2"  # or "crank-nicolson"
 
 
 @dataclass(frozen=True)
@@ -110,6 +150,7 @@ class Scenario:
     sources: tuple
     protocol: tuple
     optics: OpticsSettings
+    heat: HeatSettings
     output_interval: float  # s
     time_step: float  # s
     text: str = ""
@@ -284,17 +325,100 @@ def _spectral(table: _Table, key: str, *, kind: str | None, default, base_dir: P
     raise ActsimInputError(f"{path}: a spectral table needs 'file', 'wavelength'+'values' or 'bands'")
 
 
+def _parse_temperature_modulus(t: "_Table", base_dir: Path):
+    """The optional [materials.X.glass_transition] or modulus_table = {file=...} law."""
+    if t.has("glass_transition") and t.has("modulus_table"):
+        raise ActsimInputError(f"{t.name}: give either glass_transition or modulus_table, not both")
+    if t.has("glass_transition"):
+        g = t.table("glass_transition")
+        law = (
+            "glass",
+            g.quantity("glassy_modulus", "pressure", lo=0, lo_open=True),
+            g.quantity("rubbery_modulus", "pressure", lo=0, lo_open=True),
+            g.quantity("temperature", "temperature", lo=0, lo_open=True),
+            g.quantity("width", "temperature_difference", lo=0, lo_open=True),
+        )
+        g.finish()
+        return law
+    if t.has("modulus_table"):
+        g = t.table("modulus_table")
+        fname = g.string("file")
+        g.finish()
+        temps, moduli = _read_modulus_table(base_dir / fname, f"{t.name}.modulus_table.file")
+        return ("table", temps, moduli)
+    return None
+
+
+def _read_modulus_table(path: Path, field_name: str):
+    """Read a DMA-style CSV: temperature [unit], modulus [unit] (storage modulus)."""
+    import csv as _csv
+
+    from .units import Q_
+
+    if not path.is_file():
+        raise ActsimInputError(f"{field_name}: modulus table '{path}' does not exist")
+    rows, header = [], None
+    with open(path, newline="") as fh:
+        for lineno, row in enumerate(_csv.reader(fh), start=1):
+            if not row or row[0].strip().startswith("#"):
+                continue
+            if header is None:
+                header = [c.strip() for c in row]
+                continue
+            try:
+                rows.append((float(row[0]), float(row[1])))
+            except (ValueError, IndexError):
+                raise ActsimInputError(f"{field_name}: '{path.name}' line {lineno} is not two numbers") from None
+    units = [c[c.index("[") + 1 : -1] if "[" in c and c.endswith("]") else None for c in (header or [])[:2]]
+    if len(rows) < 2 or len(units) < 2 or None in units:
+        raise ActsimInputError(f"{field_name}: '{path.name}' needs a header 'temperature [degC], modulus [MPa]' and >= 2 rows")
+    data = np.array(rows)
+    try:
+        temps = Q_(data[:, 0], units[0]).to("K").magnitude
+        moduli = Q_(data[:, 1], units[1]).to("Pa").magnitude
+    except Exception:
+        raise ActsimInputError(f"{field_name}: '{path.name}' header units [{units[0]}], [{units[1]}] must be a temperature and a pressure") from None
+    if np.any(np.diff(temps) <= 0) or np.any(moduli <= 0):
+        raise ActsimInputError(f"{field_name}: '{path.name}' temperatures must increase strictly and moduli be > 0")
+    return temps, moduli
+
+
 def _parse_material(name: str, data, base_dir: Path) -> Material:
     t = _Table(data, f"materials.{name}")
-    modulus = t.quantity("modulus", "pressure", lo=0, lo_open=True)
-    product_modulus = t.quantity("product_modulus", "pressure", default=modulus, lo=0, lo_open=True)
+    temperature_modulus = _parse_temperature_modulus(t, base_dir)
+    if temperature_modulus is not None:
+        for key in ("modulus", "product_modulus"):
+            if t.has(key):
+                raise ActsimInputError(
+                    f"materials.{name}.{key}: not used when the modulus follows a temperature law; use product_modulus_ratio"
+                )
+        modulus = product_modulus = float("nan")
+        ratio = t.number("product_modulus_ratio", default=1.0, lo=0.0, lo_open=True, hi=100.0)
+    else:
+        modulus = t.quantity("modulus", "pressure", lo=0, lo_open=True)
+        product_modulus = t.quantity("product_modulus", "pressure", default=modulus, lo=0, lo_open=True)
+        ratio = product_modulus / modulus
     nu = t.number("poisson_ratio", default=0.35, lo=0.0, hi=0.5, hi_open=True)
     n_ref = t.number("refractive_index", default=1.5, lo=1.0, hi=4.0)
     background = _spectral(t, "background_absorption", kind="absorption_coefficient", default="0 1/m", base_dir=base_dir)
     conc = t.quantity("chromophore_concentration", "concentration", default=0.0, lo=0.0)
     photo_strain = t.number("photo_strain", default=0.0, lo=-0.5, hi=0.5)
     k_back = t.quantity("thermal_back_rate", "rate", default=0.0, lo=0.0)
-    kw = {}
+    kw = dict(
+        conductivity=t.quantity("conductivity", "conductivity", default=0.2, lo=0.0, lo_open=True),
+        density=t.quantity("density", "density", default=1200.0, lo=0.0, lo_open=True),
+        specific_heat=t.quantity("specific_heat", "heat_capacity", default=1500.0, lo=0.0, lo_open=True),
+        thermal_expansion=t.quantity("thermal_expansion", "thermal_expansion", default=0.0, lo=-1e-3, hi=1e-2),
+        heat_fraction=t.number("heat_fraction", default=1.0, lo=0.0, hi=1.0),
+        back_reaction_activation_energy=t.quantity("back_reaction_activation_energy", "energy_per_mol", default=0.0, lo=0.0, hi=1e6),
+        network_modulus=t.quantity("network_modulus", "pressure", default=0.0, lo=0.0),
+        temperature_modulus=temperature_modulus,
+        product_modulus_ratio=ratio,
+    )
+    if kw["network_modulus"] > 0 and conc <= 0:
+        raise ActsimInputError(
+            f"materials.{name}.network_modulus: a light-formed network needs a chromophore (chromophore_concentration > 0)"
+        )
     if conc > 0:
         kw["reactant_absorptivity"] = _spectral(t, "reactant_absorptivity", kind="molar_absorptivity", default=..., base_dir=base_dir)
         kw["product_absorptivity"] = _spectral(t, "product_absorptivity", kind="molar_absorptivity", default="0 m^2/mol", base_dir=base_dir)
@@ -344,10 +468,42 @@ def _parse_source(i: int, data, optics: OpticsSettings, base_dir: Path) -> Light
     return LightSource(name=name, face=face, irradiance=irradiance, band_wavelength=wl, band_fraction=frac, description=desc)
 
 
-def _parse_step(i: int, data, sources) -> Step:
+def _parse_step(i: int, data, sources, heat: "HeatSettings", previous: "Step | None") -> Step:
     t = _Table(data, f"protocol[{i}]")
     duration = t.quantity("duration", "time", lo=0.0, lo_open=True)
     label = t.string("label", default="")
+    hold = t.string("hold", default="free", choices=HOLDS)
+    hold_value = 0.0
+    if hold == "stretch":
+        hold_value = t.number("strain", lo=-0.5, hi=2.0)
+    elif hold == "bend":
+        if t.has("curvature") and t.has("mandrel_radius"):
+            raise ActsimInputError(f"protocol[{i}]: give curvature or mandrel_radius, not both")
+        if t.has("mandrel_radius"):
+            hold_value = 1.0 / t.quantity("mandrel_radius", "length", lo=0.0, lo_open=True)
+        else:
+            hold_value = t.quantity("curvature", "curvature")
+    elif hold == "release":
+        prev_hold = previous.hold if previous is not None else "free"
+        if prev_hold in ("free", "release"):
+            raise ActsimInputError(
+                f"protocol[{i}].hold: 'release' but the strip is not held in the step before (it is '{prev_hold}'); use 'free'"
+            )
+    for key in ("strain", "curvature", "mandrel_radius"):
+        if t.has(key) and key not in t.used:
+            raise ActsimInputError(f"protocol[{i}].{key}: only used with hold = 'stretch' (strain) or 'bend' (curvature, mandrel_radius)")
+    amb = t.quantity("ambient_temperature", "temperature", default=None, lo=0.0, lo_open=True)
+    h_top = t.quantity("top_heat_transfer", "heat_transfer_coefficient", default=None, lo=0.0)
+    h_bot = t.quantity("bottom_heat_transfer", "heat_transfer_coefficient", default=None, lo=0.0)
+    if (amb is not None or h_top is not None or h_bot is not None) and not heat.enabled:
+        raise ActsimInputError(f"protocol[{i}]: ambient_temperature / heat transfer given but the scenario has no [heat] section")
+    ambient = amb if amb is not None else (previous.ambient_top if previous is not None else heat.ambient_temperature)
+    from .thermal import linearised_radiation_coefficient
+
+    h_t = h_top if h_top is not None else heat.top_heat_transfer
+    h_b = h_bot if h_bot is not None else heat.bottom_heat_transfer
+    h_t += float(linearised_radiation_coefficient(emissivity=heat.top_emissivity, ambient_temperature=ambient))
+    h_b += float(linearised_radiation_coefficient(emissivity=heat.bottom_emissivity, ambient_temperature=ambient))
     names = [s.name for s in sources]
     irr = [0.0] * len(sources)
     lights = t.raw("light", default={})
@@ -368,7 +524,8 @@ def _parse_step(i: int, data, sources) -> Step:
             check_range(v, field=f"protocol[{i}].light.{key}", unit="W/m^2", lo=0.0, shown=repr(value))
             irr[j] = v
     t.finish()
-    return Step(duration=duration, irradiance=tuple(irr), label=label or f"step {i + 1}")
+    return Step(duration=duration, irradiance=tuple(irr), label=label or f"step {i + 1}", hold=hold,
+                hold_value=hold_value, ambient_bottom=ambient, ambient_top=ambient, h_bottom=h_b, h_top=h_t)
 
 
 def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | None = None) -> Scenario:
@@ -445,10 +602,32 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
     if dup:
         raise ActsimInputError(f"sources: name '{sorted(dup)[0]}' is used twice; names must be unique")
 
+    if top.has("heat"):
+        ht = top.table("heat")
+        ambient = ht.quantity("ambient_temperature", "temperature", default="20 degC", lo=0.0, lo_open=True)
+        heat = HeatSettings(
+            enabled=ht.boolean("enabled", default=True),
+            ambient_temperature=ambient,
+            reference_temperature=ht.quantity("reference_temperature", "temperature", default=ambient, lo=0.0, lo_open=True),
+            top_heat_transfer=ht.quantity("top_heat_transfer", "heat_transfer_coefficient", default="10 W/(m^2*K)", lo=0.0),
+            bottom_heat_transfer=ht.quantity("bottom_heat_transfer", "heat_transfer_coefficient", default="10 W/(m^2*K)", lo=0.0),
+            top_emissivity=ht.number("top_emissivity", default=0.0, lo=0.0, hi=1.0),
+            bottom_emissivity=ht.number("bottom_emissivity", default=0.0, lo=0.0, hi=1.0),
+            scheme=ht.string("scheme", default="tr-bdf2", choices=("tr-bdf2", "crank-nicolson")),
+        )
+        ht.finish()
+    else:
+        heat = HeatSettings(enabled=False)
+    for mname, mat in materials.items():
+        if mat.temperature_modulus is not None and not heat.enabled:
+            raise ActsimInputError(f"materials.{mname}: a temperature-dependent modulus needs a [heat] section")
+
     prot_raw = top.raw("protocol")
     if not isinstance(prot_raw, list) or not prot_raw:
         raise ActsimInputError("protocol: required list of [[protocol]] steps (each with a duration)")
-    protocol = [_parse_step(i, d, sources) for i, d in enumerate(prot_raw)]
+    protocol = []
+    for i, d in enumerate(prot_raw):
+        protocol.append(_parse_step(i, d, sources, heat, protocol[-1] if protocol else None))
 
     tt = top.table("time", default={})
     total = sum(s.duration for s in protocol)
@@ -491,7 +670,7 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
     top.finish()
     return Scenario(
         title=title, strip=strip, layers=tuple(layers), sources=tuple(sources), protocol=tuple(protocol),
-        optics=optics, output_interval=output_interval, time_step=time_step, text=text, path=str(path),
+        optics=optics, heat=heat, output_interval=output_interval, time_step=time_step, text=text, path=str(path),
         description=description, target_bend_angle=target, extras=extras,
     )
 

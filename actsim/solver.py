@@ -34,11 +34,29 @@ class Problem:
     alpha_bg: np.ndarray  # (n_cell, n_beam) 1/m
     phi_f: np.ndarray
     phi_b: np.ndarray
-    k_th: np.ndarray  # (n_cell,)
-    modulus_a: np.ndarray  # section modulus of reactant form (n_cell,)
-    modulus_b: np.ndarray
+    k_th: np.ndarray  # (n_cell,) thermal back rate at the reference temperature, 1/s
+    e_act: np.ndarray  # (n_cell,) activation energy of the back reaction, J/mol
+    heat_mode: int  # 0 off, 1 Crank–Nicolson, 2 TR-BDF2
+    k_cond: np.ndarray  # W/(m K)
+    rho_c: np.ndarray  # J/(m3 K)
+    heat_frac: np.ndarray
+    T_ref: float
+    mod_kind: np.ndarray  # 0 constant, 1 glass transition, 2 table
+    mod_base: np.ndarray  # reactant-form modulus (kind 0), Pa
+    mod_ratio: np.ndarray  # E_B/E_A
+    sec_fac: np.ndarray  # 1 or 1/(1-nu^2)
+    gl: np.ndarray  # (n_cell, 4) glassy, rubbery, Tg, width
+    tab_idx: np.ndarray
+    tab_T: np.ndarray  # (n_table, m) padded with +inf... see build_problem
+    tab_logE: np.ndarray
+    network_mod: np.ndarray  # section modulus of the full light network, Pa
     photo_strain: np.ndarray
+    alpha_th: np.ndarray  # 1/K
     x0: np.ndarray
+    T0: np.ndarray
+    step_hold: np.ndarray  # (n_step,) int codes of actsim._kernels
+    step_value: np.ndarray
+    step_env: np.ndarray  # (n_step, 4) T_amb_bottom, h_bottom, T_amb_top, h_top
     beam_source: np.ndarray
     beam_wavelength: np.ndarray
     beam_from_top: np.ndarray
@@ -117,10 +135,22 @@ def build_problem(scenario: Scenario) -> Problem:
     phi_f = np.zeros((n_cell, n_beam))
     phi_b = np.zeros((n_cell, n_beam))
     k_th = np.zeros(n_cell)
-    e_a = np.zeros(n_cell)
-    e_b = np.zeros(n_cell)
+    e_act = np.zeros(n_cell)
     strain = np.zeros(n_cell)
     x0 = np.zeros(n_cell)
+    k_cond = np.zeros(n_cell)
+    rho_c = np.zeros(n_cell)
+    heat_frac = np.zeros(n_cell)
+    alpha_th = np.zeros(n_cell)
+    mod_kind = np.zeros(n_cell, np.int64)
+    mod_base = np.zeros(n_cell)
+    mod_ratio = np.ones(n_cell)
+    sec_fac = np.ones(n_cell)
+    gl = np.ones((n_cell, 4))
+    tab_idx = np.zeros(n_cell, np.int64)
+    tables = []
+    network_mod = np.zeros(n_cell)
+    heat_on = scenario.heat.enabled
     max_tau = scenario.optics.max_cell_optical_depth
     for li, layer in enumerate(layers):
         m = layer.material
@@ -135,10 +165,26 @@ def build_problem(scenario: Scenario) -> Problem:
                 phi_f[sel] = m.forward_quantum_yield(beam_wl)
                 phi_b[sel] = m.backward_quantum_yield(beam_wl)
             k_th[sel] = m.thermal_back_rate
+            e_act[sel] = m.back_reaction_activation_energy if heat_on else 0.0
             strain[sel] = m.photo_strain
             x0[sel] = layer.initial_conversion
-        e_a[sel] = network.section_modulus(modulus=m.modulus, poisson_ratio=m.poisson_ratio, section=scenario.strip.section)
-        e_b[sel] = network.section_modulus(modulus=m.product_modulus, poisson_ratio=m.poisson_ratio, section=scenario.strip.section)
+        sec_fac[sel] = network.section_modulus(modulus=1.0, poisson_ratio=m.poisson_ratio, section=scenario.strip.section)
+        mod_ratio[sel] = m.product_modulus_ratio
+        law = m.temperature_modulus
+        if law is None:
+            mod_base[sel] = m.modulus
+        elif law[0] == "glass":
+            mod_kind[sel] = 1
+            gl[sel] = law[1:5]
+        else:
+            mod_kind[sel] = 2
+            tab_idx[sel] = len(tables)
+            tables.append((law[1], law[2]))
+        network_mod[sel] = sec_fac[sel] * m.network_modulus
+        k_cond[sel] = m.conductivity
+        rho_c[sel] = m.density * m.specific_heat
+        heat_frac[sel] = m.heat_fraction
+        alpha_th[sel] = m.thermal_expansion if heat_on else 0.0
         if n_beam:
             dzl = layer.thickness / layer.cells
             alpha_hi = optics.LN10 * c0[sel][0] * np.maximum(eps_a[sel][0], eps_b[sel][0]) + alpha_bg[sel][0]
@@ -155,6 +201,25 @@ def build_problem(scenario: Scenario) -> Problem:
                     f"use cells >= {need}"
                 )
 
+    # DMA-style tables, padded to one length by repeating the last point (the lookup clamps at the ends)
+    m_len = max([len(t[0]) for t in tables], default=1)
+    tab_T = np.zeros((max(len(tables), 1), m_len))
+    tab_logE = np.zeros((max(len(tables), 1), m_len))
+    for j, (tt, ee) in enumerate(tables):
+        pad = m_len - len(tt)
+        tab_T[j] = np.concatenate([tt, tt[-1] + np.arange(1, pad + 1)])
+        tab_logE[j] = np.log(np.concatenate([ee, np.full(pad, ee[-1])]))
+
+    from ._kernels import HEAT_CN, HEAT_OFF, HEAT_TRBDF2, HOLD_BEND, HOLD_FLAT, HOLD_FREE, HOLD_STRETCH
+
+    hold_codes = {"free": HOLD_FREE, "release": HOLD_FREE, "stretch": HOLD_STRETCH, "bend": HOLD_BEND, "flat": HOLD_FLAT}
+    step_hold = np.array([hold_codes[st.hold] for st in scenario.protocol], np.int64)
+    step_value = np.array([st.hold_value for st in scenario.protocol], float)
+    step_env = np.array([[st.ambient_bottom, st.h_bottom, st.ambient_top, st.h_top] for st in scenario.protocol], float)
+    heat_mode = HEAT_OFF if not heat_on else (HEAT_CN if scenario.heat.scheme == "crank-nicolson" else HEAT_TRBDF2)
+    T_ref = scenario.heat.reference_temperature if heat_on else scenario.heat.ambient_temperature
+    T0 = np.full(n_cell, scenario.protocol[0].ambient_top if heat_on else T_ref)
+
     seg_step, seg_dt, seg_n, times = _schedule(scenario)
     step_irr = np.array([s.irradiance for s in scenario.protocol], float).reshape(len(scenario.protocol), len(scenario.sources))
     step_flux = np.zeros((len(scenario.protocol), n_beam))
@@ -162,35 +227,79 @@ def build_problem(scenario: Scenario) -> Problem:
         step_flux[:, b] = photon_flux(irradiance=step_irr[:, beam_source[b]] * beam_frac[b], wavelength=beam_wl[b])
     return Problem(
         z_edges=z_edges, dz=dz, layer_index=layer_index, c0=c0, eps_a=eps_a, eps_b=eps_b, alpha_bg=alpha_bg,
-        phi_f=phi_f, phi_b=phi_b, k_th=k_th, modulus_a=e_a, modulus_b=e_b, photo_strain=strain, x0=x0,
+        phi_f=phi_f, phi_b=phi_b, k_th=k_th, e_act=e_act, heat_mode=heat_mode, k_cond=k_cond, rho_c=rho_c,
+        heat_frac=heat_frac, T_ref=T_ref, mod_kind=mod_kind, mod_base=mod_base, mod_ratio=mod_ratio, sec_fac=sec_fac,
+        gl=gl, tab_idx=tab_idx, tab_T=tab_T, tab_logE=tab_logE, network_mod=network_mod, photo_strain=strain,
+        alpha_th=alpha_th, x0=x0, T0=T0, step_hold=step_hold, step_value=step_value, step_env=step_env,
         beam_source=beam_source, beam_wavelength=beam_wl, beam_from_top=from_top, beam_entry=entry,
         beam_emol=molar_photon_energy(beam_wl) if n_beam else np.zeros(0), step_flux=step_flux,
         step_irradiance=step_irr, seg_step=seg_step, seg_dt=seg_dt, seg_n=seg_n, times=times,
     )
 
 
+FIELDS = ("x", "T", "S", "E", "Ee", "irr", "pabs")
+
+
 def _allocate(p: Problem):
     n_out, n_cell = p.times.size, p.dz.size
-    return np.zeros((n_out, n_cell)), np.zeros((n_out, n_cell)), np.zeros((n_out, n_cell)), np.zeros((n_out, 4))
+    out = {name: np.zeros((n_out, n_cell)) for name in FIELDS}
+    out["mech"] = np.zeros((n_out, 4))
+    out["budget"] = np.zeros((n_out, 4))
+    return out
 
 
-def run_kernel(p: Problem):
-    """Run the numba time loop; returns conversion, irradiance, absorbed power density, photon budget."""
-    from ._kernels import run_optics_kinetics
+def run_kernel(p: Problem) -> dict:
+    """Run the numba time loop; returns the raw output arrays (see :data:`FIELDS`)."""
+    from ._kernels import run_design
 
-    out_x, out_irr, out_pabs, out_budget = _allocate(p)
-    bad = run_optics_kinetics(
-        p.dz, p.c0, p.eps_a, p.eps_b, p.alpha_bg, p.phi_f, p.phi_b, p.k_th, p.beam_from_top, p.beam_entry,
-        p.beam_emol, p.step_flux, p.seg_step, p.seg_dt, p.seg_n, p.x0, out_x, out_irr, out_pabs, out_budget,
+    o = _allocate(p)
+    bad = run_design(
+        p.z_edges, p.dz, p.c0, p.eps_a, p.eps_b, p.alpha_bg, p.phi_f, p.phi_b, p.k_th, p.e_act, p.beam_from_top,
+        p.beam_entry, p.beam_emol, p.heat_mode, p.k_cond, p.rho_c, p.heat_frac, p.T_ref,
+        p.mod_kind, p.mod_base, p.mod_ratio, p.sec_fac, p.gl, p.tab_idx, p.tab_T, p.tab_logE, p.network_mod,
+        p.photo_strain, p.alpha_th, p.step_flux, p.step_hold, p.step_value, p.step_env, p.seg_step, p.seg_dt,
+        p.seg_n, p.x0, p.T0,
+        o["x"], o["T"], o["S"], o["E"], o["Ee"], o["mech"], o["irr"], o["pabs"], o["budget"],
     )
     if bad >= 0:
-        raise ActsimSimulationError(f"non-finite conversion at t = {p.times[bad + 1]:g} s; nothing was written")
-    return out_x, out_irr, out_pabs, out_budget
+        raise ActsimSimulationError(
+            f"non-finite state at t = {p.times[bad + 1]:g} s (step {p.seg_step[bad] + 1}); nothing was written. "
+            "Check for a runaway temperature or an extreme load"
+        )
+    return o
 
 
-def run_reference(p: Problem):
-    """The same time loop written with the readable stage functions (slow; for tests)."""
-    out_x, out_irr, out_pabs, out_budget = _allocate(p)
+_HOLD_NAMES = {0: "free", 1: "stretch", 2: "bend", 3: "flat"}
+
+
+def _primary_modulus(p: Problem, x, T):
+    """E_p of every cell from the readable material laws (network.conversion_modulus, thermal laws)."""
+    from . import thermal
+
+    base = p.mod_base.copy()
+    g = p.mod_kind == 1
+    if g.any():
+        base[g] = thermal.glass_transition_modulus(
+            temperature=T[g], glassy_modulus=p.gl[g, 0], rubbery_modulus=p.gl[g, 1],
+            glass_transition_temperature=p.gl[g, 2], transition_width=p.gl[g, 3],
+        )
+    for i in np.nonzero(p.mod_kind == 2)[0]:
+        j = p.tab_idx[i]
+        base[i] = thermal.tabulated_modulus(temperature=T[i], table_T=p.tab_T[j], table_E=np.exp(p.tab_logE[j]))
+    return p.sec_fac * network.conversion_modulus(conversion=x, reactant_modulus=base, product_modulus=base * p.mod_ratio)
+
+
+def run_reference(p: Problem) -> dict:
+    """The same time loop written with the readable stage functions (slow; for tests).
+
+    Heat uses :func:`actsim.thermal.theta_step_reference` for Crank–Nicolson;
+    for TR-BDF2 it calls the tested numba step (there is no separate readable
+    TR-BDF2).
+    """
+    from . import thermal
+
+    o = _allocate(p)
+    R = 8.314462618
 
     def light(x, q):
         _, _, alpha = optics.absorption_coefficients(
@@ -198,31 +307,84 @@ def run_reference(p: Problem):
         )
         return optics.light_field(alpha=alpha, dz=p.dz, surface_flux=q, entry_transmission=p.beam_entry, from_top=p.beam_from_top)
 
-    def rate(mf):
+    def rate(mf, T):
+        k_th = np.where((p.e_act != 0) & (p.k_th != 0), p.k_th * np.exp(-p.e_act / R * (1 / T - 1 / p.T_ref)), p.k_th)
         return kinetics.photoreaction_rates(
             mean_flux=mf, epsilon10_reactant=p.eps_a, epsilon10_product=p.eps_b, forward_yield=p.phi_f,
-            backward_yield=p.phi_b, thermal_rate=p.k_th,
+            backward_yield=p.phi_b, thermal_rate=k_th,
         )
 
-    def store(slot, x, q):
-        mf, ab, tr = light(x, q)
-        out_x[slot] = x
-        out_irr[slot] = mf @ p.beam_emol
-        out_pabs[slot] = (ab @ p.beam_emol) / p.dz
-        out_budget[slot] = [q.sum(), (q * (1 - p.beam_entry)).sum(), ab.sum(), tr.sum()]
+    def state(x, T, S):
+        return network.two_network_state(
+            conversion=x, temperature=T, network_strain=S, primary_modulus=_primary_modulus(p, x, T),
+            network_modulus=p.network_mod, photo_strain=p.photo_strain, thermal_expansion=p.alpha_th,
+            reference_temperature=p.T_ref,
+        )
 
-    x = p.x0.copy()
-    store(0, x, p.step_flux[p.seg_step[0]])
+    def mech(x, T, S, step):
+        E, Ee = state(x, T, S)
+        r = mechanics.held_strip_response(z_edges=p.z_edges, modulus=E, eigenstrain=Ee / E,
+                                          hold=_HOLD_NAMES[int(p.step_hold[step])], value=p.step_value[step])
+        return E, Ee, r
+
+    zc = 0.5 * (p.z_edges[1:] + p.z_edges[:-1])
+
+    def heat_power(ab):
+        return p.heat_frac * (ab @ p.beam_emol) / p.dz
+
+    def store(slot, x, T, S, step):
+        q = p.step_flux[step]
+        mf, ab, tr = light(x, q)
+        E, Ee, r = mech(x, T, S, step)
+        for name, val in (("x", x), ("T", T), ("S", S), ("E", E), ("Ee", Ee)):
+            o[name][slot] = val
+        o["irr"][slot] = mf @ p.beam_emol
+        o["pabs"][slot] = (ab @ p.beam_emol) / p.dz
+        o["mech"][slot] = r
+        o["budget"][slot] = [q.sum(), (q * (1 - p.beam_entry)).sum(), ab.sum(), tr.sum()]
+
+    has_network = bool(np.any(p.network_mod > 0))
+    x, T, S = p.x0.copy(), p.T0.copy(), np.zeros_like(p.x0)
+    store(0, x, T, S, p.seg_step[0])
+    work = thermal.make_work(p.dz.size)
     for s in range(p.seg_step.size):
-        q = p.step_flux[p.seg_step[s]]
+        st = p.seg_step[s]
+        q = p.step_flux[st]
+        tb, hb, tt, ht = p.step_env[st]
         dt = p.seg_dt[s]
+        if has_network:
+            _, _, r = mech(x, T, S, st)
+            e_start = r[0] - r[1] * zc
         for _ in range(p.seg_n[s]):
-            kf0, kb0 = rate(light(x, q)[0])
+            mf, ab, _ = light(x, q)
+            kf0, kb0 = rate(mf, T)
             xp = kinetics.exact_first_order_update(conversion=x, k_forward=kf0, k_backward=kb0, dt=dt)
-            kf1, kb1 = rate(light(xp, q)[0])
-            x = kinetics.exact_first_order_update(conversion=x, k_forward=0.5 * (kf0 + kf1), k_backward=0.5 * (kb0 + kb1), dt=dt)
-        store(s + 1, x, q)
-    return out_x, out_irr, out_pabs, out_budget
+            mf1, ab1, _ = light(xp, q)
+            if p.heat_mode == 1:
+                Tn = thermal.theta_step_reference(
+                    temperature=T, dz=p.dz, conductivity=p.k_cond, volumetric_heat_capacity=p.rho_c,
+                    source_old=heat_power(ab), source_new=heat_power(ab1), dt=dt, h_bottom=hb, ambient_bottom=tb,
+                    h_top=ht, ambient_top=tt, theta=0.5,
+                )
+            elif p.heat_mode == 2:
+                Tn = np.empty_like(T)
+                thermal.trbdf2_step(T, p.dz, p.k_cond, p.rho_c, heat_power(ab), heat_power(ab1), dt, hb, tb, ht, tt, work, Tn)
+            else:
+                Tn = T
+            kf1, kb1 = rate(mf1, Tn)
+            xn = kinetics.exact_first_order_update(conversion=x, k_forward=0.5 * (kf0 + kf1), k_backward=0.5 * (kb0 + kb1), dt=dt)
+            if has_network:
+                on = p.network_mod > 0
+                Sp = np.where(on, network.update_network_strain(network_strain=S, conversion_old=x, conversion_new=xn, strain=e_start), S)
+                _, _, r = mech(xn, Tn, Sp, st)
+                e_end = r[0] - r[1] * zc
+                S = np.where(on, network.update_network_strain(network_strain=S, conversion_old=x, conversion_new=xn,
+                                                               strain=0.5 * (e_start + e_end)), S)
+                _, _, r = mech(xn, Tn, S, st)
+                e_start = r[0] - r[1] * zc
+            x, T = xn, Tn
+        store(s + 1, x, T, S, st)
+    return o
 
 
 def _var(dims, data, units, long_name, **extra):
@@ -244,21 +406,23 @@ def simulate(scenario: Scenario, *, engine: str = "kernel") -> xr.Dataset:
     xarray.Dataset
         Coordinates ``time`` [s] and ``z`` [m, cell centres]; (time, z) fields
         ``irradiance``, ``conversion``, ``eigenstrain``, ``modulus``, ``stress``,
-        ``absorbed_power``; (time,) strip response ``curvature``, ``bend_angle``,
-        ``tip_deflection``, ``tip_position_x``, ``axial_strain``,
-        ``blocked_moment``, ``blocked_force``, photon budget and optical dose.
-        Attributes hold the scenario text and the actsim version.
+        ``absorbed_power`` (and ``temperature``, ``network_density``,
+        ``network_strain`` where modelled); (time,) strip response
+        ``curvature``, ``bend_angle``, ``tip_deflection``, ``tip_position_x``,
+        ``axial_strain``, ``blocked_moment``, ``blocked_force``, holding force
+        and moment, photon budget and optical dose. Attributes hold the
+        scenario text and the actsim version.
     """
     from . import __version__
 
     p = build_problem(scenario)
     if engine == "kernel":
-        x, irr, pabs, budget = run_kernel(p)
+        o = run_kernel(p)
     elif engine == "reference":
-        x, irr, pabs, budget = run_reference(p)
+        o = run_reference(p)
     else:
         raise ActsimInputError(f"engine: '{engine}' is not one of 'kernel', 'reference'")
-    ds = assemble_dataset(scenario, p, x, irr, pabs, budget)
+    ds = assemble_dataset(scenario, p, o)
     ds.attrs.update(
         title=scenario.title,
         scenario=scenario.text,
@@ -269,21 +433,26 @@ def simulate(scenario: Scenario, *, engine: str = "kernel") -> xr.Dataset:
         thickness=scenario.thickness,
         free_length=scenario.strip.free_length,
         width=scenario.strip.width,
+        heat_modelled=int(scenario.heat.enabled),
     )
     return ds
 
 
-def assemble_dataset(scenario: Scenario, p: Problem, x, irr, pabs, budget) -> xr.Dataset:
+def assemble_dataset(scenario: Scenario, p: Problem, o: dict) -> xr.Dataset:
     """Mechanics on every output time, and the labelled result."""
+    from .metrics import conversion_front_depth
+
     strip = scenario.strip
-    modulus = network.conversion_modulus(conversion=x, reactant_modulus=p.modulus_a, product_modulus=p.modulus_b)
-    e_star = network.photo_eigenstrain(conversion=x, photo_strain=p.photo_strain)
-    e0, kappa, d_eff = mechanics.free_strip_response(z_edges=p.z_edges, modulus=modulus, eigenstrain=e_star)
+    x, E, Ee = o["x"], o["E"], o["Ee"]
+    e_star = Ee / E
+    e0, kappa, n_hold, m_hold = o["mech"].T
+    _, kappa_free, d_eff = mechanics.free_strip_response(z_edges=p.z_edges, modulus=E, eigenstrain=e_star)
     z_c = 0.5 * (p.z_edges[:-1] + p.z_edges[1:])
-    stress = mechanics.stress_profile(z_centres=z_c, modulus=modulus, eigenstrain=e_star, strain_bottom=e0, curvature=kappa)
+    stress = mechanics.stress_profile(z_centres=z_c, modulus=E, eigenstrain=e_star, strain_bottom=e0, curvature=kappa)
     x_tip, y_tip = mechanics.arc_tip_position(curvature=kappa, free_length=strip.free_length)
-    m_block = mechanics.blocked_moment(bending_stiffness=d_eff, curvature=kappa, width=strip.width)
-    f_block = mechanics.blocked_tip_force(bending_stiffness=d_eff, curvature=kappa, width=strip.width, free_length=strip.free_length)
+    m_block = mechanics.blocked_moment(bending_stiffness=d_eff, curvature=kappa_free, width=strip.width)
+    f_block = mechanics.blocked_tip_force(bending_stiffness=d_eff, curvature=kappa_free, width=strip.width,
+                                          free_length=strip.free_length)
     h = scenario.thickness
     times = p.times
     step_of_time = np.concatenate([[p.seg_step[0]], p.seg_step])
@@ -291,43 +460,64 @@ def assemble_dataset(scenario: Scenario, p: Problem, x, irr, pabs, budget) -> xr
     # Incident power is piecewise constant per segment: integrate exactly.
     seg_power = p.step_irradiance.sum(axis=1)[p.seg_step]
     dose = np.concatenate([[0.0], np.cumsum(seg_power * np.diff(times))])
-    for name, arr in (("conversion", x), ("curvature", kappa), ("stress", stress)):
+    for name, arr in (("conversion", x), ("temperature", o["T"]), ("curvature", kappa), ("stress", stress)):
         if not np.all(np.isfinite(arr)):
             raise ActsimSimulationError(f"non-finite {name} in the result; nothing was written")
     layer_names = np.array([scenario.layers[i].name for i in p.layer_index])
-    from .metrics import conversion_front_depth
-
     lit_from_top = not scenario.sources or scenario.sources[0].face == "top"
     front = conversion_front_depth(z=z_c, conversion=x, thickness=h, from_top=lit_from_top, active=p.c0 > 0, dz=p.dz)
-    ds = xr.Dataset(
-        data_vars={
-            "irradiance": _var(("time", "z"), irr, "W m-2", "cell-mean irradiance (all bands)"),
-            "conversion": _var(("time", "z"), x, "1", "fraction of chromophore in the product form"),
-            "eigenstrain": _var(("time", "z"), e_star, "1", "photo-induced eigenstrain along the strip"),
-            "modulus": _var(("time", "z"), modulus, "Pa", f"section modulus ({'plane strain' if strip.section == 'plate' else 'plane stress'})"),
-            "stress": _var(("time", "z"), stress, "Pa", "axial stress at cell centres, free strip"),
-            "absorbed_power": _var(("time", "z"), pabs, "W m-3", "absorbed optical power density"),
-            "curvature": _var(("time",), kappa, "m-1", "curvature (positive bends toward +z)"),
-            "bend_angle": _var(("time",), kappa * strip.free_length, "rad", "tip rotation of the free length"),
-            "tip_deflection": _var(("time",), y_tip, "m", "tip travel normal to the clamped tangent (toward +z)"),
-            "tip_position_x": _var(("time",), x_tip, "m", "tip position along the clamped tangent"),
-            "axial_strain": _var(("time",), e0 - kappa * 0.5 * h, "1", "axial strain at the mid-thickness"),
-            "bending_stiffness": _var(("time",), strip.width * d_eff, "N m2", "bending stiffness EI about the neutral axis"),
-            "blocked_moment": _var(("time",), m_block, "N m", "moment that holds the strip flat"),
-            "blocked_force": _var(("time",), f_block, "N", "tip force that holds the tip in place (free rotation, small deflection)"),
-            "photon_flux_incident": _var(("time",), budget[:, 0], "mol m-2 s-1", "incident photon flux (all sources)"),
-            "photon_flux_reflected": _var(("time",), budget[:, 1], "mol m-2 s-1", "photon flux reflected at the entry faces"),
-            "photon_flux_absorbed": _var(("time",), budget[:, 2], "mol m-2 s-1", "photon flux absorbed in the stack"),
-            "photon_flux_transmitted": _var(("time",), budget[:, 3], "mol m-2 s-1", "photon flux leaving through the far faces"),
-            "conversion_front_depth": _var(("time",), front, "m", f"depth below the {'top' if lit_from_top else 'bottom'} face where conversion falls to half its maximum"),
-            "incident_irradiance": _var(("time",), incident_power, "W m-2", "total incident irradiance of the sources on"),
-            "optical_dose": _var(("time",), dose, "J m-2", "incident radiant exposure since t = 0"),
-            "protocol_step": _var(("time",), step_of_time.astype(np.int32), "1", "index of the protocol step (0-based) that ends at or contains this time"),
-        },
+    b, L = strip.width, strip.free_length
+    section = "plane strain" if strip.section == "plate" else "plane stress"
+    hold_names = np.array([scenario.protocol[i].hold for i in step_of_time])
+    data_vars = {
+        "irradiance": _var(("time", "z"), o["irr"], "W m-2", "cell-mean irradiance (all bands)"),
+        "conversion": _var(("time", "z"), x, "1", "fraction of chromophore in the product form"),
+        "eigenstrain": _var(("time", "z"), e_star, "1", "effective eigenstrain along the strip (photo, thermal, network)"),
+        "modulus": _var(("time", "z"), E, "Pa", f"effective section modulus ({section})"),
+        "stress": _var(("time", "z"), stress, "Pa", "axial stress at cell centres"),
+        "absorbed_power": _var(("time", "z"), o["pabs"], "W m-3", "absorbed optical power density"),
+        "curvature": _var(("time",), kappa, "m-1", "curvature (positive bends toward +z)"),
+        "free_curvature": _var(("time",), kappa_free, "m-1", "curvature the strip takes when free at this state"),
+        "bend_angle": _var(("time",), kappa * L, "rad", "tip rotation of the free length"),
+        "tip_deflection": _var(("time",), y_tip, "m", "tip travel normal to the clamped tangent (toward +z)"),
+        "tip_position_x": _var(("time",), x_tip, "m", "tip position along the clamped tangent"),
+        "axial_strain": _var(("time",), e0 - kappa * 0.5 * h, "1", "axial strain at the mid-thickness"),
+        "bending_stiffness": _var(("time",), b * d_eff, "N m2", "bending stiffness EI about the neutral axis"),
+        "blocked_moment": _var(("time",), m_block, "N m", "moment that holds the strip flat"),
+        "blocked_force": _var(("time",), f_block, "N", "tip force that holds the tip in place (free rotation, small deflection)"),
+        "holding_force": _var(("time",), b * n_hold, "N", "axial force the grips apply (zero when free)"),
+        "holding_moment": _var(("time",), b * (m_hold - n_hold * 0.5 * h), "N m", "moment the grips or mandrel apply about the mid-thickness"),
+        "photon_flux_incident": _var(("time",), o["budget"][:, 0], "mol m-2 s-1", "incident photon flux (all sources)"),
+        "photon_flux_reflected": _var(("time",), o["budget"][:, 1], "mol m-2 s-1", "photon flux reflected at the entry faces"),
+        "photon_flux_absorbed": _var(("time",), o["budget"][:, 2], "mol m-2 s-1", "photon flux absorbed in the stack"),
+        "photon_flux_transmitted": _var(("time",), o["budget"][:, 3], "mol m-2 s-1", "photon flux leaving through the far faces"),
+        "conversion_front_depth": _var(("time",), front, "m", f"depth below the {'top' if lit_from_top else 'bottom'} face where conversion falls to half its maximum"),
+        "incident_irradiance": _var(("time",), incident_power, "W m-2", "total incident irradiance of the sources on"),
+        "optical_dose": _var(("time",), dose, "J m-2", "incident radiant exposure since t = 0"),
+        "protocol_step": _var(("time",), step_of_time.astype(np.int32), "1", "index of the protocol step (0-based) that ends at or contains this time"),
+        "hold": _var(("time",), hold_names, "1", "mechanical condition of that protocol step"),
+    }
+    if scenario.heat.enabled:
+        from .thermal import face_temperatures
+
+        T = o["T"]
+        env = p.step_env[step_of_time]  # T_amb_bottom, h_bottom, T_amb_top, h_top
+        faces = np.array([face_temperatures(T[i], p.dz, p.k_cond, env[i, 1], env[i, 0], env[i, 3], env[i, 2])
+                          for i in range(times.size)])
+        data_vars["temperature"] = _var(("time", "z"), T, "K", "temperature")
+        data_vars["peak_temperature"] = _var(("time",), T.max(axis=1), "K", "highest cell temperature")
+        data_vars["surface_temperature_bottom"] = _var(("time",), faces[:, 0], "K", "temperature of the bottom face")
+        data_vars["surface_temperature_top"] = _var(("time",), faces[:, 1], "K", "temperature of the top face")
+        data_vars["absorbed_power_total"] = _var(("time",), (o["pabs"] * p.dz).sum(axis=1), "W m-2", "absorbed optical power per unit area")
+    if np.any(p.network_mod > 0):
+        on = p.network_mod > 0
+        data_vars["network_density"] = _var(("time", "z"), np.where(on, x, 0.0), "1", "density of the light-formed network (1 = fully formed)")
+        data_vars["network_strain"] = _var(("time", "z"), o["S"], "1", "network-weighted strain the light-formed network remembers")
+    return xr.Dataset(
+        data_vars=data_vars,
         coords={
             "time": _var(("time",), times, "s", "time since the start of the protocol"),
             "z": _var(("z",), z_c, "m", "height of the cell centre above the bottom face"),
             "layer": _var(("z",), layer_names, "1", "layer of the cell"),
         },
     )
-    return ds

@@ -23,6 +23,7 @@ SI_UNITS = {
     "length": ("m", "0.2 mm"),
     "time": ("s", "30 s"),
     "temperature": ("K", "25 degC"),
+    "temperature_difference": ("K", "8 K"),
     "pressure": ("Pa", "2 GPa"),
     "irradiance": ("W/m^2", "50 mW/cm^2"),
     "concentration": ("mol/m^3", "0.5 mol/L"),
