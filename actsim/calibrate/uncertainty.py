@@ -1,0 +1,361 @@
+"""Carry a calibration's uncertainty into predictions: draw parameters, simulate, take bands.
+
+The fitted parameters of a scenario's ``[calibration]`` section are treated as multivariate
+normal with the fit's covariance (the linear approximation of the fit,
+:mod:`actsim.calibrate.fitstats`). Each draw is written into the scenario with
+:func:`actsim.scenario.apply_overrides` and simulated; the 5, 50 and 95 % quantiles over the
+draws at each output time form the prediction bands of bend angle, blocked force and (when the
+scenario models heat) peak temperature.
+
+Draws outside the parameters' bounds (the physical ranges the fit used) are rejected and
+redrawn; after 20 rounds any still outside are clipped to the bounds. Both counts are reported.
+The bands express parameter uncertainty only (not model error, nor the scatter of a new
+measurement about the model).
+
+References
+----------
+.. [1] JCGM 101:2008, *Evaluation of measurement data — Supplement 1 to the "Guide to the
+   expression of uncertainty in measurement" — Propagation of distributions using a Monte Carlo
+   method*, BIPM, 2008.
+.. [2] D. M. Bates and D. G. Watts, *Nonlinear Regression Analysis and Its Applications*,
+   Wiley, 1988.
+"""
+
+from __future__ import annotations
+
+import os
+import sys
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+import xarray as xr
+
+from ..errors import ActsimError, ActsimInputError
+
+__all__ = ["UncertaintyResult", "draw_parameters", "prediction_bands", "run_uncertainty", "QUANTILES"]
+
+#: Quantiles of the prediction bands [1].
+QUANTILES = (0.05, 0.5, 0.95)
+#: (time,) outputs that get bands: name -> (unit, long name).
+BANDED = {
+    "bend_angle": ("rad", "tip rotation of the free length"),
+    "blocked_force": ("N", "tip force that holds the tip in place"),
+    "peak_temperature": ("K", "highest temperature in the stack"),
+}
+_ROUNDS = 20
+
+
+@dataclass
+class UncertaintyResult:
+    """Bands, draws and what was written.
+
+    Attributes
+    ----------
+    dataset : xarray.Dataset
+        ``<var>_p05``, ``<var>_p50``, ``<var>_p95`` and ``<var>_nominal`` against ``time``;
+        ``parameter_draws`` (draw, parameter); ``bend_angle_draws`` (draw, time).
+    n_draws, n_rejected, n_clipped, n_failed : int
+        Accepted draws simulated; draws rejected as outside the bounds (then redrawn); draws
+        clipped to the bounds; draws whose simulation failed (left out).
+    files : list of pathlib.Path
+    messages : list of str
+    """
+
+    dataset: xr.Dataset
+    n_draws: int
+    n_rejected: int = 0
+    n_clipped: int = 0
+    n_failed: int = 0
+    files: list = field(default_factory=list)
+    messages: list = field(default_factory=list)
+
+
+def _calibration(scenario):
+    cal = (getattr(scenario, "extras", None) or {}).get("calibration")
+    if cal is None:
+        raise ActsimInputError("calibration: the scenario has no [calibration] section; --uncertainty needs the "
+                               "fitted parameters and their covariance, which 'actsim fit bend' writes into "
+                               "OUT/fitted.toml")
+    return cal
+
+
+def draw_parameters(calibration, *, n_draws, seed=0):
+    """Draw parameter sets from the calibration's multivariate normal, kept within the bounds.
+
+    Parameters
+    ----------
+    calibration : Calibration
+        Parsed ``[calibration]`` section (values, covariance, lower, upper in SI).
+    n_draws : int
+        Number of parameter sets [1].
+    seed : int
+        Seed of :func:`numpy.random.default_rng`.
+
+    Returns
+    -------
+    draws : numpy.ndarray, shape (n_draws, n_parameters)
+        [SI units of the parameters].
+    n_rejected : int
+        Draws outside the bounds that were redrawn.
+    n_clipped : int
+        Draws still outside after the last round, clipped onto the bounds.
+
+    Notes
+    -----
+    .. math::
+
+        p^{(k)} \\sim \\mathcal N(\\hat p, C), \\quad \\text{accepted if } l \\le p^{(k)} \\le u
+
+    References
+    ----------
+    .. [1] JCGM 101:2008, section 6.4.8 (multivariate Gaussian distribution).
+    """
+    if isinstance(n_draws, bool) or not isinstance(n_draws, (int, np.integer)) or n_draws < 2:
+        raise ActsimInputError(f"n_draws: {n_draws!r} is outside the allowed range (whole number >= 2)")
+    rng = np.random.default_rng(seed)
+    mean = calibration.values
+    cov = calibration.covariance
+    lo, hi = calibration.lower, calibration.upper
+    out = np.empty((0, mean.size))
+    rejected = 0
+    for _ in range(_ROUNDS):
+        need = n_draws - out.shape[0]
+        if need <= 0:
+            break
+        d = rng.multivariate_normal(mean, cov, size=need, method="eigh")
+        ok = np.all((d >= lo) & (d <= hi), axis=1)
+        rejected += int(np.count_nonzero(~ok))
+        out = np.vstack([out, d[ok]])
+    clipped = 0
+    need = n_draws - out.shape[0]
+    if need > 0:
+        d = rng.multivariate_normal(mean, cov, size=need, method="eigh")
+        clipped = need
+        out = np.vstack([out, np.clip(d, lo, hi)])
+    return out[:n_draws], rejected, clipped
+
+
+def _progress(total, desc):
+    from tqdm import tqdm
+
+    disable = (not sys.stderr.isatty()) or bool(os.environ.get("CI"))
+    return tqdm(total=total, desc=desc, unit="run", disable=disable, leave=False)
+
+
+def prediction_bands(scenario, *, n_draws, seed=0, calibration=None, engine="kernel") -> UncertaintyResult:
+    """Simulate draws from the calibration and return the 5/50/95 % bands (nothing written).
+
+    Parameters
+    ----------
+    scenario : Scenario
+        A scenario with a ``[calibration]`` section (or pass ``calibration``).
+    n_draws : int
+        Number of parameter draws [1].
+    seed : int
+        Random seed.
+    calibration : Calibration, optional
+        Use this instead of the scenario's own section.
+    engine : str
+        Simulator engine.
+
+    Returns
+    -------
+    UncertaintyResult
+
+    Notes
+    -----
+    The band at time :math:`t` is the empirical quantile :math:`Q_q` of the draws,
+
+    .. math::
+
+        \\theta_q(t) = Q_q\\{\\theta(t;\\,p^{(k)})\\}_{k=1..N}, \\quad q \\in \\{0.05, 0.5, 0.95\\}
+
+    References
+    ----------
+    .. [1] JCGM 101:2008, sections 7.5-7.7 (Monte Carlo propagation, coverage intervals).
+    """
+    from ..scenario import apply_overrides
+    from ..solver import simulate
+
+    cal = calibration if calibration is not None else _calibration(scenario)
+    draws, n_rej, n_clip = draw_parameters(cal, n_draws=n_draws, seed=seed)
+    nominal = simulate(scenario, engine=engine)
+    t = nominal["time"].values
+    names = [v for v in BANDED if v in nominal]
+    samples = {v: [] for v in names}
+    kept, failed = [], 0
+    with _progress(len(draws), "uncertainty") as bar:
+        for d in draws:
+            ov = {p.path: p.override(v) for p, v in zip(cal.parameters, d)}
+            try:
+                ds = simulate(apply_overrides(scenario, ov), engine=engine)
+            except ActsimError:
+                failed += 1
+                bar.update(1)
+                continue
+            tt = ds["time"].values
+            for v in names:
+                y = ds[v].values
+                samples[v].append(y if tt.size == t.size and np.allclose(tt, t) else np.interp(t, tt, y))
+            kept.append(d)
+            bar.update(1)
+    if len(kept) < 2:
+        raise ActsimInputError(f"uncertainty: only {len(kept)} of {len(draws)} draws could be simulated; "
+                               "check the [calibration] bounds")
+    data_vars = {}
+    for v in names:
+        unit = nominal[v].attrs.get("units", BANDED[v][0])
+        arr = np.asarray(samples[v])
+        qs = np.quantile(arr, QUANTILES, axis=0)
+        for q, row in zip(QUANTILES, qs):
+            data_vars[f"{v}_p{round(100 * q):02d}"] = (("time",), row, {
+                "units": unit, "long_name": f"{100 * q:g} % quantile of {BANDED[v][1]} over the parameter draws"})
+        data_vars[f"{v}_nominal"] = (("time",), nominal[v].values, {
+            "units": unit, "long_name": f"{BANDED[v][1]} at the fitted values"})
+    data_vars["bend_angle_draws"] = (("draw", "time"), np.asarray(samples["bend_angle"]),
+                                     {"units": "rad", "long_name": "bend angle of each accepted draw"})
+    data_vars["parameter_draws"] = (("draw", "parameter"), np.asarray(kept),
+                                    {"units": "SI, see parameter_unit", "long_name": "parameter values of each draw"})
+    ds = xr.Dataset(
+        data_vars=data_vars,
+        coords={
+            "time": ("time", t, {"units": "s", "long_name": "time since the start of the protocol"}),
+            "parameter": ("parameter", [p.path for p in cal.parameters], {"long_name": "scenario field path"}),
+            "parameter_unit": ("parameter", [p.unit for p in cal.parameters], {"long_name": "SI unit"}),
+        },
+        attrs={
+            "title": f"prediction bands: {scenario.title}",
+            "scenario": scenario.text,
+            "n_draws": int(len(kept)),
+            "n_rejected": int(n_rej),
+            "n_clipped": int(n_clip),
+            "n_failed": int(failed),
+            "seed": int(seed),
+            "quantiles": list(QUANTILES),
+            "method": "Monte Carlo propagation of the [calibration] covariance (multivariate normal, bounded)",
+            "note": "bands reflect parameter uncertainty only, not model error or measurement scatter",
+        },
+    )
+    msgs = [f"{len(kept)} draws simulated; {n_rej} rejected outside the bounds and redrawn, "
+            f"{n_clip} clipped onto the bounds, {failed} failed"]
+    if "peak_temperature" not in names:
+        msgs.append("temperature is not modelled in this scenario; no peak-temperature band")
+    return UncertaintyResult(dataset=ds, n_draws=len(kept), n_rejected=n_rej, n_clipped=n_clip, n_failed=failed,
+                             messages=msgs)
+
+
+def _measured(cal):
+    """Measured curves named by the calibration section: list of (label, t [s], theta [rad])."""
+    from .readers import read_xy_csv
+
+    out, notes = [], []
+    for d in cal.data:
+        if d.file is None:
+            continue
+        try:
+            xy = read_xy_csv(d.file, x_kind="time", y_kind="angle")
+        except ActsimInputError as exc:
+            notes.append(f"measured points of '{d.label or d.file.name}' not shown ({exc})")
+            continue
+        out.append((d.label or d.file.name, xy.x, xy.y, d.synthetic))
+    return out, notes
+
+
+def _figure(res, cal, path, *, title):
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
+    from ..io import save_figure
+
+    ds = res.dataset
+    t = ds["time"].values
+    fig = Figure(figsize=(7.0, 4.4))
+    FigureCanvasAgg(fig)
+    ax = fig.add_subplot(1, 1, 1)
+    ax.fill_between(t, np.degrees(ds["bend_angle_p05"].values), np.degrees(ds["bend_angle_p95"].values),
+                    color="C0", alpha=0.25, lw=0, label=f"5-95 % band ({res.n_draws} draws)")
+    ax.plot(t, np.degrees(ds["bend_angle_p50"].values), color="C0", lw=1.2, label="median of draws")
+    ax.plot(t, np.degrees(ds["bend_angle_nominal"].values), color="k", ls="--", lw=1.0, label="fitted values")
+    measured, notes = _measured(cal)
+    syn = False
+    for k, (lab, mt, ma, s) in enumerate(measured):
+        syn = syn or s
+        ax.plot(mt, np.degrees(ma), "o", ms=3, color=f"C{(k + 1) % 10}", alpha=0.8,
+                label=f"calibration data: {lab}" + (" (synthetic)" if s else ""))
+    ax.set_xlabel("time [s]")
+    ax.set_ylabel("bend angle [deg]")
+    ax.grid(True, alpha=0.3)
+    ax.legend(fontsize=7, loc="best")
+    ttl = title
+    if measured:
+        ttl += "\n(points: the calibration experiments, under their own conditions)"
+    ax.set_title(ttl, fontsize=9)
+    fig.tight_layout()
+    save_figure(fig, path)
+    return notes
+
+
+def run_uncertainty(scenario, *, n_draws, out_dir, seed=0, engine="kernel", quiet=False) -> UncertaintyResult:
+    """Prediction bands of a calibrated scenario, written to ``out_dir``.
+
+    Parameters
+    ----------
+    scenario : Scenario
+        A scenario with a ``[calibration]`` section (e.g. ``fitted.toml`` from ``actsim fit bend``,
+        possibly edited: another thickness or irradiance).
+    n_draws : int
+        Number of parameter draws [1].
+    out_dir : str or os.PathLike
+        Output folder; writes ``uncertainty.nc``, ``uncertainty.csv`` and
+        ``figures/uncertainty_bend_angle.png``.
+    seed : int
+        Random seed (the same seed gives the same draws).
+    engine : str
+        Simulator engine.
+    quiet : bool
+        Do not print.
+
+    Returns
+    -------
+    UncertaintyResult
+
+    Raises
+    ------
+    ActsimInputError
+        No ``[calibration]`` section, ``n_draws`` < 2.
+
+    Notes
+    -----
+    .. math::
+
+        p^{(k)} \\sim \\mathcal N(\\hat p, C), \\qquad
+        [\\theta_{0.05}(t),\\ \\theta_{0.95}(t)] \\text{ from } \\theta(t; p^{(k)})
+
+    References
+    ----------
+    .. [1] JCGM 101:2008, *Propagation of distributions using a Monte Carlo method*, BIPM, 2008.
+    """
+    from .. import io
+    from ..cautions import with_caution
+
+    cal = _calibration(scenario)
+    res = prediction_bands(scenario, n_draws=n_draws, seed=seed, engine=engine)
+    out = Path(out_dir)
+    nc, csv, png = out / "uncertainty.nc", out / "uncertainty.csv", out / "figures" / "uncertainty_bend_angle.png"
+    io.write_netcdf(res.dataset, nc)
+    io.write_timeseries_csv(res.dataset, csv)
+    notes = _figure(res, cal, png, title=f"bend angle with 5-95 % band: {scenario.title}")
+    res.files = [nc, csv, png]
+    res.messages += notes
+    if not quiet:
+        lines = [f"uncertainty: {m}" for m in res.messages]
+        sl = res.dataset["bend_angle_p05"].values, res.dataset["bend_angle_p95"].values
+        i = int(np.argmax(np.abs(res.dataset["bend_angle_nominal"].values)))
+        lines.append(f"uncertainty: bend angle at t = {res.dataset['time'].values[i]:.4g} s (largest): "
+                     f"{np.degrees(res.dataset['bend_angle_nominal'].values[i]):.3g} deg, 5-95 % band "
+                     f"{np.degrees(sl[0][i]):.3g}..{np.degrees(sl[1][i]):.3g} deg")
+        lines.append(f"uncertainty bands written to {out}/ (uncertainty.nc, uncertainty.csv, "
+                     "figures/uncertainty_bend_angle.png)")
+        print(with_caution("\n".join(lines)))
+    return res
