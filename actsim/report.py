@@ -23,9 +23,12 @@ import html
 import json
 import math
 import platform
+import re
 import tomllib
 from importlib import metadata
 from pathlib import Path
+
+import numpy as np
 
 from .cautions import CAUTION
 from .errors import ActsimInputError
@@ -77,8 +80,6 @@ def _num(x, digits=4) -> str:
 def _sup(text: str) -> str:
     """Escape ``text`` and turn ``^n`` exponents into superscripts."""
     out = _e(text)
-    import re
-
     return re.sub(r"\^(−?-?\d+)", lambda m: f"<sup>{m.group(1)}</sup>", out)
 
 
@@ -218,8 +219,6 @@ def _spectral_text(fn, sources, unit_fmt) -> str:
     else:
         form = f"{len(fn.bands)} Gaussian band(s) centred at " + ", ".join(f"{_num(b[0] * 1e9)} nm" for b in fn.bands)
     at = []
-    import numpy as np
-
     for s in sources:
         lam = float(np.sum(s.band_wavelength * s.band_fraction))
         try:
@@ -329,8 +328,6 @@ def _param_rows(sc) -> list[tuple[str, str, str, str]]:
                 (g, "forward quantum yield", _spectral_text(m.forward_quantum_yield, sc.sources, _plain), "—"),
                 (g, "backward quantum yield", _spectral_text(m.backward_quantum_yield, sc.sources, _plain), "—"),
             ]
-    import numpy as np
-
     for s in sc.sources:
         g = f"source: {s.name}"
         lam = float(np.sum(s.band_wavelength * s.band_fraction))
@@ -352,8 +349,6 @@ def _param_rows(sc) -> list[tuple[str, str, str, str]]:
 
 
 def _looks_numeric(text: str) -> bool:
-    import re
-
     return re.fullmatch(r"[−+-]?[0-9.]+(×10\^−?[0-9]+)?", str(text)) is not None
 
 
@@ -489,6 +484,7 @@ def _checks_section(records, out: Path) -> str:
     n_pass = sum(bool(r["passed"]) for r in records)
     body = []
     notes = []
+    classes = []
     for i, r in enumerate(records, start=1):
         passed = bool(r["passed"])
         try:
@@ -496,6 +492,7 @@ def _checks_section(records, out: Path) -> str:
         except (TypeError, ValueError):
             exceeds = not passed
         cls = "pass" if passed else ("fail" if exceeds else "short")
+        classes.append(cls)
         verdict = str(r.get("verdict") or ("within the modelled limit" if passed else "exceeds the modelled limit"))
         tail = f" ({r['source']})"
         if verdict.endswith(tail) and len(verdict) > len(tail):
@@ -521,9 +518,13 @@ def _checks_section(records, out: Path) -> str:
              "<th scope=\"col\">value</th><th scope=\"col\">limit</th><th scope=\"col\">margin</th>"
              "<th scope=\"col\">verdict</th><th scope=\"col\">source of the limit</th></tr></thead>"
              f"<tbody>{''.join(body)}</tbody></table>")
-    n_fail = len(records) - n_pass
-    summary = (f"<p class=\"tally\"><strong>{len(records)} check(s):</strong> <span class=\"pass\">{n_pass} within "
-               f"the modelled limit</span>, <span class=\"{'fail' if n_fail else 'pass'}\">{n_fail} not</span>. "
+    n_exceed = sum(cls == "fail" for cls in classes)
+    n_short = sum(cls == "short" for cls in classes)
+    tally = [f"<span class=\"pass\">{n_pass} passed (within the modelled limit)</span>",
+             f"<span class=\"{'fail' if n_exceed else 'pass'}\">{n_exceed} {'exceeds' if n_exceed == 1 else 'exceed'} the modelled limit</span>"]
+    if n_short:
+        tally.append(f"<span class=\"short\">{n_short} within the limit but short of the required margin</span>")
+    summary = (f"<p class=\"tally\"><strong>{len(records)} check(s):</strong> {', '.join(tally)}. "
                "Margin: limit ÷ value for a ratio (above 1 means below the limit), limit − value for a "
                "difference.</p>")
     nl = "".join(
@@ -583,7 +584,7 @@ td.verdict { font-weight: 600; }
 td.verdict.pass { background: var(--pass); color: var(--pass-ink); }
 td.verdict.fail { background: var(--fail); color: var(--fail-ink); }
 td.verdict.short { background: var(--short); color: var(--short-ink); }
-.tally .pass { color: var(--pass-ink); } .tally .fail { color: var(--fail-ink); }
+.tally .pass { color: var(--pass-ink); } .tally .fail { color: var(--fail-ink); } .tally .short { color: var(--short-ink); }
 .mark { font-size: 1.05em; }
 ol.plain, ul.plain { margin: .3rem 0 .8rem; }
 ul.notes, ul.checknotes { font-size: .86rem; color: var(--muted); }
@@ -607,7 +608,7 @@ footer { margin-top: 2.5rem; font-size: .8rem; color: var(--muted); border-top: 
   body { max-width: none; padding: 0; }
   nav.toc { display: none; }
   h2 { break-after: avoid; page-break-after: avoid; }
-  figure, table.checks tr, table.results, .caution { break-inside: avoid; page-break-inside: avoid; }
+  figure, table.checks tr, table.results, table.versions, .caution { break-inside: avoid; page-break-inside: avoid; }
   thead { display: table-header-group; }
   a { color: inherit; text-decoration: none; }
   td.verdict.pass, td.verdict.fail, td.verdict.short, .caution { -webkit-print-color-adjust: exact; print-color-adjust: exact; }

@@ -269,7 +269,7 @@ def test_report_check_table_rows(fresh):
     assert "Validity: temperature 0..40 degC" in plain and "von Mises stress at the top face" in plain
     assert plain.count(CAUTION) == 2
     assert "No design checks were run" not in plain
-    assert "2 check(s): 1 within the modelled limit, 1 not" in plain
+    assert "2 check(s): 1 passed (within the modelled limit), 1 exceeds the modelled limit." in plain
     # A record as written by json with an infinite margin (value 0) still renders.
     recs = fake_checks() + to_records([CheckResult.upper_bound(check="zero load", value=0.0, limit=1.0, unit="N",
                                                                source="s", validity="")])
