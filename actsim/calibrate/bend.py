@@ -59,6 +59,8 @@ __all__ = [
     "active_material",
     "scenario_value",
     "fit_bend",
+    "FitPlan",
+    "load_fit_plan",
 ]
 
 _DIMENSIONLESS = ("", "1", "-", "dimensionless")
@@ -603,3 +605,96 @@ def fit_bend(scenario, curves, *, parameters=None, confidence=0.95, max_iteratio
     return BendFit(result=res, parameters=params, curves=resolved, base=scenario, initial=p0,
                    model_time=[t for t, _ in full], model_angle=[a for _, a in full], fitted_at_data=at_data,
                    n_simulations=count["sims"])
+
+
+# ----------------------------------------------------------------------------------------------
+# Fit plan files
+# ----------------------------------------------------------------------------------------------
+
+@dataclass
+class FitPlan:
+    """A bend fit described in a TOML file (see :func:`load_fit_plan`)."""
+
+    scenario: object
+    curves: list
+    parameters: list | None
+    confidence: float = 0.95
+    max_iterations: int = 40
+    path: str = ""
+
+
+def load_fit_plan(path) -> FitPlan:
+    """Read a fit plan: base scenario, curves with their overrides, fitted parameters.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        TOML file; paths in it are relative to its folder::
+
+            scenario = "vent_flap_strip.toml"
+            confidence = 0.95          # optional
+            max_iterations = 40        # optional
+
+            [[parameters]]             # optional; default: photo_strain, forward_quantum_yield,
+            path = "materials.flap_film.thermal_back_rate"   # thermal_back_rate of the active material
+            unit = "1/s"
+            initial = 0.02             # optional (default: the scenario's value)
+            bounds = [0.0, 1.0]        # numbers in `unit`, or strings with units
+
+            [[curves]]
+            file = "bend_05mWcm2.csv"
+            label = "5 mW/cm^2"        # optional
+            sigma = "0.5 deg"          # optional measurement standard deviation
+            overrides = { "protocol[0].light.uv_lamp" = "5 mW/cm^2" }
+
+    Returns
+    -------
+    FitPlan
+    """
+    from ..scenario import _Table, load_scenario
+
+    p = Path(path)
+    if not p.is_file():
+        raise ActsimInputError(f"fit plan: file '{p}' does not exist")
+    try:
+        raw = tomllib.loads(p.read_text())
+    except tomllib.TOMLDecodeError as exc:
+        raise ActsimInputError(f"fit plan {p.name}: not valid TOML ({exc})") from None
+    except UnicodeDecodeError:
+        raise ActsimInputError(f"fit plan {p.name}: not a UTF-8 text file") from None
+    base = p.parent
+    t = _Table(raw, "")
+    sc = load_scenario(base / t.string("scenario"))
+    confidence = t.number("confidence", default=0.95, lo=0.0, hi=1.0, lo_open=True, hi_open=True)
+    max_it = t.integer("max_iterations", default=40, lo=1, hi=10000)
+    params = None
+    if t.has("parameters"):
+        items = t.raw("parameters")
+        if not isinstance(items, list) or not items:
+            raise ActsimInputError("parameters: must be a list of [[parameters]] tables")
+        params = []
+        for i, item in enumerate(items):
+            pt = _Table(item, f"parameters[{i}]")
+            bounds = pt.raw("bounds")
+            if not isinstance(bounds, list) or len(bounds) != 2:
+                raise ActsimInputError(f"parameters[{i}].bounds: must be [lower, upper]")
+            params.append(make_parameter(pt.string("path"), unit=pt.string("unit", default="1"), lower=bounds[0],
+                                         upper=bounds[1], initial=pt.raw("initial", default=None),
+                                         name=pt.string("name", default="") or None))
+            pt.finish()
+    items = t.raw("curves")
+    if not isinstance(items, list) or not items:
+        raise ActsimInputError("curves: must be a list of [[curves]] tables (file, overrides)")
+    curves = []
+    for i, item in enumerate(items):
+        ct = _Table(item, f"curves[{i}]")
+        f = ct.string("file")
+        ov = ct.raw("overrides", default={})
+        if not isinstance(ov, dict):
+            raise ActsimInputError(f"curves[{i}].overrides: must be a table of field path -> value")
+        sigma = ct.quantity("sigma", "angle", default=None, lo=0.0, lo_open=True)
+        curves.append(BendCurve(data=base / f, overrides=dict(ov), label=ct.string("label", default=""), sigma=sigma))
+        ct.finish()
+    t.finish()
+    return FitPlan(scenario=sc, curves=curves, parameters=params, confidence=confidence, max_iterations=max_it,
+                   path=str(p))
