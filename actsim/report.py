@@ -499,8 +499,17 @@ def _checks_section(records, out: Path) -> str:
             verdict = verdict[: -len(tail)]  # the source has its own column
         mark = "✔" if passed else "✘"
         kind = r.get("margin_kind", "ratio")
-        margin = (_num(r["margin"], 3) + ("×" if kind == "ratio" and _is_finite(r["margin"]) else "")
-                  if kind == "ratio" else _fmt_check_quantity(r["margin"], r["unit"]))
+        m = r["margin"]
+        try:  # a writer that refuses infinities may store "inf" as text or null
+            m = math.inf if m is None else float(m)
+        except (TypeError, ValueError):
+            m = None
+        if m is None:
+            margin = str(r["margin"])
+        elif kind == "ratio":
+            margin = _num(m, 3) + ("×" if math.isfinite(m) else "")
+        else:
+            margin = _fmt_check_quantity(m, r["unit"])
         ref = ""
         if r.get("note") or r.get("validity"):
             notes.append((i, r.get("validity", ""), r.get("note", "")))
@@ -533,13 +542,6 @@ def _checks_section(records, out: Path) -> str:
         for i, v, n in notes
     )
     return caution + summary + table + (f"<ul class=\"checknotes\">{nl}</ul>" if nl else "")
-
-
-def _is_finite(x) -> bool:
-    try:
-        return math.isfinite(float(x))
-    except (TypeError, ValueError):
-        return False
 
 
 def _versions_section(record: dict) -> str:

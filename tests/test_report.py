@@ -275,6 +275,10 @@ def test_report_check_table_rows(fresh):
                                                                source="s", validity="")])
     (fresh / "checks.json").write_text(json.dumps(recs))
     assert "∞" in parse(build_report(fresh)).plain
+    recs[-1]["margin"] = "inf"  # as stored by a writer that refuses infinite JSON numbers
+    (fresh / "checks.json").write_text(json.dumps({"checks": recs}, allow_nan=False))
+    rows = table_rows(build_report(fresh), "checks")
+    assert len(rows) == 3 and rows[-1][1][4] == "∞"
 
 
 def test_report_escapes_text(fresh):
