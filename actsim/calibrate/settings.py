@@ -354,7 +354,7 @@ def _rebase_files(node, old_dir: Path, new_dir: Path):
             _rebase_files(v, old_dir, new_dir)
 
 
-def fitted_scenario_text(fit, *, scenario_dir) -> str:
+def fitted_scenario_text(fit, *, scenario_dir, with_calibration=True) -> str:
     """TOML text of the fitted scenario: base scenario, fitted values, ``[calibration]``.
 
     Parameters
@@ -363,6 +363,8 @@ def fitted_scenario_text(fit, *, scenario_dir) -> str:
         The fit.
     scenario_dir : str or os.PathLike
         Folder where the text will be saved (relative data-file paths are rewritten for it).
+    with_calibration : bool
+        Add the ``[calibration]`` section (needs a finite covariance).
 
     Returns
     -------
@@ -376,19 +378,21 @@ def fitted_scenario_text(fit, *, scenario_dir) -> str:
     raw.pop("calibration", None)
     old_dir = Path(fit.base.path).parent if fit.base.path else Path.cwd()
     _rebase_files(raw, old_dir.resolve(), Path(scenario_dir).resolve())
-    raw["calibration"] = calibration_table(fit, scenario_dir=scenario_dir)
+    if with_calibration:
+        raw["calibration"] = calibration_table(fit, scenario_dir=scenario_dir)
     syn = any(c.synthetic for c in fit.curves)
     head = [
         "# Fitted scenario written by 'actsim fit bend'" + (" from SYNTHETIC data" if syn else "") + ".",
         f"# Base scenario: {Path(fit.base.path).name if fit.base.path else '<text>'}; fitted fields: "
         + ", ".join(p.path for p in fit.parameters) + ".",
-        "# 'actsim run' on this file reproduces the fit; '--uncertainty N' draws from [calibration].covariance.",
+        "# 'actsim run' on this file reproduces the fit; '--uncertainty N' draws from [calibration].covariance."
+        if with_calibration else "# No [calibration] section: the covariance was not finite (see the fit's warnings).",
         "",
     ]
     return "\n".join(head) + tomli_w.dumps(raw)
 
 
-def write_fitted_scenario(fit, path) -> Path:
+def write_fitted_scenario(fit, path, *, with_calibration=True) -> Path:
     """Write :func:`fitted_scenario_text` atomically to ``path`` and check that it parses back.
 
     Parameters
@@ -396,6 +400,8 @@ def write_fitted_scenario(fit, path) -> Path:
     fit : BendFit
     path : str or os.PathLike
         The ``.toml`` file.
+    with_calibration : bool
+        Add the ``[calibration]`` section.
 
     Returns
     -------
@@ -405,7 +411,7 @@ def write_fitted_scenario(fit, path) -> Path:
     from ..scenario import parse_scenario
 
     path = Path(path)
-    text = fitted_scenario_text(fit, scenario_dir=path.parent)
+    text = fitted_scenario_text(fit, scenario_dir=path.parent, with_calibration=with_calibration)
     parse_scenario(text, path=path, base_dir=path.parent)  # refuse to write what cannot be read back
     write_text(path, text)
     return path
