@@ -205,7 +205,7 @@ def run_design(z_edges, dz, c0, eps_a, eps_b, alpha_bg, phi_f, phi_b, k_ref, e_a
                heat_mode, k_cond, rho_c, heat_frac, T_ref,
                mod_kind, mod_base, mod_ratio, sec_fac, gl, tab_idx, tab_T, tab_logE, network_mod, photo_strain, alpha_th,
                step_flux, step_hold, step_value, step_env, seg_step, seg_dt, seg_n, x0, T0,
-               out_x, out_T, out_S, out_E, out_Ee, out_mech, out_irr, out_pabs, out_budget):
+               out_x, out_T, out_S, out_E, out_Ee, out_mech, out_irr, out_pabs, out_budget, out_energy):
     """March one design through its protocol.
 
     Per step: light at the start -> rates and heat source; predicted
@@ -215,11 +215,16 @@ def run_design(z_edges, dz, c0, eps_a, eps_b, alpha_bg, phi_f, phi_b, k_ref, e_a
     light-formed network exists, network formed in the step remembers the
     midpoint strain of the step (predicted, then corrected), and cleavage
     removes the same fraction of the remembered strain. Output slot 0 holds the
-    initial state; slot s+1 the state at the end of segment s.
+    initial state; slot s+1 the state at the end of segment s. ``out_energy``
+    holds the cumulative heat absorbed and lost through the bottom and top
+    faces [J m-2], integrated with the heat scheme's own quadrature.
 
     Returns the index of the first segment that produced a non-finite value, or -1.
     """
     n_cell, n_beam = eps_a.shape
+    e_in = 0.0
+    e_lb = 0.0
+    e_lt = 0.0
     h = z_edges[n_cell]
     has_network = False
     for i in range(n_cell):
@@ -283,9 +288,13 @@ def run_design(z_edges, dz, c0, eps_a, eps_b, alpha_bg, phi_f, phi_b, k_ref, e_a
             if heat_mode != HEAT_OFF:
                 heat_source(ab, beam_emol, dz, heat_frac, q1)
                 if heat_mode == HEAT_CN:
-                    crank_nicolson_step(T, dz, k_cond, rho_c, q0, q1, dt, h_b, T_amb_b, h_t, T_amb_t, work, Tn)
+                    lb, lt = crank_nicolson_step(T, dz, k_cond, rho_c, q0, q1, dt, h_b, T_amb_b, h_t, T_amb_t, work, Tn)
                 else:
-                    trbdf2_step(T, dz, k_cond, rho_c, q0, q1, dt, h_b, T_amb_b, h_t, T_amb_t, work, Tn)
+                    lb, lt = trbdf2_step(T, dz, k_cond, rho_c, q0, q1, dt, h_b, T_amb_b, h_t, T_amb_t, work, Tn)
+                e_lb += lb
+                e_lt += lt
+                for i in range(n_cell):
+                    e_in += 0.5 * dt * (q0[i] + q1[i]) * dz[i]
             else:
                 for i in range(n_cell):
                     Tn[i] = T[i]
@@ -330,6 +339,9 @@ def run_design(z_edges, dz, c0, eps_a, eps_b, alpha_bg, phi_f, phi_b, k_ref, e_a
         tr = light_pass(x, dz, c0, eps_a, eps_b, alpha_bg, from_top, entry, q, mf, ab)
         record(s + 1, x, T, S, E, Ee, mech, dz, mf, ab, beam_emol, q, entry, tr,
                out_x, out_T, out_S, out_E, out_Ee, out_mech, out_irr, out_pabs, out_budget)
+        out_energy[s + 1, 0] = e_in
+        out_energy[s + 1, 1] = e_lb
+        out_energy[s + 1, 2] = e_lt
         for i in range(n_cell):
             if not (math.isfinite(x[i]) and math.isfinite(T[i]) and math.isfinite(S[i])):
                 return s

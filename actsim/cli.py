@@ -69,6 +69,11 @@ def summary_table(summary: dict) -> str:
             rows.append((f"blocked force at {tgt}", _fmt(summary["blocked_force_at_target"], "mN", 1e3)))
             if "front_depth_at_target" in summary:
                 rows.append((f"front depth at {tgt}", _fmt(summary["front_depth_at_target"], "um", 1e6)))
+    for c in summary.get("shape_memory_cycles", []):
+        what = "strain" if c["kind"] == "stretch" else "curvature"
+        ratio = lambda v: "not measured" if v is None else f"{100 * v:.1f} %"  # noqa: E731
+        rows.append((f"cycle {c['cycle']} ({c['kind']}) fixity", f"{ratio(c['fixity_ratio'])} of the programmed {what}"))
+        rows.append((f"cycle {c['cycle']} ({c['kind']}) recovery", ratio(c["recovery_ratio"])))
     w = max(len(r[0]) for r in rows)
     return "\n".join(f"  {k:<{w}}  {v}" for k, v in rows)
 
@@ -172,6 +177,13 @@ def main(argv=None) -> int:
     except ActsimError as exc:
         print(f"actsim: error: {exc}", file=sys.stderr)
         return 3
+    except BrokenPipeError:
+        # output piped into a command that stopped reading (e.g. `| head`): not an error of ours
+        import os
+
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        return 0
     except KeyboardInterrupt:
         print("actsim: interrupted; finished files are complete, unfinished ones were not written", file=sys.stderr)
         return 130

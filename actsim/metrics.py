@@ -92,7 +92,7 @@ def conversion_front_depth(*, z, conversion, thickness, from_top=True, active=No
     return out
 
 
-def summarize(ds, *, target_bend_angle=None):
+def summarize(ds, *, target_bend_angle=None, protocol=None):
     """Key numbers of one simulation.
 
     Parameters
@@ -101,6 +101,9 @@ def summarize(ds, *, target_bend_angle=None):
         Result of :func:`actsim.simulate`.
     target_bend_angle : float, optional
         Angle whose first crossing is reported [rad].
+    protocol : sequence of actsim.scenario.Step, optional
+        With programming holds in it, the shape-memory cycles are added
+        (``shape_memory_cycles``, see :mod:`actsim.shape_memory`).
 
     Returns
     -------
@@ -131,6 +134,10 @@ def summarize(ds, *, target_bend_angle=None):
         out["peak_front_depth"] = float(front.max())
     if "peak_temperature" in ds:
         out["peak_temperature"] = float(ds["peak_temperature"].values.max())
+    if protocol is not None and any(s.hold in ("stretch", "bend") for s in protocol):
+        from .shape_memory import shape_memory_cycles
+
+        out["shape_memory_cycles"] = shape_memory_cycles(ds, protocol)
     if target_bend_angle is not None:
         tt = first_crossing_time(t, theta, target_bend_angle)
         out["target_bend_angle"] = float(target_bend_angle)

@@ -31,7 +31,7 @@ def write_result_folder(ds, scenario, out_dir, *, figures=True):
 
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
-    summary = summarize(ds, target_bend_angle=scenario.target_bend_angle)
+    summary = summarize(ds, target_bend_angle=scenario.target_bend_angle, protocol=scenario.protocol)
     files = [RESULT_FILE, "timeseries.csv", "scenario.toml", SUMMARY_FILE]
     io.write_netcdf(ds, out / RESULT_FILE)
     io.write_timeseries_csv(ds, out / "timeseries.csv")

@@ -221,6 +221,15 @@ def build_problem(scenario: Scenario) -> Problem:
     T0 = np.full(n_cell, scenario.protocol[0].ambient_top if heat_on else T_ref)
 
     seg_step, seg_dt, seg_n, times = _schedule(scenario)
+    if heat_mode == HEAT_CN:
+        # Crank–Nicolson rings (decays slowly, with alternating sign) when a step is many cell diffusion times
+        fourier = float(seg_dt.max() * np.max(k_cond / (rho_c * dz**2)))
+        if fourier > 50.0:
+            dt_max = 50.0 / float(np.max(k_cond / (rho_c * dz**2)))
+            raise ActsimInputError(
+                f"time.step: {seg_dt.max():g} s is {fourier:.3g} cell diffusion times, too long for heat.scheme = "
+                f"'crank-nicolson' (allowed <= 50, i.e. step <= {dt_max:.3g} s); use heat.scheme = 'tr-bdf2' (L-stable)"
+            )
     step_irr = np.array([s.irradiance for s in scenario.protocol], float).reshape(len(scenario.protocol), len(scenario.sources))
     step_flux = np.zeros((len(scenario.protocol), n_beam))
     for b in range(n_beam):
@@ -245,6 +254,7 @@ def _allocate(p: Problem):
     out = {name: np.zeros((n_out, n_cell)) for name in FIELDS}
     out["mech"] = np.zeros((n_out, 4))
     out["budget"] = np.zeros((n_out, 4))
+    out["energy"] = np.zeros((n_out, 3))
     return out
 
 
@@ -259,7 +269,7 @@ def run_kernel(p: Problem) -> dict:
         p.mod_kind, p.mod_base, p.mod_ratio, p.sec_fac, p.gl, p.tab_idx, p.tab_T, p.tab_logE, p.network_mod,
         p.photo_strain, p.alpha_th, p.step_flux, p.step_hold, p.step_value, p.step_env, p.seg_step, p.seg_dt,
         p.seg_n, p.x0, p.T0,
-        o["x"], o["T"], o["S"], o["E"], o["Ee"], o["mech"], o["irr"], o["pabs"], o["budget"],
+        o["x"], o["T"], o["S"], o["E"], o["Ee"], o["mech"], o["irr"], o["pabs"], o["budget"], o["energy"],
     )
     if bad >= 0:
         raise ActsimSimulationError(
@@ -277,11 +287,10 @@ def _primary_modulus(p: Problem, x, T):
     from . import thermal
 
     base = p.mod_base.copy()
-    g = p.mod_kind == 1
-    if g.any():
-        base[g] = thermal.glass_transition_modulus(
-            temperature=T[g], glassy_modulus=p.gl[g, 0], rubbery_modulus=p.gl[g, 1],
-            glass_transition_temperature=p.gl[g, 2], transition_width=p.gl[g, 3],
+    for i in np.nonzero(p.mod_kind == 1)[0]:
+        base[i] = thermal.glass_transition_modulus(
+            temperature=T[i], glassy_modulus=p.gl[i, 0], rubbery_modulus=p.gl[i, 1],
+            glass_transition_temperature=p.gl[i, 2], transition_width=p.gl[i, 3],
         )
     for i in np.nonzero(p.mod_kind == 2)[0]:
         j = p.tab_idx[i]
@@ -344,6 +353,7 @@ def run_reference(p: Problem) -> dict:
         o["budget"][slot] = [q.sum(), (q * (1 - p.beam_entry)).sum(), ab.sum(), tr.sum()]
 
     has_network = bool(np.any(p.network_mod > 0))
+    energy = np.zeros(3)  # heat absorbed, lost bottom, lost top [J m-2]
     x, T, S = p.x0.copy(), p.T0.copy(), np.zeros_like(p.x0)
     store(0, x, T, S, p.seg_step[0])
     work = thermal.make_work(p.dz.size)
@@ -366,11 +376,17 @@ def run_reference(p: Problem) -> dict:
                     source_old=heat_power(ab), source_new=heat_power(ab1), dt=dt, h_bottom=hb, ambient_bottom=tb,
                     h_top=ht, ambient_top=tt, theta=0.5,
                 )
+                # Crank–Nicolson's own quadrature of the face losses is the trapezoid rule
+                l0 = thermal.face_heat_loss(T, p.dz, p.k_cond, hb, tb, ht, tt)
+                l1 = thermal.face_heat_loss(Tn, p.dz, p.k_cond, hb, tb, ht, tt)
+                energy[1:] += 0.5 * dt * (np.array(l0) + np.array(l1))
             elif p.heat_mode == 2:
                 Tn = np.empty_like(T)
-                thermal.trbdf2_step(T, p.dz, p.k_cond, p.rho_c, heat_power(ab), heat_power(ab1), dt, hb, tb, ht, tt, work, Tn)
+                energy[1:] += thermal.trbdf2_step(T, p.dz, p.k_cond, p.rho_c, heat_power(ab), heat_power(ab1), dt, hb, tb, ht, tt, work, Tn)
             else:
                 Tn = T
+            if p.heat_mode:
+                energy[0] += 0.5 * dt * np.sum((heat_power(ab) + heat_power(ab1)) * p.dz)
             kf1, kb1 = rate(mf1, Tn)
             xn = kinetics.exact_first_order_update(conversion=x, k_forward=0.5 * (kf0 + kf1), k_backward=0.5 * (kb0 + kb1), dt=dt)
             if has_network:
@@ -384,6 +400,7 @@ def run_reference(p: Problem) -> dict:
                 e_start = r[0] - r[1] * zc
             x, T = xn, Tn
         store(s + 1, x, T, S, st)
+        o["energy"][s + 1] = energy
     return o
 
 
@@ -509,6 +526,9 @@ def assemble_dataset(scenario: Scenario, p: Problem, o: dict) -> xr.Dataset:
         data_vars["surface_temperature_bottom"] = _var(("time",), faces[:, 0], "K", "temperature of the bottom face")
         data_vars["surface_temperature_top"] = _var(("time",), faces[:, 1], "K", "temperature of the top face")
         data_vars["absorbed_power_total"] = _var(("time",), (o["pabs"] * p.dz).sum(axis=1), "W m-2", "absorbed optical power per unit area")
+        data_vars["heat_absorbed"] = _var(("time",), o["energy"][:, 0], "J m-2", "heat deposited by absorbed light since t = 0")
+        data_vars["heat_lost_bottom"] = _var(("time",), o["energy"][:, 1], "J m-2", "heat lost through the bottom face since t = 0")
+        data_vars["heat_lost_top"] = _var(("time",), o["energy"][:, 2], "J m-2", "heat lost through the top face since t = 0")
     if np.any(p.network_mod > 0):
         on = p.network_mod > 0
         data_vars["network_density"] = _var(("time", "z"), np.where(on, x, 0.0), "1", "density of the light-formed network (1 = fully formed)")
