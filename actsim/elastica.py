@@ -1,0 +1,894 @@
+"""Large deflection of a cantilever strip: the elastica with spontaneous curvature.
+
+A strip of free length ``L`` is clamped at ``s = 0`` with its tangent along
++x. It lies in the (x, y) plane, where y is the strip's thickness direction
+(+z of the layered-beam model), so a positive spontaneous curvature turns the
+tip toward +y. The arc length ``s`` runs from the clamp to the tip; ``theta(s)``
+is the tangent angle from +x, counter-clockwise positive.
+
+The strip is inextensible and unshearable (Euler-Bernoulli elastica). The
+bending moment carried across the section at ``s`` is
+
+.. math::
+
+    EI\\,\\bigl(\\theta'(s) - \\kappa_0(s)\\bigr) = M(s)
+    = \\mathbf{k}\\cdot\\Bigl[(\\mathbf r(L) - \\mathbf r(s))\\times \\mathbf F\\Bigr] + M_L
+      + \\mathbf{k}\\cdot\\int_s^L (\\mathbf r(t) - \\mathbf r(s))\\times w\\,\\hat{\\mathbf g}\\,dt
+
+with ``F`` a tip force fixed in space (a dead load), ``M_L`` a tip moment,
+``w`` the weight per length and ``g_hat`` the unit gravity direction.
+Differentiating once gives the first-order system solved here (in units of
+``L`` and ``EI``):
+
+.. math::
+
+    \\theta' = \\kappa_0 + m, \\quad
+    m' = -\\bigl(\\cos\\theta\\,N_y - \\sin\\theta\\,N_x\\bigr), \\quad
+    x' = \\cos\\theta, \\quad y' = \\sin\\theta,
+
+where ``N(s) = F + (L - s) w g_hat`` is the force carried by the part of the
+strip beyond ``s``. It is solved as a boundary-value problem with
+:func:`scipy.integrate.solve_bvp`, written for ``phi = theta - K0(s)`` with
+``K0(s) = int_0^s kappa0``, so that a curvature that jumps (a lit hinge) leaves
+the right-hand side continuous. Loads are applied by continuation from the
+unloaded shape, which carries the solution past tip rotations of 180 degrees.
+
+All functions take and return SI values (m, N, N m, N m^2, rad).
+
+References
+----------
+.. [1] Bisshopp, K. E. and Drucker, D. C., "Large deflection of cantilever
+   beams", Quarterly of Applied Mathematics 3(3), 272-275, 1945.
+.. [2] Timoshenko, S. P. and Gere, J. M., *Theory of Elastic Stability*,
+   2nd ed., McGraw-Hill, 1961 (section 2.7, the elastica).
+.. [3] Kierzenka, J. and Shampine, L. F., "A BVP solver based on residual
+   control and the MATLAB PSE", ACM Transactions on Mathematical Software
+   27(3), 299-316, 2001 (the method of scipy.integrate.solve_bvp).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Callable
+
+import numpy as np
+from scipy.integrate import cumulative_trapezoid, solve_bvp, trapezoid
+
+from .errors import ActsimInputError
+
+__all__ = [
+    "ElasticaShape",
+    "BlockedTip",
+    "LoadLine",
+    "PiecewiseCurvature",
+    "cantilever_shape",
+    "blocked_tip_force",
+    "load_line",
+    "circular_arc_tip",
+    "piecewise_curvature",
+]
+
+#: Collocation tolerance handed to solve_bvp (relative residual of the
+#: dimensionless system); with it tip positions agree with closed forms to
+#: about 1e-8 L.
+_BVP_TOL = 1e-6
+_MAX_NODES = 5000
+#: Samples of a curvature given as a callable (piecewise-linear between them).
+_CALLABLE_SAMPLES = 801
+#: Smallest continuation step before giving up (fraction of the load).
+_MIN_STEP = 1.0 / 512
+#: Largest dimensionless load accepted (|F| L^2/EI, |M| L/EI, w L^3/EI). Beyond
+#: it the bending boundary layer at the clamp, of length sqrt(EI/|F|), is
+#: shorter than L/1000 and, for any strip thinner than L/1000, shorter than
+#: the thickness, where the slender-beam model itself no longer holds.
+_MAX_LOAD = 1e6
+_MAX_CONTINUATION_STEPS = 300
+
+
+# --------------------------------------------------------------------------- results
+
+
+@dataclass(frozen=True)
+class ElasticaShape:
+    """Deformed shape of the cantilever strip.
+
+    Attributes
+    ----------
+    s : ndarray
+        Arc length from the clamp [m].
+    x, y : ndarray
+        Position of the centre line; x along the clamped tangent, y toward the
+        side that positive curvature turns to [m].
+    theta : ndarray
+        Tangent angle from +x, counter-clockwise positive [rad].
+    bending_moment : ndarray
+        Bending moment ``EI (theta' - kappa0)`` carried across each section [N m].
+    tip_x, tip_y : float
+        Tip position [m].
+    tip_angle : float
+        Tangent angle at the tip [rad] (not wrapped: a curl past 180 degrees
+        gives more than pi).
+    success : bool
+        True when the full load was solved.
+    load_fraction : float
+        Fraction of the requested load that was solved (1.0 on success) [-].
+    message : str
+        Empty on success, else the one-line reason.
+    """
+
+    s: np.ndarray
+    x: np.ndarray
+    y: np.ndarray
+    theta: np.ndarray
+    bending_moment: np.ndarray
+    tip_x: float
+    tip_y: float
+    tip_angle: float
+    success: bool = True
+    load_fraction: float = 1.0
+    message: str = ""
+
+
+@dataclass(frozen=True)
+class BlockedTip:
+    """Reaction at a tip that is held on the strip's original axis.
+
+    Attributes
+    ----------
+    force : float
+        Force the strip exerts on the support, along +y (normal to the
+        original strip axis) [N]. Positive for positive curvature.
+    tip_moment : float
+        Moment the strip exerts on the support, counter-clockwise positive
+        [N m]; zero for ``rotation="free"``.
+    shape : ElasticaShape
+        The held shape (with the support reaction ``-force`` as its tip load).
+    """
+
+    force: float
+    tip_moment: float
+    shape: ElasticaShape
+
+
+@dataclass(frozen=True)
+class LoadLine:
+    """Force the tip delivers against the tip displacement (free rotation).
+
+    Attributes
+    ----------
+    displacement : ndarray
+        Tip position along y, normal to the original strip axis, from 0
+        (blocked) to the free tip position [m].
+    force : ndarray
+        Force along +y the strip exerts on a frictionless support that holds
+        its tip at ``displacement`` [N]; from the blocked force down to 0.
+    tip_x : ndarray
+        Tip position along the original axis at each point [m].
+    work : float
+        Work the tip can do moving from blocked to free against the support,
+        ``int force d(displacement)`` by the trapezoid rule [J].
+    """
+
+    displacement: np.ndarray
+    force: np.ndarray
+    tip_x: np.ndarray
+    work: float
+
+
+# --------------------------------------------------------------------------- curvature profiles
+
+
+class PiecewiseCurvature:
+    """Spontaneous curvature constant on each interval of arc length.
+
+    Callable: ``profile(s)`` returns the curvature [1/m] at ``s`` [m]; zero
+    outside ``[s_edges[0], s_edges[-1]]``. At an interior edge the value of the
+    interval to its right is returned. :func:`cantilever_shape` uses the edges
+    exactly (it places mesh nodes on them).
+    """
+
+    def __init__(self, s_edges, curvatures):
+        edges = np.asarray(s_edges, dtype=float)
+        values = np.asarray(curvatures, dtype=float)
+        if edges.ndim != 1 or edges.size < 2:
+            raise ActsimInputError(f"s_edges: need at least 2 edges [m], got {edges.size}")
+        if values.shape != (edges.size - 1,):
+            raise ActsimInputError(
+                f"curvatures: need one value per interval ({edges.size - 1}), got {values.size} [1/m]"
+            )
+        if not (np.all(np.isfinite(edges)) and np.all(np.isfinite(values))):
+            raise ActsimInputError("s_edges/curvatures: values must be finite [m, 1/m]")
+        if np.any(np.diff(edges) <= 0.0):
+            raise ActsimInputError(f"s_edges: {edges.tolist()} must increase strictly [m]")
+        if edges[0] < 0.0:
+            raise ActsimInputError(f"s_edges: first edge {edges[0]:g} m is outside the allowed range (>= 0 m)")
+        self.edges = edges
+        self.values = values
+
+    def __call__(self, s):
+        s = np.asarray(s, dtype=float)
+        i = np.searchsorted(self.edges, s, side="right") - 1
+        inside = (i >= 0) & (i < self.values.size)
+        out = np.where(inside, self.values[np.clip(i, 0, self.values.size - 1)], 0.0)
+        # the far end of the last interval belongs to it
+        out = np.where(s == self.edges[-1], self.values[-1], out)
+        return out if out.ndim else float(out)
+
+    def __repr__(self):
+        return f"PiecewiseCurvature(s_edges={self.edges.tolist()}, curvatures={self.values.tolist()})"
+
+
+def piecewise_curvature(s_edges, curvatures) -> PiecewiseCurvature:
+    """Spontaneous curvature that is constant between edges (patterned light).
+
+    Parameters
+    ----------
+    s_edges : array_like
+        Increasing arc-length positions of the interval edges, from the clamp
+        [m]. Outside the first and last edge the curvature is zero.
+    curvatures : array_like
+        Spontaneous curvature on each interval, one fewer than ``s_edges`` [1/m].
+
+    Returns
+    -------
+    PiecewiseCurvature
+        A callable ``kappa0(s)`` to pass as ``spontaneous_curvature``.
+
+    Notes
+    -----
+    Without load, a hinge lit over length ``l_h`` with curvature ``kappa_h``
+    folds the strip by
+
+    .. math::
+
+        \\Delta\\theta = \\int_0^L \\kappa_0\\,ds = \\kappa_h\\,l_h ,
+
+    and the unlit parts stay straight.
+
+    Examples
+    --------
+    A 10 mm strip lit between 4 mm and 6 mm:
+
+    >>> hinge = piecewise_curvature([4e-3, 6e-3], [500.0])
+    >>> float(hinge(5e-3)), float(hinge(1e-3))
+    (500.0, 0.0)
+
+    References
+    ----------
+    .. [1] Timoshenko, S. P. and Gere, J. M., *Theory of Elastic Stability*,
+       2nd ed., McGraw-Hill, 1961.
+    """
+    return PiecewiseCurvature(s_edges, curvatures)
+
+
+class _Profile:
+    """Dimensionless spontaneous curvature ``k(t) = kappa0(t L) L``, t in [0, 1].
+
+    Stored as piecewise-linear pieces (jumps allowed) so that the integral
+    ``K(t) = int_0^t k`` is exact for constant and linear pieces.
+    """
+
+    def __init__(self, a, b, va, vb, jumps):
+        self.a = np.asarray(a, float)
+        self.b = np.asarray(b, float)
+        self.va = np.asarray(va, float)
+        self.vb = np.asarray(vb, float)
+        self.jumps = np.asarray(sorted(set(jumps)), float)  # interior points where k jumps
+        w = self.b - self.a
+        self.slope = (self.vb - self.va) / w
+        piece = 0.5 * (self.va + self.vb) * w
+        self.kc = np.concatenate([[0.0], np.cumsum(piece)])
+        self.scale = 1.0
+
+    def scaled(self, lam):
+        p = object.__new__(_Profile)
+        p.__dict__.update(self.__dict__)
+        p.scale = self.scale * lam
+        return p
+
+    def _idx(self, t):
+        return np.clip(np.searchsorted(self.a, t, side="right") - 1, 0, self.a.size - 1)
+
+    def k(self, t):
+        i = self._idx(t)
+        return self.scale * (self.va[i] + self.slope[i] * (t - self.a[i]))
+
+    def K(self, t):
+        i = self._idx(t)
+        d = t - self.a[i]
+        return self.scale * (self.kc[i] + self.va[i] * d + 0.5 * self.slope[i] * d * d)
+
+    @property
+    def total(self):
+        return self.scale * float(self.kc[-1])
+
+
+def _profile(spontaneous_curvature, length, n_points) -> _Profile:
+    L = length
+    kc = spontaneous_curvature
+    if isinstance(kc, PiecewiseCurvature):
+        inner = kc.edges[(kc.edges > 1e-9 * L) & (kc.edges < (1 - 1e-9) * L)] / L
+        # an interval shorter than 1e-9 L is merged into its neighbour (mesh nodes must not coincide)
+        keep = np.concatenate([[True], np.diff(inner) > 1e-9]) if inner.size else inner.astype(bool)
+        cuts = np.concatenate([[0.0], inner[keep], [1.0]])
+        mids = 0.5 * (cuts[:-1] + cuts[1:])
+        vals = np.asarray(kc(mids * L), float) * L
+        return _Profile(cuts[:-1], cuts[1:], vals, vals, cuts[1:-1])
+    if callable(kc):
+        t = np.linspace(0.0, 1.0, _CALLABLE_SAMPLES)
+        try:
+            v = np.asarray([float(kc(ti * L)) for ti in t]) * L
+        except Exception as exc:
+            raise ActsimInputError(
+                f"spontaneous_curvature: the callable failed at s in [0, {L:g}] m ({exc.__class__.__name__})"
+            ) from None
+        if not np.all(np.isfinite(v)):
+            raise ActsimInputError("spontaneous_curvature: the callable returned non-finite values [1/m]")
+        return _Profile(t[:-1], t[1:], v[:-1], v[1:], [])
+    arr = np.asarray(kc, dtype=float)
+    if arr.ndim == 0:
+        v = float(arr)
+        if not math.isfinite(v):
+            raise ActsimInputError(f"spontaneous_curvature: {v!r} 1/m is not finite")
+        return _Profile([0.0], [1.0], [v * L], [v * L], [])
+    if arr.ndim != 1 or arr.size != n_points:
+        raise ActsimInputError(
+            f"spontaneous_curvature: an array must hold n_points={n_points} values at s = linspace(0, L, n_points), "
+            f"got shape {arr.shape} [1/m]"
+        )
+    if not np.all(np.isfinite(arr)):
+        raise ActsimInputError("spontaneous_curvature: array values must be finite [1/m]")
+    t = np.linspace(0.0, 1.0, n_points)
+    v = arr * L
+    return _Profile(t[:-1], t[1:], v[:-1], v[1:], [])
+
+
+# --------------------------------------------------------------------------- input checks
+
+
+def _positive(value, field_name, unit):
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        raise ActsimInputError(f"{field_name}: {value!r} is not a number [{unit}]") from None
+    if not math.isfinite(v) or v <= 0.0:
+        raise ActsimInputError(f"{field_name}: {v:g} is outside the allowed range (> 0 {unit})")
+    return v
+
+
+def _finite(value, field_name, unit):
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        raise ActsimInputError(f"{field_name}: {value!r} is not a number [{unit}]") from None
+    if not math.isfinite(v):
+        raise ActsimInputError(f"{field_name}: {v!r} is not finite [{unit}]")
+    return v
+
+
+def _vector2(value, field_name, unit):
+    try:
+        arr = np.asarray(value, dtype=float).reshape(-1)
+    except (TypeError, ValueError):
+        raise ActsimInputError(f"{field_name}: {value!r} is not a pair of numbers [{unit}]") from None
+    if arr.size != 2 or not np.all(np.isfinite(arr)):
+        raise ActsimInputError(f"{field_name}: {value!r} must be two finite numbers (x, y) [{unit}]")
+    return arr
+
+
+def _n_points(n, field_name="n_points", lo=2):
+    if isinstance(n, bool) or not isinstance(n, (int, np.integer)) or n < lo:
+        raise ActsimInputError(f"{field_name}: {n!r} is outside the allowed range (integer >= {lo})")
+    return int(n)
+
+
+# --------------------------------------------------------------------------- the BVP
+
+
+class _System:
+    """Dimensionless elastica ODE in y = [phi, m, x, y] with phi = theta - K(t).
+
+    Tip force components may be unknown parameters: ``free_force`` lists the
+    indices (0 for x, 1 for y) taken from ``p``.
+    """
+
+    def __init__(self, profile, force, weight, gdir, free_force=()):
+        self.prof = profile
+        self.force = np.asarray(force, float)
+        self.weight = float(weight)
+        self.gdir = np.asarray(gdir, float)
+        self.free = tuple(free_force)
+
+    def _n(self, t, p):
+        fx, fy = self.force
+        if 0 in self.free:
+            fx = p[self.free.index(0)]
+        if 1 in self.free:
+            fy = p[self.free.index(1)]
+        nx = fx + (1.0 - t) * self.weight * self.gdir[0]
+        ny = fy + (1.0 - t) * self.weight * self.gdir[1]
+        return nx, ny
+
+    def fun(self, t, y, p=None):
+        th = y[0] + self.prof.K(t)
+        c, s = np.cos(th), np.sin(th)
+        nx, ny = self._n(t, p)
+        return np.vstack([y[1], -(c * ny - s * nx), c, s])
+
+    def jac(self, t, y, p=None):
+        th = y[0] + self.prof.K(t)
+        c, s = np.cos(th), np.sin(th)
+        nx, ny = self._n(t, p)
+        n = t.size
+        dfdy = np.zeros((4, 4, n))
+        dfdy[0, 1] = 1.0
+        dfdy[1, 0] = s * ny + c * nx
+        dfdy[2, 0] = -s
+        dfdy[3, 0] = c
+        if not self.free:
+            return dfdy
+        dfdp = np.zeros((4, len(self.free), n))
+        for j, comp in enumerate(self.free):
+            dfdp[1, j] = s if comp == 0 else -c
+        return dfdy, dfdp
+
+
+def _solve(system, bc, guess, p0=None):
+    """One solve_bvp call; returns the solution object or None."""
+    t, y = guess
+    kw = dict(tol=_BVP_TOL, max_nodes=_MAX_NODES, verbose=0)
+    try:
+        with np.errstate(all="ignore"):
+            if p0 is None:
+                sol = solve_bvp(system.fun, bc, t, y, fun_jac=system.jac, **kw)
+            else:
+                sol = solve_bvp(system.fun, bc, t, y, p=np.atleast_1d(p0), fun_jac=system.jac, **kw)
+    except (ValueError, np.linalg.LinAlgError, FloatingPointError):
+        return None
+    if sol.status != 0 or not np.all(np.isfinite(sol.y)):
+        return None
+    if p0 is not None and not np.all(np.isfinite(sol.p)):
+        return None
+    return sol
+
+
+def _initial_mesh(profile, n=41):
+    t = np.linspace(0.0, 1.0, n)
+    if profile.jumps.size:
+        # drop grid points that nearly coincide with a jump, then add the jumps
+        gap = np.min(np.abs(t[:, None] - profile.jumps[None, :]), axis=1)
+        t = np.union1d(t[gap > 0.25 / (n - 1)], profile.jumps)
+    return t
+
+
+def _unloaded_guess(profile, t):
+    """Exact unloaded state phi = 0, m = 0; x, y by quadrature of cos/sin K."""
+    fine = np.union1d(np.linspace(0.0, 1.0, 4001), t)
+    th = profile.K(fine)
+    x = cumulative_trapezoid(np.cos(th), fine, initial=0.0)
+    y = cumulative_trapezoid(np.sin(th), fine, initial=0.0)
+    y4 = np.vstack([np.zeros_like(t), np.zeros_like(t), np.interp(t, fine, x), np.interp(t, fine, y)])
+    return t, y4
+
+
+def _continuation(solve_at, state0, stops=(1.0,), first_step=0.25):
+    """Walk lam from 0 to each of ``stops`` in adaptive steps.
+
+    ``solve_at(lam, state)`` returns a new state or None. A step grows by 1.6
+    after a success but never beyond ``max(first_step, lam)`` (so a large load
+    is reached geometrically) and halves after a failure. Returns
+    (list of states at the stops, last lam solved, last state, ok).
+    """
+    first_step = min(0.25, first_step)
+    lam, state, step = 0.0, state0, first_step
+    reached = []
+    n_steps = 0
+    min_step = min(_MIN_STEP, first_step / 8)
+    for stop in stops:
+        while lam < stop - 1e-15:
+            trial = min(stop, lam + step)
+            new = solve_at(trial, state)
+            n_steps += 1
+            if new is not None:
+                lam, state = trial, new
+                step = min(step * 1.6, max(first_step, lam), 0.5)
+            else:
+                step *= 0.5
+                if step < min_step or n_steps > _MAX_CONTINUATION_STEPS:
+                    return reached, lam, state, False
+        reached.append(state)
+    return reached, lam, state, True
+
+
+def _shape_from(sol, profile, length, stiffness, n_points, **extra):
+    t = np.linspace(0.0, 1.0, n_points)
+    # keep the exact nodes at curvature jumps out of the way: sol.sol is C1 cubic
+    yy = sol.sol(t)
+    theta = yy[0] + profile.K(t)
+    s = t * length
+    return ElasticaShape(
+        s=s,
+        x=yy[2] * length,
+        y=yy[3] * length,
+        theta=theta,
+        bending_moment=yy[1] * stiffness / length,
+        tip_x=float(sol.y[2, -1] * length),
+        tip_y=float(sol.y[3, -1] * length),
+        tip_angle=float(sol.y[0, -1] + profile.K(np.array([1.0]))[0]),
+        **extra,
+    )
+
+
+# --------------------------------------------------------------------------- public API
+
+
+def cantilever_shape(
+    *,
+    length,
+    bending_stiffness,
+    spontaneous_curvature,
+    tip_force=(0.0, 0.0),
+    tip_moment=0.0,
+    weight_per_length=0.0,
+    gravity_direction=(0.0, -1.0),
+    n_points=201,
+    raise_on_failure=True,
+) -> ElasticaShape:
+    """Large-deflection shape of a clamped strip under spontaneous curvature and loads.
+
+    Parameters
+    ----------
+    length : float
+        Free length of the strip [m], > 0.
+    bending_stiffness : float
+        Bending stiffness EI of the whole strip (width included) [N m^2], > 0.
+    spontaneous_curvature : float, callable or array_like
+        Curvature the strip takes without load [1/m]: a number (uniform), a
+        callable ``kappa0(s)`` of arc length [m] (sampled at 801 points and
+        taken piecewise linear; use :func:`piecewise_curvature` for steps,
+        which are then exact), or an array of ``n_points`` values at
+        ``s = linspace(0, length, n_points)`` (piecewise linear between them).
+    tip_force : tuple of float, optional
+        Tip force (Fx, Fy), fixed in direction as the strip deflects [N].
+    tip_moment : float, optional
+        Tip moment, counter-clockwise positive (it bends toward +y) [N m].
+    weight_per_length : float, optional
+        Self-weight per unit length, >= 0 [N/m].
+    gravity_direction : tuple of float, optional
+        Direction of gravity in the (x, y) plane [-]; normalised here.
+        Default (0, -1).
+    n_points : int, optional
+        Number of output points along the strip [-], >= 2.
+    raise_on_failure : bool, optional
+        If True (default) a load the solver cannot reach raises
+        :class:`~actsim.errors.ActsimInputError`; if False the shape at the
+        largest load reached is returned with ``success=False``.
+
+    Returns
+    -------
+    ElasticaShape
+        Shape, tangent angle, bending moment and tip values.
+
+    Raises
+    ------
+    ActsimInputError
+        Bad input, or (with ``raise_on_failure``) no converged solution; the
+        one-line message gives the largest load fraction solved.
+
+    Notes
+    -----
+    Moment balance of the part of the strip beyond ``s``:
+
+    .. math::
+
+        EI\\,(\\theta' - \\kappa_0) = (x_L - x) F_y - (y_L - y) F_x + M_L
+            + w \\int_s^L \\bigl[(x(t) - x) g_y - (y(t) - y) g_x\\bigr] dt
+
+    solved with scipy's collocation BVP solver (tolerance 1e-8 on the
+    dimensionless system) by continuation: the loads are ramped from zero in
+    adaptive steps (at least four), each solve starting from the previous
+    shape. Dead loads only: the force keeps its direction as the strip turns.
+    A perfectly straight strip under an axial compressive force stays on the
+    straight branch (the Euler bifurcation at ``F L^2/EI = pi^2/4`` is not
+    followed); give it a small curvature or transverse load to buckle it.
+    Dimensionless loads above 1e6 are refused: the bending boundary layer at
+    the clamp, ``sqrt(EI/|F|)``, would be shorter than ``L/1000``.
+
+    References
+    ----------
+    .. [1] Bisshopp, K. E. and Drucker, D. C., "Large deflection of cantilever
+       beams", Quarterly of Applied Mathematics 3(3), 272-275, 1945.
+    .. [2] Timoshenko, S. P. and Gere, J. M., *Theory of Elastic Stability*,
+       2nd ed., McGraw-Hill, 1961.
+    .. [3] Kierzenka, J. and Shampine, L. F., "A BVP solver based on residual
+       control and the MATLAB PSE", ACM Transactions on Mathematical Software
+       27(3), 299-316, 2001.
+    """
+    L = _positive(length, "length", "m")
+    EI = _positive(bending_stiffness, "bending_stiffness", "N m^2")
+    n_points = _n_points(n_points)
+    F = _vector2(tip_force, "tip_force", "N")
+    M = _finite(tip_moment, "tip_moment", "N m")
+    w = _finite(weight_per_length, "weight_per_length", "N/m")
+    if w < 0.0:
+        raise ActsimInputError(f"weight_per_length: {w:g} is outside the allowed range (>= 0 N/m)")
+    g = _vector2(gravity_direction, "gravity_direction", "-")
+    gn = float(np.hypot(*g))
+    if gn == 0.0:
+        raise ActsimInputError("gravity_direction: (0, 0) has no direction; give e.g. (0, -1)")
+    g = g / gn
+    prof = _profile(spontaneous_curvature, L, n_points)
+
+    Fd = F * L * L / EI
+    Md = M * L / EI
+    wd = w * L**3 / EI
+    for name, value, unit, dimless, group in (
+        ("tip_force", float(np.hypot(*F)), "N", float(np.hypot(*Fd)), "|F| L^2/EI"),
+        ("tip_moment", abs(M), "N m", abs(Md), "|M| L/EI"),
+        ("weight_per_length", w, "N/m", wd, "w L^3/EI"),
+    ):
+        if dimless > _MAX_LOAD:
+            raise ActsimInputError(
+                f"{name}: {value:g} {unit} gives {group} = {dimless:.3g}, outside the range the elastica "
+                f"solver handles (<= {_MAX_LOAD:g}); the slender-beam model does not hold there"
+            )
+
+    t0 = _initial_mesh(prof)
+    guess = _unloaded_guess(prof, t0)
+
+    def solve_at(lam, state):
+        system = _System(prof, lam * Fd, lam * wd, g)
+
+        def bc(ya, yb):
+            return np.array([ya[0], ya[2], ya[3], yb[1] - lam * Md])
+
+        return _solve(system, bc, state)
+
+    first = solve_at(0.0, guess)
+    if first is None:  # pragma: no cover - the unloaded problem is linear in x, y
+        raise ActsimInputError("spontaneous_curvature: the unloaded shape could not be solved; check the profile")
+    if Fd.any() or Md or wd:
+        # first step: a dimensionless load of about 2 (|F| L^2/EI, |M| L/EI, w L^3/(8 EI))
+        size = max(float(np.hypot(*Fd)), abs(Md), wd / 8.0)
+        _, lam, sol, ok = _continuation(
+            lambda lam, st: solve_at(lam, (st.x, st.y)), first, first_step=2.0 / max(size, 1e-300)
+        )
+    else:
+        lam, sol, ok = 1.0, first, True
+    if not ok:
+        msg = (
+            f"tip_force/tip_moment/weight_per_length: the elastica did not converge beyond {100 * lam:.3g} % of the load "
+            f"(solved up to tip_force ({lam * F[0]:.4g}, {lam * F[1]:.4g}) N, tip_moment {lam * M:.4g} N m, "
+            f"weight_per_length {lam * w:.4g} N/m; |F| L^2/EI = {lam * float(np.hypot(*Fd)):.4g}); "
+            "the strip may snap through there, or the load is beyond the solver's reach"
+        )
+        if raise_on_failure:
+            raise ActsimInputError(msg)
+        return _shape_from(sol, prof, L, EI, n_points, success=False, load_fraction=lam, message=msg)
+    return _shape_from(sol, prof, L, EI, n_points)
+
+
+def blocked_tip_force(*, length, bending_stiffness, spontaneous_curvature, rotation="free", n_points=201) -> BlockedTip:
+    """Force needed to hold the tip of a curling strip on its original axis.
+
+    Parameters
+    ----------
+    length : float
+        Free length of the strip [m], > 0.
+    bending_stiffness : float
+        Bending stiffness EI of the whole strip [N m^2], > 0.
+    spontaneous_curvature : float, callable or array_like
+        As in :func:`cantilever_shape` [1/m].
+    rotation : {"free", "fixed"}
+        ``"free"``: the tip may turn (a knife edge or pin); ``"fixed"``: the
+        tip is also held at zero rotation (a guided clamp) [-].
+    n_points : int, optional
+        Points of the returned shape [-].
+
+    Returns
+    -------
+    BlockedTip
+        Force along +y exerted by the strip on the support [N], tip moment
+        [N m] and the held shape.
+
+    Notes
+    -----
+    The support holds the tip at ``y = 0`` and acts normal to the original
+    axis (along y); the tip slides freely along x. An inextensible strip whose
+    tip is held at the full point (L, 0) would have to be straight, which
+    moment balance forbids unless ``kappa0`` is linear in ``s``, so the
+    x-component is left free (zero). At large curvature the held strip is an
+    S-shape whose tip sits short of ``x = L``. The state is reached by
+    continuation in the curvature amplitude from the straight strip.
+
+    Small-deflection limits (uniform curvature, from superposing the
+    cantilever formulas ``y = kappa L^2/2`` and ``y = F L^3/(3 EI)``):
+
+    .. math::
+
+        F_\\text{free} = \\frac{3\\,EI\\,\\kappa_0}{2L}, \\qquad
+        F_\\text{fixed} = 0,\\; M_\\text{fixed} = EI\\,\\kappa_0 .
+
+    With ``rotation="fixed"`` and uniform curvature the result is exact at any
+    size: the strip stays straight under the pure moment ``EI kappa0``.
+
+    References
+    ----------
+    .. [1] Timoshenko, S. P. and Gere, J. M., *Mechanics of Materials*,
+       Van Nostrand Reinhold, 1972 (cantilever deflection formulas).
+    .. [2] Timoshenko, S. P. and Gere, J. M., *Theory of Elastic Stability*,
+       2nd ed., McGraw-Hill, 1961.
+    """
+    L = _positive(length, "length", "m")
+    EI = _positive(bending_stiffness, "bending_stiffness", "N m^2")
+    n_points = _n_points(n_points)
+    if rotation not in ("free", "fixed"):
+        raise ActsimInputError(f"rotation: {rotation!r} is not one of 'free', 'fixed'")
+    prof = _profile(spontaneous_curvature, L, n_points)
+    t0 = _initial_mesh(prof)
+    straight = (t0, np.vstack([np.zeros_like(t0), np.zeros_like(t0), t0, np.zeros_like(t0)]))
+
+    def solve_at(lam, state):
+        p = prof.scaled(lam)
+        system = _System(p, (0.0, 0.0), 0.0, (0.0, -1.0), free_force=(1,))
+        Ktip = p.total
+
+        if rotation == "free":
+
+            def bc(ya, yb, pp):
+                return np.array([ya[0], ya[2], ya[3], yb[1], yb[3]])
+
+        else:
+
+            def bc(ya, yb, pp):
+                return np.array([ya[0], ya[2], ya[3], yb[0] + Ktip, yb[3]])
+
+        guess, p0 = state
+        sol = _solve(system, bc, guess, p0)
+        return None if sol is None else ((sol.x, sol.y), sol.p.copy(), sol)
+
+    state0 = (straight, np.array([0.0]))
+    first = solve_at(1e-12, state0)
+    _, lam, st, ok = _continuation(lambda lam, s_: solve_at(lam, s_[:2]), first)
+    if not ok:
+        raise ActsimInputError(
+            f"spontaneous_curvature: the blocked state did not converge beyond {100 * lam:.3g} % of the curvature "
+            f"(bend angle {lam * prof.total:.4g} rad solved of {prof.total:.4g} rad)"
+        )
+    sol = st[2]
+    fy = float(sol.p[0]) * EI / L**2  # applied (reaction) force on the strip, along y
+    mtip = float(sol.y[1, -1]) * EI / L  # applied tip moment on the strip
+    shape = _shape_from(sol, prof, L, EI, n_points)
+    return BlockedTip(force=-fy, tip_moment=-mtip if rotation == "fixed" else 0.0, shape=shape)
+
+
+def load_line(*, length, bending_stiffness, spontaneous_curvature, n=21, n_points=201) -> LoadLine:
+    """Tip force against tip displacement, from blocked to free, and the work.
+
+    Parameters
+    ----------
+    length : float
+        Free length of the strip [m], > 0.
+    bending_stiffness : float
+        Bending stiffness EI of the whole strip [N m^2], > 0.
+    spontaneous_curvature : float, callable or array_like
+        As in :func:`cantilever_shape` [1/m].
+    n : int, optional
+        Number of points on the line [-], >= 2.
+    n_points : int, optional
+        Length of an array ``spontaneous_curvature`` (values at
+        ``linspace(0, length, n_points)``) [-].
+
+    Returns
+    -------
+    LoadLine
+        Displacement along y [m] (0 = blocked ... free tip y), force along +y
+        on a frictionless support normal to the original axis [N], tip x [m]
+        and the work [J].
+
+    Notes
+    -----
+    Each point holds the tip at ``y = u`` with a force along y only (the tip
+    turns and slides along x freely), as in :func:`blocked_tip_force` with
+    ``rotation="free"``. The points are equally spaced in ``u`` and reached
+    by continuation from the free shape. The work is
+
+    .. math::
+
+        W = \\int_0^{u_\\text{free}} P(u)\\,du ,
+
+    which in the small-deflection limit (``P = 3 EI (u_free - u)/L^3``,
+    ``u_free = kappa L^2/2``) is ``W = 3 EI kappa^2 L / 8``.
+
+    References
+    ----------
+    .. [1] Timoshenko, S. P. and Gere, J. M., *Mechanics of Materials*,
+       Van Nostrand Reinhold, 1972 (cantilever deflection formulas).
+    """
+    L = _positive(length, "length", "m")
+    EI = _positive(bending_stiffness, "bending_stiffness", "N m^2")
+    n = _n_points(n, "n")
+    n_points = _n_points(n_points)
+    prof = _profile(spontaneous_curvature, L, n_points)
+    t0 = _initial_mesh(prof)
+    free_guess = _unloaded_guess(prof, t0)
+    system = _System(prof, (0.0, 0.0), 0.0, (0.0, -1.0), free_force=(1,))
+
+    def bc_for(delta):
+        def bc(ya, yb, pp):
+            return np.array([ya[0], ya[2], ya[3], yb[1], yb[3] - delta])
+
+        return bc
+
+    sol_free = _solve(system, bc_for(free_guess[1][3, -1]), free_guess, np.array([0.0]))
+    if sol_free is None:  # pragma: no cover
+        raise ActsimInputError("spontaneous_curvature: the free shape could not be solved; check the profile")
+    u_free = float(sol_free.y[3, -1])
+
+    def solve_at(lam, state):
+        sol = _solve(system, bc_for((1.0 - lam) * u_free), state[0], state[1])
+        return None if sol is None else ((sol.x, sol.y), sol.p.copy(), sol)
+
+    stops = np.linspace(0.0, 1.0, n)[1:]
+    reached, lam, _, ok = _continuation(solve_at, ((sol_free.x, sol_free.y), np.array([0.0]), sol_free), stops)
+    if not ok:
+        raise ActsimInputError(
+            f"spontaneous_curvature: the load line did not converge beyond {100 * lam:.3g} % of the way to blocked"
+        )
+    sols = [sol_free] + [r[2] for r in reached]
+    # order from blocked (u = 0) to free
+    sols = sols[::-1]
+    u = np.array([s_.y[3, -1] for s_ in sols]) * L
+    u[0] = 0.0
+    force = -np.array([s_.p[0] for s_ in sols]) * EI / L**2
+    tip_x = np.array([s_.y[2, -1] for s_ in sols]) * L
+    work = float(trapezoid(force, u))
+    return LoadLine(displacement=u, force=force, tip_x=tip_x, work=work)
+
+
+def circular_arc_tip(*, curvature, length):
+    """Tip position and angle of a clamped strip bent into a circular arc.
+
+    Parameters
+    ----------
+    curvature : float or array_like
+        Uniform curvature kappa [1/m]; any sign, zero included.
+    length : float or array_like
+        Arc length L [m].
+
+    Returns
+    -------
+    x_tip, y_tip, tip_angle : float or ndarray
+        Tip position [m] and tangent angle [rad].
+
+    Notes
+    -----
+    .. math::
+
+        \\theta = \\kappa L, \\quad
+        x = \\frac{\\sin\\theta}{\\kappa} = L\\,\\mathrm{sinc}(\\theta), \\quad
+        y = \\frac{1 - \\cos\\theta}{\\kappa}
+          = L\\,\\frac{\\theta}{2}\\,\\mathrm{sinc}^2(\\theta/2)
+
+    with ``sinc(u) = sin(u)/u``. The half-angle form has no 0/0 and no
+    cancellation as ``kappa L -> 0``, where it tends to the series
+    ``y = kappa L^2/2 - kappa^3 L^4/24 + ...``, ``x = L - kappa^2 L^3/6 + ...``.
+
+    References
+    ----------
+    .. [1] Timoshenko, S. P. and Gere, J. M., *Theory of Elastic Stability*,
+       2nd ed., McGraw-Hill, 1961 (pure bending gives a circular arc).
+    """
+    k = np.asarray(curvature, dtype=float)
+    L = np.asarray(length, dtype=float)
+    if not (np.all(np.isfinite(k)) and np.all(np.isfinite(L))):
+        raise ActsimInputError("curvature/length: values must be finite [1/m, m]")
+    if np.any(L < 0):
+        raise ActsimInputError(f"length: {np.min(L):g} is outside the allowed range (>= 0 m)")
+    th = k * L
+    x = L * np.sinc(th / np.pi)
+    y = L * 0.5 * th * np.sinc(th / (2.0 * np.pi)) ** 2
+    if x.ndim == 0:
+        return float(x), float(y), float(th)
+    return x, y, th
