@@ -543,6 +543,10 @@ def fit_bend(scenario, curves, *, parameters=None, confidence=0.95, max_iteratio
             raise ActsimInputError(f"{p.path}: starting value {v:g} {p.unit} is outside its bounds "
                                    f"{p.lower:g}..{p.upper:g} {p.unit}")
         p0[k] = v
+    try:  # a misspelt path or a value the scenario refuses shows up here, before any fitting
+        apply_overrides(scenario, {p.path: p.override(v) for p, v in zip(params, p0)})
+    except ActsimInputError as exc:
+        raise ActsimInputError(f"parameters: {exc}") from None
     lo = np.array([p.lower for p in params])
     hi = np.array([p.upper for p in params])
     scale = np.abs(p0)
@@ -588,7 +592,7 @@ def fit_bend(scenario, curves, *, parameters=None, confidence=0.95, max_iteratio
     ulo, uhi = lo / scale, hi / scale
     with np.errstate(all="ignore"):
         sol = least_squares(residuals, u0, bounds=(ulo, uhi), x_scale=1.0, method="trf", max_nfev=max_iterations,
-                            xtol=1e-10, ftol=1e-10, gtol=1e-10)
+                            xtol=1e-8, ftol=1e-8, gtol=1e-8)
     if sol.status == 0 and not allow_unconverged:
         raise ActsimInputError(
             f"fit: did not converge within {max_iterations} iterations ({count['sims']} simulations); start closer "
