@@ -77,6 +77,49 @@ def _layer_interfaces(ds, h):
     return out
 
 
+def shape_memory_figure(ds, path):
+    """Axial strain, bend angle and mean light-formed network density through a programming cycle."""
+    plt = _plt()
+    fig, axes = plt.subplots(3, 1, figsize=(6.4, 6.6), sharex=True)
+    t = ds["time"].values
+    axes[0].plot(t, 100 * ds["axial_strain"].values, color="C0")
+    axes[0].set_ylabel("axial strain [%]")
+    axes[1].plot(t, np.degrees(ds["bend_angle"].values), color="C1")
+    axes[1].set_ylabel("bend angle [deg]")
+    net = ds["network_density"].values
+    active = np.any(net > 0, axis=0) | (ds["network_strain"].values != 0).any(axis=0)
+    axes[2].plot(t, net[:, active].mean(axis=1) if active.any() else net.mean(axis=1), color="C2", label="mean")
+    if active.any():
+        axes[2].plot(t, net[:, active].max(axis=1), color="C2", ls=":", label="top/bottom extremes")
+        axes[2].plot(t, net[:, active].min(axis=1), color="C2", ls=":")
+    axes[2].set_ylabel("network density [1]")
+    axes[2].set_xlabel("time [s]")
+    axes[2].legend(fontsize=7)
+    steps = ds["protocol_step"].values
+    for ax in axes:
+        for k in np.nonzero(np.diff(steps))[0]:
+            ax.axvline(t[k], color="0.7", lw=0.8)
+    fig.suptitle("Programming and recovery (grey lines: protocol steps)", fontsize=10)
+    save_figure(fig, path)
+    plt.close(fig)
+
+
+def temperature_figure(ds, path):
+    """Peak and face temperatures against time [degC]."""
+    plt = _plt()
+    fig, ax = plt.subplots(figsize=(6.4, 3.6))
+    t = ds["time"].values
+    ax.plot(t, ds["peak_temperature"].values - 273.15, label="peak (inside)")
+    ax.plot(t, ds["surface_temperature_top"].values - 273.15, ls="--", label="top face")
+    ax.plot(t, ds["surface_temperature_bottom"].values - 273.15, ls=":", label="bottom face")
+    ax.set_xlabel("time [s]")
+    ax.set_ylabel("temperature [degC]")
+    ax.legend(fontsize=8)
+    ax.set_title("Photothermal heating", fontsize=10)
+    save_figure(fig, path)
+    plt.close(fig)
+
+
 def write_standard_figures(ds, folder, *, target_bend_angle=None):
     """Write the standard figures into ``folder``; returns their paths."""
     from pathlib import Path
@@ -85,4 +128,10 @@ def write_standard_figures(ds, folder, *, target_bend_angle=None):
     paths = [folder / "bend_angle.png", folder / "profiles.png"]
     bend_angle_figure(ds, paths[0], target_bend_angle=target_bend_angle)
     profiles_figure(ds, paths[1])
+    if "network_density" in ds:
+        paths.append(folder / "shape_memory.png")
+        shape_memory_figure(ds, paths[-1])
+    if "temperature" in ds:
+        paths.append(folder / "temperature.png")
+        temperature_figure(ds, paths[-1])
     return paths

@@ -508,12 +508,14 @@ def assemble_dataset(scenario: Scenario, p: Problem, o: dict) -> xr.Dataset:
         "photon_flux_reflected": _var(("time",), o["budget"][:, 1], "mol m-2 s-1", "photon flux reflected at the entry faces"),
         "photon_flux_absorbed": _var(("time",), o["budget"][:, 2], "mol m-2 s-1", "photon flux absorbed in the stack"),
         "photon_flux_transmitted": _var(("time",), o["budget"][:, 3], "mol m-2 s-1", "photon flux leaving through the far faces"),
-        "conversion_front_depth": _var(("time",), front, "m", f"depth below the {'top' if lit_from_top else 'bottom'} face where conversion falls to half its maximum"),
         "incident_irradiance": _var(("time",), incident_power, "W m-2", "total incident irradiance of the sources on"),
         "optical_dose": _var(("time",), dose, "J m-2", "incident radiant exposure since t = 0"),
         "protocol_step": _var(("time",), step_of_time.astype(np.int32), "1", "index of the protocol step (0-based) that ends at or contains this time"),
         "hold": _var(("time",), hold_names, "1", "mechanical condition of that protocol step"),
     }
+    if np.any(p.c0 > 0):
+        data_vars["conversion_front_depth"] = _var(
+            ("time",), front, "m", f"depth below the {'top' if lit_from_top else 'bottom'} face where conversion falls to half its maximum")
     if scenario.heat.enabled:
         from .thermal import face_temperatures
 
