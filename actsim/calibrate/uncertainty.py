@@ -352,9 +352,10 @@ def run_uncertainty(scenario, *, n_draws, out_dir, seed=0, engine="kernel", quie
         lines = [f"uncertainty: {m}" for m in res.messages]
         sl = res.dataset["bend_angle_p05"].values, res.dataset["bend_angle_p95"].values
         i = int(np.argmax(np.abs(res.dataset["bend_angle_nominal"].values)))
+        lo_i, hi_i = np.degrees(sl[0][i]), np.degrees(sl[1][i])
         lines.append(f"uncertainty: bend angle at t = {res.dataset['time'].values[i]:.4g} s (largest): "
-                     f"{np.degrees(res.dataset['bend_angle_nominal'].values[i]):.3g} deg, 5-95 % band "
-                     f"{np.degrees(sl[0][i]):.3g}..{np.degrees(sl[1][i]):.3g} deg")
+                     f"{np.degrees(res.dataset['bend_angle_nominal'].values[i]):.5g} deg, 5-95 % band "
+                     f"{lo_i:.5g}..{hi_i:.5g} deg (width {hi_i - lo_i:.3g} deg)")
         lines.append(f"uncertainty bands written to {out}/ (uncertainty.nc, uncertainty.csv, "
                      "figures/uncertainty_bend_angle.png)")
         print(with_caution("\n".join(lines)))
