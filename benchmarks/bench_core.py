@@ -98,6 +98,24 @@ def main():
               f"ratio to kernel {t_ref / t_kernel:7.1f} x, to simulate() {t_ref / t_sim:7.1f} x")
     print("  (target in the issue: >= 30 x; the default RK45 is the 'plain' reference)")
 
+    # Cost of heat: the same design with photothermal heating on (TR-BDF2 and Crank–Nicolson)
+    heat = """
+[heat]
+ambient_temperature = "20 degC"
+scheme = "{scheme}"
+"""
+    for scheme in ("tr-bdf2", "crank-nicolson"):
+        text = film_toml(cells=CELLS, step=f"{T_END / STEPS} s", duration=f"{T_END} s", output=f"{T_END} s")
+        text = text.replace("[materials.film]", heat.format(scheme=scheme) + "[materials.film]\nconductivity = \"0.001 W/(m*K)\"")
+        try:
+            ph = build_problem(parse_scenario(text))
+        except actsim.ActsimInputError as exc:
+            print(f"  heat on ({scheme}): not run: {exc}")
+            continue
+        run_kernel(ph)
+        t_heat = best_of(lambda: run_kernel(ph))
+        print(f"  heat on ({scheme:<14}) {t_heat * 1e3:8.3f} ms per design, ratio to heat off {t_heat / t_kernel:5.2f} x (target <= 2)")
+
 
 if __name__ == "__main__":
     main()
