@@ -74,6 +74,8 @@ def summary_table(summary: dict) -> str:
         ratio = lambda v: "not measured" if v is None else f"{100 * v:.1f} %"  # noqa: E731
         rows.append((f"cycle {c['cycle']} ({c['kind']}) fixity", f"{ratio(c['fixity_ratio'])} of the programmed {what}"))
         rows.append((f"cycle {c['cycle']} ({c['kind']}) recovery", ratio(c["recovery_ratio"])))
+        if c.get("bend_angle_after_release") is not None:
+            rows.append((f"cycle {c['cycle']} bend after release", _fmt_angle(c["bend_angle_after_release"])))
     w = max(len(r[0]) for r in rows)
     return "\n".join(f"  {k:<{w}}  {v}" for k, v in rows)
 

@@ -47,7 +47,8 @@ def shape_memory_cycles(ds, protocol):
         One entry per cycle: ``cycle``, ``kind`` ("stretch" or "bend"),
         ``programmed``, ``fixed``, ``recovered`` (strain [1] or curvature [m-1]),
         ``fixity_ratio`` and ``recovery_ratio`` [1] (None where the protocol has
-        no step to measure it).
+        no step to measure it), and ``bend_angle_after_release`` [rad]: the bend
+        that appears on release when the light fixed one face more than the other.
     """
     steps = ds["protocol_step"].values
     holds = [s.hold for s in protocol]
@@ -67,9 +68,10 @@ def shape_memory_cycles(ds, protocol):
             programmed = float(values[_step_end_index(steps, end_hold)])
         nxt = starts[n + 1] if n + 1 < len(starts) else len(holds)
         free_steps = [j for j in range(end_hold + 1, nxt) if holds[j] in ("free", "release")]
-        fixed = recovered = fixity = recovery = None
+        fixed = recovered = fixity = recovery = fixed_bend = None
         if free_steps:
             fixed = float(values[_step_end_index(steps, free_steps[0])])
+            fixed_bend = float(ds["bend_angle"].values[_step_end_index(steps, free_steps[0])])
             span = programmed - baseline
             fixity = (fixed - baseline) / span if span != 0 else None
             if len(free_steps) > 1:
@@ -77,6 +79,6 @@ def shape_memory_cycles(ds, protocol):
                 recovery = (programmed - recovered) / span if span != 0 else None
         cycles.append({
             "cycle": n + 1, "kind": kind, "programmed": float(programmed), "fixed": fixed, "recovered": recovered,
-            "fixity_ratio": fixity, "recovery_ratio": recovery,
+            "fixity_ratio": fixity, "recovery_ratio": recovery, "bend_angle_after_release": fixed_bend,
         })
     return cycles
