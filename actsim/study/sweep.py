@@ -655,12 +655,18 @@ def execute(plan: SweepPlan, *, store=None, scheduler=None, progress=True, conne
         ids = list(plan.chunk_designs(c))
         return (sc.text, sc.path, [plan.overrides(i) for i in ids], ids, plan.target, plan.keep_series)
 
+    pause = float(os.environ.get("ACTSIM_SWEEP_PAUSE", "0") or 0)  # seconds after each chunk (interruption tests)
+
     def finish(c, res):
         ds = _chunk_dataset(res)
         if store is not None:
             write_netcdf(ds, _chunk_path(store, c))
         results[c] = ds
         bar.update(len(res["design"]))
+        if pause > 0:
+            import time
+
+            time.sleep(pause)
 
     mode = scheduler
     if mode is None:

@@ -1,0 +1,240 @@
+"""``actsim sweep SCENARIO --vary FIELD=VALUES ...``: design sweeps, trade-offs and inverse design."""
+
+from __future__ import annotations
+
+import argparse
+import json
+import math
+from pathlib import Path
+
+from ..errors import ActsimInputError
+
+EPILOG = """\
+VALUES is a list (10 mW/cm^2,50 mW/cm^2), a linear range lin(5 um, 200 um, 40) or a
+log range log(1 mW/cm^2, 100 mW/cm^2, 9). Fields are dotted paths into the scenario,
+list entries by index or name. --link FIELD=VALUES ties a field to the --vary before it,
+value by value (same number of values). Results: OUT/sweep.nc, OUT/metrics.csv,
+OUT/chunks/ (one file per chunk; re-run the same command to resume), OUT/figures/.
+
+example:
+  actsim sweep scenarios/thickness_study.toml --vary "layers[active film].thickness=lin(5 um, 200 um, 40)" \\
+      --target-angle "30 deg" --pareto --recommend "layers[active film].thickness" --within "20 s" --series
+  actsim sweep scenarios/led_choice.toml --vary "sources[led].wavelength=365 nm,405 nm,450 nm" \\
+      --link "protocol[0].light.led=41 mW/cm^2,55 mW/cm^2,62 mW/cm^2" --target-angle "20 deg"
+  actsim sweep scenarios/vent_flap.toml --vary "protocol[0].light.uv_lamp=log(1 mW/cm^2, 100 mW/cm^2)" \\
+      --vary "materials.contracting_film.photo_strain=-0.02,-0.01" --sample lhs --samples 200
+  actsim sweep scenarios/vent_flap.toml --vary "protocol[0].light.uv_lamp=10 mW/cm^2,50 mW/cm^2" --scheduler tcp://10.0.0.5:8786
+  actsim sweep scenarios/led_choice.toml --optimise power --free "protocol[0].light.led=1 mW/cm^2..300 mW/cm^2" \\
+      --target-angle "20 deg" --within "30 s" --max-temperature "45 degC"
+"""
+
+
+class _AxisAction(argparse.Action):
+    """Keep --vary and --link in command-line order in one list."""
+
+    def __call__(self, parser, namespace, values, option_string=None):
+        items = list(getattr(namespace, "axes", None) or [])
+        items.append((option_string.lstrip("-"), values))
+        setattr(namespace, "axes", items)
+
+
+def build_vary(items) -> dict:
+    """The ``vary`` dict of :func:`actsim.study.sweep.sweep` from (--vary|--link, text) pairs."""
+    from ..study.sweep import parse_vary_option
+
+    vary: dict = {}
+    last = None
+    for kind, text in items:
+        path, values = parse_vary_option(text)
+        if kind == "vary":
+            vary[path] = values
+            last = path
+        else:
+            if last is None:
+                raise ActsimInputError(f"--link: '{text}' must follow the --vary it is linked to")
+            old_key = last
+            old = vary.pop(old_key)
+            key = (old_key if isinstance(old_key, tuple) else (old_key,)) + (path,)
+            vals = (old if isinstance(old_key, tuple) else (old,)) + (values,)
+            vary[key] = vals
+            last = key
+    if not vary:
+        raise ActsimInputError("--vary: give at least one FIELD=VALUES (or --optimise with --free)")
+    return vary
+
+
+def _quantity(text, option, kind):
+    from ..units import parse_quantity
+
+    return None if text is None else parse_quantity(text, field=option, kind=kind)
+
+
+def _resolve_dim(ds, name, option):
+    from ..study.sweep import dim_name
+
+    for cand in (name, dim_name(name)):
+        if cand in ds.dims:
+            return cand
+    import difflib
+
+    dims = [str(d) for d in ds.dims if d != "time"]
+    hint = difflib.get_close_matches(dim_name(name), dims, n=1)
+    raise ActsimInputError(f"{option}: '{name}' is not a swept field" + (f"; did you mean '{hint[0]}'?" if hint else
+                           f"; swept: {', '.join(dims)}"))
+
+
+def _metrics_csv(ds, path):
+    from ..io import atomic_path
+
+    cols = [n for n, v in ds.data_vars.items() if "time" not in v.dims]
+    df = ds[cols].to_dataframe().reset_index()
+    df = df.rename(columns={c: f"{c} [{ds[c].attrs.get('units', '')}]" for c in df.columns if c in ds.variables})
+    with atomic_path(path) as tmp:
+        df.to_csv(tmp, index=False, float_format="%.10g")
+
+
+def cmd_sweep(args) -> int:
+    from ..cautions import with_caution
+    from ..scenario import load_scenario
+
+    sc = load_scenario(args.scenario)
+    out = Path(args.output or Path("actsim-out") / f"{Path(args.scenario).stem}-sweep")
+    target = _quantity(args.target_angle, "--target-angle", "angle")
+    within = _quantity(args.within, "--within", "time")
+    if args.optimise:
+        return _cmd_optimise(args, sc, out, target, within)
+    if args.free:
+        raise ActsimInputError("--free: only used with --optimise power|force")
+    from ..io import write_json, write_netcdf
+    from ..study import tradeoff
+    from ..study.sweep import sweep
+
+    vary = build_vary(args.axes or [])
+    sampling = args.sample or "grid"
+    if args.samples is not None and sampling == "grid":
+        raise ActsimInputError("--samples: only used with --sample lhs|sobol")
+    ds = sweep(sc, vary, sampling=sampling, n_samples=args.samples, seed=args.seed, target_bend_angle=target,
+               keep_series=args.series, chunk_size=args.chunk_size, store=out / "chunks", scheduler=args.scheduler,
+               progress=not args.no_progress, yes=args.yes, connect_timeout=args.timeout)
+    write_netcdf(ds, out / "sweep.nc")
+    _metrics_csv(ds, out / "metrics.csv")
+    files = ["sweep.nc", "metrics.csv", "chunks/"]
+    figs = out / "figures"
+    dims = [d for d in ds["status"].dims if d != "design"]
+    has_target = "time_to_target" in ds
+    print(f"{sc.title}: {ds.attrs['n_designs']} designs ({sampling})"
+          + (f", {ds.attrs['n_invalid']} invalid" if ds.attrs["n_invalid"] else "")
+          + (f", {ds.attrs['n_failed']} failed" if ds.attrs["n_failed"] else ""))
+    if has_target:
+        n_reach = int(ds["reached_target"].sum())
+        print(f"  {n_reach} reach {math.degrees(target if target is not None else ds.attrs['target_bend_angle']):.4g} deg")
+    metric = args.heatmap or ("time_to_target" if has_target else "peak_bend_angle")
+    if len(dims) >= 2:
+        tradeoff.heatmap(ds, metric, dims[0], dims[1], figs / f"heatmap_{metric}.png")
+        files.append(f"figures/heatmap_{metric}.png")
+    if args.pareto:
+        if not has_target:
+            raise ActsimInputError("--pareto: needs a target bend angle (--target-angle or [report] target_bend_angle)")
+        pf = tradeoff.pareto_front(ds)
+        tradeoff.pareto_plot(ds, figs / "pareto.png")
+        write_json(out / "pareto.json", {k: v for k, v in pf.items() if k != "mask"})
+        files += ["pareto.json", "figures/pareto.png"]
+        print(f"  Pareto front (time to target vs blocked force): {pf['n_on_front']} designs; "
+              f"{pf['n_not_reaching']} never reach the target (excluded)")
+        for row in pf["table"][:12]:
+            vals = ", ".join(f"{k} = {v:.4g}" if isinstance(v, float) else f"{k} = {v}" for k, v in row.items()
+                             if k not in ("design", "time_to_target", "peak_blocked_force"))
+            print(f"    {vals}: {row['time_to_target']:.3g} s, {row['peak_blocked_force'] * 1e3:.4g} mN")
+    if args.recommend:
+        if within is None:
+            raise ActsimInputError("--recommend: give the time limit with --within, e.g. --within \"20 s\"")
+        if sampling != "grid":
+            raise ActsimInputError("--recommend: needs a grid sweep (not --sample)")
+        dim = _resolve_dim(ds, args.recommend, "--recommend")
+        rows = tradeoff.recommend(ds, dim, within=within)
+        write_json(out / "recommendation.json", {"field": ds[dim].attrs.get("field", dim), "within": within,
+                                                 "units": ds[dim].attrs.get("units", ""), "rows": rows})
+        files.append("recommendation.json")
+        unit = ds[dim].attrs.get("units", "")
+        for row in rows:
+            others = ", ".join(f"{k} = {v:.4g}" if isinstance(v, float) else f"{k} = {v}" for k, v in row.items()
+                               if k not in ("recommended", "time_to_target", "peak_blocked_force"))
+            where = f" at {others}" if others else ""
+            if row["recommended"] is None:
+                print(f"  recommendation{where}: no {ds[dim].attrs.get('field', dim)} reaches the target within {within:g} s")
+            else:
+                print(f"  recommendation{where}: {ds[dim].attrs.get('field', dim)} = {row['recommended']:.4g} {unit} "
+                      f"(target in {row['time_to_target']:.3g} s, blocked force {row['peak_blocked_force'] * 1e3:.4g} mN)")
+    if args.series and dims:
+        tradeoff.bend_family(ds, figs / "bend_family.png", along=dims[0])
+        files.append("figures/bend_family.png")
+    if not math.isnan(float(ds["peak_temperature"].max(skipna=True).fillna(math.nan))):
+        print(f"  peak temperature over the sweep: {float(ds['peak_temperature'].max()) - 273.15:.4g} degC")
+    print(with_caution(f"\nsweep written to {out}/ ({', '.join(files)})"))
+    return 0
+
+
+def _cmd_optimise(args, sc, out, target, within):
+    from ..cautions import with_caution
+    from ..io import write_json
+    from ..study.inverse import format_inverse, inverse_design
+
+    if args.axes:
+        raise ActsimInputError("--vary: not used with --optimise (give the free fields with --free FIELD=LOW..HIGH)")
+    if not args.free:
+        raise ActsimInputError("--optimise: give the free fields with --free FIELD=LOW..HIGH")
+    free = {}
+    for text in args.free:
+        if "=" not in text:
+            raise ActsimInputError(f"--free: '{text}' must be FIELD=LOW..HIGH")
+        path, b = text.split("=", 1)
+        free[path.strip()] = b.strip()
+    res = inverse_design(sc, free, objective=args.optimise, target_bend_angle=target, within=within,
+                         min_force=_quantity(args.min_force, "--min-force", "force"),
+                         max_temperature=_quantity(args.max_temperature, "--max-temperature", "temperature"),
+                         seed=args.seed, maxiter=args.maxiter)
+    write_json(out / "inverse.json", json.loads(json.dumps(res, default=str).replace("NaN", "null")))
+    print(sc.title)
+    print(format_inverse(res))
+    print(with_caution(f"\ninverse design written to {out}/inverse.json"))
+    return 0
+
+
+def register(subparsers) -> None:
+    """Add the ``sweep`` verb to the ``actsim`` command line."""
+    p = subparsers.add_parser(
+        "sweep",
+        help="sweep scenario fields (grid or sampled), trade-offs, recommendations, inverse design",
+        description="Run many variants of a scenario and compare their bend angle, speed, force and heating.",
+        epilog=EPILOG,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    p.add_argument("scenario", metavar="SCENARIO", help="base scenario TOML file")
+    p.add_argument("--vary", action=_AxisAction, metavar="FIELD=VALUES", dest="axes",
+                   help="a field and its values: list, lin(a, b, n) or log(a, b, n), with units (repeat for more dimensions)")
+    p.add_argument("--link", action=_AxisAction, metavar="FIELD=VALUES", dest="axes",
+                   help="a field changed together with the --vary before it, value by value")
+    p.add_argument("--sample", choices=("lhs", "sobol"), help="sample the ranges (Latin hypercube or Sobol) instead of a grid")
+    p.add_argument("--samples", type=int, metavar="N", help="number of sampled designs")
+    p.add_argument("--seed", type=int, default=0, help="seed of the sampler / optimiser (default 0)")
+    p.add_argument("--target-angle", metavar="ANGLE", help="target bend angle, e.g. \"30 deg\" (default: the scenario's)")
+    p.add_argument("--series", action="store_true", help="keep the bend, force and temperature time series of every design")
+    p.add_argument("-o", "--output", metavar="OUT", help="output folder (default: actsim-out/<scenario>-sweep)")
+    p.add_argument("--scheduler", metavar="ADDRESS",
+                   help="dask scheduler address tcp://host:port, or 'inprocess' (default: local worker processes)")
+    p.add_argument("--timeout", type=float, default=10.0, metavar="SECONDS",
+                   help="seconds to wait for the scheduler to answer (default 10)")
+    p.add_argument("--chunk-size", type=int, metavar="N", help="designs per chunk (default from a memory budget)")
+    p.add_argument("--yes", action="store_true", help="run a grid larger than 20000 designs")
+    p.add_argument("--pareto", action="store_true", help="Pareto front of time to target against blocked force")
+    p.add_argument("--recommend", metavar="FIELD", help="best value of FIELD: reaches the target within --within with the largest force")
+    p.add_argument("--within", metavar="TIME", help="time limit for --recommend and --optimise, e.g. \"20 s\"")
+    p.add_argument("--heatmap", metavar="METRIC", help="metric of the heat map over the first two swept fields")
+    p.add_argument("--no-progress", action="store_true", help="no progress bar")
+    g = p.add_argument_group("inverse design (--optimise)")
+    g.add_argument("--optimise", choices=("power", "force"), help="least optical power, or largest blocked force, meeting the targets")
+    g.add_argument("--free", action="append", metavar="FIELD=LOW..HIGH", help="a free field and its bounds (repeat)")
+    g.add_argument("--min-force", metavar="FORCE", help="least peak blocked force, e.g. \"1 mN\"")
+    g.add_argument("--max-temperature", metavar="TEMP", help="highest peak temperature, e.g. \"45 degC\"")
+    g.add_argument("--maxiter", type=int, default=40, help="generations of differential evolution (default 40)")
+    p.set_defaults(func=cmd_sweep, axes=None)
