@@ -256,3 +256,25 @@ def test_cli_fit_tensile_and_bad_kind_options(tmp_path, capsys):
     assert (tmp_path / "t" / "fit.json").is_file() and (tmp_path / "t" / "figures" / "tensile_fit.png").is_file()
     assert main(["fit", "spectra", str(f), str(f), "-o", str(tmp_path / "s")]) == 2
     assert "--concentration" in capsys.readouterr().err
+
+
+def test_docstrings_document_every_parameter():
+    # Project style rule (common practice, no source), as in test_fitstats: numpydoc parameters match the
+    # signature; computational functions carry a math block and references (file and lookup helpers exempt).
+    import importlib
+    import inspect
+    import re
+
+    exempt = {"active_material", "scenario_value", "load_fit_plan", "calibration_table", "fitted_scenario_text",
+              "write_fitted_scenario"}
+    for m in ("bend", "settings", "uncertainty"):
+        mod = importlib.import_module(f"actsim.calibrate.{m}")
+        for name in mod.__all__:
+            obj = getattr(mod, name)
+            if not inspect.isfunction(obj):
+                continue
+            doc = obj.__doc__ or ""
+            for p in inspect.signature(obj).parameters:
+                assert re.search(rf"(^|[\s,*]){re.escape(p)}\b[^\n]*:", doc, re.M) or f"*{p}" in doc, (m, name, p)
+            if name not in exempt:
+                assert ".. math::" in doc and "References" in doc, (m, name)

@@ -170,6 +170,11 @@ def make_parameter(path, *, unit="1", lower, upper, initial=None, name=None) -> 
     .. math::
 
         p_\\mathrm{SI} = p \\cdot [\\mathrm{unit} \\to \\mathrm{SI}]
+
+    References
+    ----------
+    .. [1] Bureau International des Poids et Mesures, *The International System of Units (SI)*,
+       9th edition, 2019.
     """
     from ..scenario import split_field_path
 
@@ -190,7 +195,16 @@ def make_parameter(path, *, unit="1", lower, upper, initial=None, name=None) -> 
 def active_material(scenario) -> str:
     """Name of the one active (chromophore-bearing) material of the scenario's layers.
 
-    Raises ActsimInputError if there is none or more than one (then give the parameters).
+    Parameters
+    ----------
+    scenario : Scenario
+        The scenario.
+
+    Returns
+    -------
+    str
+        The material name; ActsimInputError if there is none or more than one (then give the
+        parameters explicitly).
     """
     names = []
     for layer in scenario.layers:
@@ -206,7 +220,22 @@ def active_material(scenario) -> str:
 
 
 def scenario_value(scenario, path: str, unit: str):
-    """Current value of a scenario field [SI of ``unit``], or None if the file does not set it."""
+    """Current value of a scenario field as written in its TOML text.
+
+    Parameters
+    ----------
+    scenario : Scenario
+        The scenario.
+    path : str
+        Dotted field path.
+    unit : str
+        Unit of the field (``"1"`` if dimensionless).
+
+    Returns
+    -------
+    float or None
+        The value [SI of ``unit``], or None if the file does not set the field.
+    """
     from ..scenario import _descend, split_field_path
 
     raw = tomllib.loads(scenario.text)
@@ -258,6 +287,11 @@ def default_parameters(scenario) -> list[FitParameter]:
     .. math::
 
         |\\varepsilon_\\text{photo}| \\le 0.5, \\quad 0 < \\Phi_f \\le 1, \\quad k_\\text{th} \\ge 0
+
+    References
+    ----------
+    .. [1] IUPAC, *Compendium of Chemical Terminology* (the "Gold Book"), entry "quantum yield"
+       (a fraction of absorbed photons, so at most 1 for a one-photon reaction).
     """
     m = active_material(scenario)
     base = f"materials.{m}"
