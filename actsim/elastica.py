@@ -167,13 +167,21 @@ class LoadLine:
         Tip position along the original axis at each point [m].
     work : float
         Work the tip can do moving from blocked to free against the support,
-        ``int force d(displacement)`` by the trapezoid rule [J].
+        ``int force d(displacement)`` by the trapezoid rule [J], along the
+        path the strip follows (across a snap, the trapezoid between the two
+        branches' neighbouring points).
+    snap_displacement : float
+        Support position at which the shape traced from the blocked state
+        ends in a snap-through to the branch that joins the free shape [m];
+        NaN when the path is smooth (bend angles below about 2.4 rad for
+        uniform curvature).
     """
 
     displacement: np.ndarray
     force: np.ndarray
     tip_x: np.ndarray
     work: float
+    snap_displacement: float = math.nan
 
 
 # --------------------------------------------------------------------------- curvature profiles
@@ -669,63 +677,8 @@ def cantilever_shape(
     return _shape_from(sol, prof, L, EI, n_points)
 
 
-def blocked_tip_force(*, length, bending_stiffness, spontaneous_curvature, rotation="free", n_points=201) -> BlockedTip:
-    """Force needed to hold the tip of a curling strip on its original axis.
-
-    Parameters
-    ----------
-    length : float
-        Free length of the strip [m], > 0.
-    bending_stiffness : float
-        Bending stiffness EI of the whole strip [N m^2], > 0.
-    spontaneous_curvature : float, callable or array_like
-        As in :func:`cantilever_shape` [1/m].
-    rotation : {"free", "fixed"}
-        ``"free"``: the tip may turn (a knife edge or pin); ``"fixed"``: the
-        tip is also held at zero rotation (a guided clamp) [-].
-    n_points : int, optional
-        Points of the returned shape [-].
-
-    Returns
-    -------
-    BlockedTip
-        Force along +y exerted by the strip on the support [N], tip moment
-        [N m] and the held shape.
-
-    Notes
-    -----
-    The support holds the tip at ``y = 0`` and acts normal to the original
-    axis (along y); the tip slides freely along x. An inextensible strip whose
-    tip is held at the full point (L, 0) would have to be straight, which
-    moment balance forbids unless ``kappa0`` is linear in ``s``, so the
-    x-component is left free (zero). At large curvature the held strip is an
-    S-shape whose tip sits short of ``x = L``. The state is reached by
-    continuation in the curvature amplitude from the straight strip.
-
-    Small-deflection limits (uniform curvature, from superposing the
-    cantilever formulas ``y = kappa L^2/2`` and ``y = F L^3/(3 EI)``):
-
-    .. math::
-
-        F_\\text{free} = \\frac{3\\,EI\\,\\kappa_0}{2L}, \\qquad
-        F_\\text{fixed} = 0,\\; M_\\text{fixed} = EI\\,\\kappa_0 .
-
-    With ``rotation="fixed"`` and uniform curvature the result is exact at any
-    size: the strip stays straight under the pure moment ``EI kappa0``.
-
-    References
-    ----------
-    .. [1] Timoshenko, S. P. and Gere, J. M., *Mechanics of Materials*,
-       Van Nostrand Reinhold, 1972 (cantilever deflection formulas).
-    .. [2] Timoshenko, S. P. and Gere, J. M., *Theory of Elastic Stability*,
-       2nd ed., McGraw-Hill, 1961.
-    """
-    L = _positive(length, "length", "m")
-    EI = _positive(bending_stiffness, "bending_stiffness", "N m^2")
-    n_points = _n_points(n_points)
-    if rotation not in ("free", "fixed"):
-        raise ActsimInputError(f"rotation: {rotation!r} is not one of 'free', 'fixed'")
-    prof = _profile(spontaneous_curvature, L, n_points)
+def _blocked_solution(prof, rotation):
+    """Tip held at y = 0 (force along y), by continuation in the curvature amplitude."""
     t0 = _initial_mesh(prof)
     straight = (t0, np.vstack([np.zeros_like(t0), np.zeros_like(t0), t0, np.zeros_like(t0)]))
 
@@ -756,7 +709,70 @@ def blocked_tip_force(*, length, bending_stiffness, spontaneous_curvature, rotat
             f"spontaneous_curvature: the blocked state did not converge beyond {100 * lam:.3g} % of the curvature "
             f"(bend angle {lam * prof.total:.4g} rad solved of {prof.total:.4g} rad)"
         )
-    sol = st[2]
+    return st[2]
+
+
+def blocked_tip_force(*, length, bending_stiffness, spontaneous_curvature, rotation="free", n_points=201) -> BlockedTip:
+    """Force needed to hold the tip of a curling strip on its original axis.
+
+    Parameters
+    ----------
+    length : float
+        Free length of the strip [m], > 0.
+    bending_stiffness : float
+        Bending stiffness EI of the whole strip [N m^2], > 0.
+    spontaneous_curvature : float, callable or array_like
+        As in :func:`cantilever_shape` [1/m].
+    rotation : {"free", "fixed"}
+        ``"free"``: the tip may turn (a knife edge or pin); ``"fixed"``: the
+        tip is also held at zero rotation (a guided clamp) [-].
+    n_points : int, optional
+        Points of the returned shape [-].
+
+    Returns
+    -------
+    BlockedTip
+        Force along +y exerted by the strip on the support [N], tip moment
+        [N m] and the held shape.
+
+    Notes
+    -----
+    The support holds the tip at ``y = 0`` and acts normal to the original
+    axis (along y); the tip slides freely along x. An inextensible strip whose
+    tip is held at the full point (L, 0) would have to be straight, which
+    moment balance forbids unless ``kappa0`` falls linearly to zero at the
+    tip, so the x-component is left free (zero). At large curvature the held
+    strip is an S-shape whose tip sits short of ``x = L``. The state is
+    reached by continuation in the curvature amplitude from the straight
+    strip, as when the light comes on with the tip already held; for bends
+    above about 2.4 rad other equilibria with the same tip position exist (a
+    dead load of this size, applied to the free curled strip, may find one).
+
+    Small-deflection limits (uniform curvature, from superposing the
+    cantilever formulas ``y = kappa L^2/2`` and ``y = F L^3/(3 EI)``):
+
+    .. math::
+
+        F_\\text{free} = \\frac{3\\,EI\\,\\kappa_0}{2L}, \\qquad
+        F_\\text{fixed} = 0,\\; M_\\text{fixed} = EI\\,\\kappa_0 .
+
+    With ``rotation="fixed"`` and uniform curvature the result is exact at any
+    size: the strip stays straight under the pure moment ``EI kappa0``.
+
+    References
+    ----------
+    .. [1] Timoshenko, S. P. and Gere, J. M., *Mechanics of Materials*,
+       Van Nostrand Reinhold, 1972 (cantilever deflection formulas).
+    .. [2] Timoshenko, S. P. and Gere, J. M., *Theory of Elastic Stability*,
+       2nd ed., McGraw-Hill, 1961.
+    """
+    L = _positive(length, "length", "m")
+    EI = _positive(bending_stiffness, "bending_stiffness", "N m^2")
+    n_points = _n_points(n_points)
+    if rotation not in ("free", "fixed"):
+        raise ActsimInputError(f"rotation: {rotation!r} is not one of 'free', 'fixed'")
+    prof = _profile(spontaneous_curvature, L, n_points)
+    sol = _blocked_solution(prof, rotation)
     fy = float(sol.p[0]) * EI / L**2  # applied (reaction) force on the strip, along y
     mtip = float(sol.y[1, -1]) * EI / L  # applied tip moment on the strip
     shape = _shape_from(sol, prof, L, EI, n_points)
@@ -791,8 +807,15 @@ def load_line(*, length, bending_stiffness, spontaneous_curvature, n=21, n_point
     -----
     Each point holds the tip at ``y = u`` with a force along y only (the tip
     turns and slides along x freely), as in :func:`blocked_tip_force` with
-    ``rotation="free"``. The points are equally spaced in ``u`` and reached
-    by continuation from the free shape. The work is
+    ``rotation="free"``. The points are equally spaced in ``u`` and traced by
+    continuation from the blocked state, as when a support that blocks the lit
+    strip is withdrawn step by step. For large bends (uniform curvature with
+    ``kappa L`` above about 2.4 rad) that path folds before it reaches the free
+    tip position: the strip then snaps to the branch that joins the free shape,
+    which is traced from the free end; ``snap_displacement`` records where.
+    Near the free end of a strip curled past about 270 degrees the support
+    pushes almost along the tip tangent, so the force falls steeply there.
+    The work is
 
     .. math::
 
@@ -811,40 +834,58 @@ def load_line(*, length, bending_stiffness, spontaneous_curvature, n=21, n_point
     n = _n_points(n, "n")
     n_points = _n_points(n_points)
     prof = _profile(spontaneous_curvature, L, n_points)
-    t0 = _initial_mesh(prof)
-    free_guess = _unloaded_guess(prof, t0)
+    free_guess = _unloaded_guess(prof, _initial_mesh(prof))
+    u_free = float(free_guess[1][3, -1])  # tip rise of the unloaded strip (quadrature of sin K)
     system = _System(prof, (0.0, 0.0), 0.0, (0.0, -1.0), free_force=(1,))
+    blocked = _blocked_solution(prof, "free")
+    f_scale = max(abs(float(blocked.p[0])), 1e-300)
 
-    def bc_for(delta):
+    def solve_at(lam, state):
+        delta = lam * u_free
+
         def bc(ya, yb, pp):
             return np.array([ya[0], ya[2], ya[3], yb[1], yb[3] - delta])
 
-        return bc
-
-    sol_free = _solve(system, bc_for(free_guess[1][3, -1]), free_guess, np.array([0.0]))
-    if sol_free is None:  # pragma: no cover
-        raise ActsimInputError("spontaneous_curvature: the free shape could not be solved; check the profile")
-    u_free = float(sol_free.y[3, -1])
-
-    def solve_at(lam, state):
-        sol = _solve(system, bc_for((1.0 - lam) * u_free), state[0], state[1])
+        sol = _solve(system, bc, state[0], state[1])
         return None if sol is None else ((sol.x, sol.y), sol.p.copy(), sol)
 
-    stops = np.linspace(0.0, 1.0, n)[1:]
-    reached, lam, _, ok = _continuation(solve_at, ((sol_free.x, sol_free.y), np.array([0.0]), sol_free), stops)
-    if not ok:
-        raise ActsimInputError(
-            f"spontaneous_curvature: the load line did not converge beyond {100 * lam:.3g} % of the way to blocked"
-        )
-    sols = [sol_free] + [r[2] for r in reached]
-    # order from blocked (u = 0) to free
-    sols = sols[::-1]
+    grid = np.linspace(0.0, 1.0, n)
+    # branch A: from the blocked state, raising the support toward the free tip position
+    state0 = ((blocked.x, blocked.y), blocked.p.copy(), blocked)
+    reached, lam_a, _, ok_a = _continuation(solve_at, state0, grid[1:])
+    sols = [blocked] + [r[2] for r in reached]
+    snap = math.nan
+    if not ok_a or abs(float(sols[-1].p[0])) > 1e-6 * f_scale:
+        # the path from blocked folds (or ends on a loaded shape): past the fold the strip snaps
+        # to the branch that joins the free shape; trace that branch from the free end downward
+        if ok_a:
+            lam_a = 1.0 - 1.0 / (n - 1)
+            sols = sols[:-1]
+        snap = lam_a * u_free * L
+        sol_free = _solve(system, (lambda ya, yb, pp: np.array([ya[0], ya[2], ya[3], yb[1], yb[3] - u_free])),
+                          free_guess, np.array([0.0]))
+        if sol_free is None:  # pragma: no cover
+            raise ActsimInputError("spontaneous_curvature: the free shape could not be solved; check the profile")
+        k_a = len(sols)  # grid points 0 .. k_a-1 come from branch A
+        down = 1.0 - grid[::-1][1 : n - k_a]  # lam along the free branch (delta = (1 - lam) u_free)
+
+        def solve_down(lam, state):
+            return solve_at(1.0 - lam, state)
+
+        reached_b, lam_b, _, ok_b = _continuation(solve_down, ((sol_free.x, sol_free.y), np.array([0.0]), sol_free), down)
+        if not ok_b:
+            raise ActsimInputError(
+                f"spontaneous_curvature: the load line has a snap-through at {100 * lam_a:.3g} % of the free tip "
+                f"travel, and the branch through the free shape ends at {100 * (1 - lam_b):.3g} %; no quasi-static path"
+            )
+        sols = sols + [r[2] for r in reached_b][::-1] + [sol_free]
     u = np.array([s_.y[3, -1] for s_ in sols]) * L
     u[0] = 0.0
     force = -np.array([s_.p[0] for s_ in sols]) * EI / L**2
+    force[-1] = 0.0
     tip_x = np.array([s_.y[2, -1] for s_ in sols]) * L
     work = float(trapezoid(force, u))
-    return LoadLine(displacement=u, force=force, tip_x=tip_x, work=work)
+    return LoadLine(displacement=u, force=force, tip_x=tip_x, work=work, snap_displacement=snap)
 
 
 def circular_arc_tip(*, curvature, length):
