@@ -1,0 +1,201 @@
+"""Sweeps: a point equals its single simulation, interruption and resume, a dask cluster, bad input, trade-offs.
+
+References: the single-design path of the project (actsim.simulate, actsim.metrics.summarize)
+for the values; the Pareto domination definition of Deb, K., Multi-Objective Optimization
+using Evolutionary Algorithms, Wiley 2001, ch. 2, checked by brute force.
+"""
+
+from __future__ import annotations
+
+import math
+import os
+import signal
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import numpy as np
+import pytest
+import xarray as xr
+
+import actsim
+from actsim.errors import ActsimInputError
+from actsim.metrics import summarize
+from actsim.scenario import apply_overrides, parse_scenario
+from actsim.study import tradeoff
+from actsim.study.sweep import lin, log, parse_values, sweep
+
+from conftest import film_toml
+
+TARGET = math.radians(10)
+VARY = {"layers[film].thickness": "lin(8 um, 30 um, 4)", "protocol[0].light.lamp": "20 mW/cm^2,80 mW/cm^2"}
+
+
+def _text():
+    return film_toml(cells=12, substrate={"modulus": "2 GPa", "thickness": "30 um", "cells": 4},
+                     duration="6 s", output="0.5 s", step="0.1 s")
+
+
+@pytest.fixture(scope="module")
+def base():
+    return parse_scenario(_text())
+
+
+@pytest.fixture(scope="module")
+def local(base):
+    return sweep(base, VARY, target_bend_angle=TARGET, scheduler="inprocess", chunk_size=3, progress=False)
+
+
+def test_grid_point_equals_single_simulation(base, local):
+    assert dict(local.sizes) == {"layers_film_thickness": 4, "protocol_0_light_lamp": 2}
+    assert local["layers_film_thickness"].attrs["units"] == "m"
+    assert local["protocol_0_light_lamp"].attrs["units"] == "W/m^2"
+    np.testing.assert_allclose(local["layers_film_thickness"].values, np.linspace(8e-6, 30e-6, 4), rtol=1e-14)
+    np.testing.assert_allclose(local["protocol_0_light_lamp"].values, [200.0, 800.0], rtol=1e-14)
+    sc = apply_overrides(base, {"layers[film].thickness": "22.666666666666668 um", "protocol[0].light.lamp": "80 mW/cm^2"})
+    ref = summarize(actsim.simulate(sc), target_bend_angle=TARGET)
+    point = local.isel(layers_film_thickness=2, protocol_0_light_lamp=1)
+    for key in ("final_bend_angle", "peak_blocked_force", "peak_blocked_moment", "time_to_target", "optical_dose"):
+        np.testing.assert_allclose(float(point[key]), ref[key], rtol=1e-14, err_msg=key)
+
+
+def test_sampled_sweep_and_ranges(base):
+    ds = sweep(base, {"protocol[0].light.lamp": log("10 mW/cm^2", "100 mW/cm^2"), "materials.film.photo_strain": lin(-0.02, -0.005)},
+               sampling="lhs", n_samples=6, seed=3, scheduler="inprocess", progress=False)
+    assert ds.sizes["design"] == 6
+    irr = ds["protocol_0_light_lamp"].values
+    assert ((irr >= 100.0 - 1e-9) & (irr <= 1000.0 + 1e-9)).all()
+    # Latin hypercube: one sample in each of the 6 equal-probability strata (McKay, Beckman and Conover,
+    # Technometrics 21 (1979) 239-245), here of log irradiance
+    strata = np.floor(np.log10(irr / 100.0) * 6).clip(0, 5)
+    assert sorted(strata) == list(range(6))
+    assert (ds["status"] == 0).all()
+
+
+def test_parse_values():
+    r = parse_values("lin(5 um, 200 um, 40)")
+    assert (r.kind, r.start, r.stop, r.num) == ("lin", "5 um", "200 um", 40)
+    assert parse_values("10 mW/cm^2, 50 mW/cm^2") == ["10 mW/cm^2", "50 mW/cm^2"]
+    assert parse_values("1,2") == [1, 2]
+
+
+def test_dask_cluster_equals_local(base, local):
+    from distributed import LocalCluster
+
+    with LocalCluster(n_workers=1, threads_per_worker=2, processes=False, dashboard_address=None) as cluster:
+        remote = sweep(base, VARY, target_bend_angle=TARGET, scheduler=cluster.scheduler_address, chunk_size=3,
+                       progress=False)
+    xr.testing.assert_identical(local, remote)
+
+
+def _cli(args, **kw):
+    return subprocess.run([sys.executable, "-m", "actsim.cli", *args], capture_output=True, text=True, **kw)
+
+
+def test_interrupted_sweep_resumes(tmp_path):
+    scen = tmp_path / "s.toml"
+    scen.write_text(_text())
+    args = ["sweep", str(scen), "--vary", "layers[film].thickness=lin(8 um, 30 um, 6)", "--vary",
+            "protocol[0].light.lamp=20 mW/cm^2,80 mW/cm^2", "--target-angle", "10 deg", "--chunk-size", "2",
+            "--scheduler", "inprocess", "--no-progress"]
+    full = _cli(args + ["-o", str(tmp_path / "full")])
+    assert full.returncode == 0, full.stderr
+    out = tmp_path / "cut"
+    env = dict(os.environ, ACTSIM_SWEEP_PAUSE="0.5")
+    proc = subprocess.Popen([sys.executable, "-m", "actsim.cli", *args, "-o", str(out)], env=env,
+                            stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    deadline = time.time() + 60
+    while not list((out / "chunks").glob("chunk_*.nc")) and time.time() < deadline:
+        time.sleep(0.02)
+    proc.send_signal(signal.SIGKILL)
+    proc.wait()
+    first = sorted((out / "chunks").glob("chunk_*.nc"))
+    assert 1 <= len(first) < 6 and not (out / "sweep.nc").exists()
+    again = _cli(args + ["-o", str(out)])
+    assert again.returncode == 0, again.stderr
+    assert len(list((out / "chunks").glob("chunk_*.nc"))) == 6
+    a = xr.load_dataset(tmp_path / "full" / "sweep.nc")
+    b = xr.load_dataset(out / "sweep.nc")
+    xr.testing.assert_identical(a, b)
+    # a different sweep in the same folder is refused
+    other = _cli(["sweep", str(scen), "--vary", "protocol[0].light.lamp=30 mW/cm^2", "-o", str(out),
+                  "--scheduler", "inprocess"])
+    assert other.returncode == 2 and "different sweep" in other.stderr
+
+
+def test_unknown_field_suggests(base):
+    with pytest.raises(ActsimInputError, match="did you mean 'thickness'"):
+        sweep(base, {"layers[film].thicknes": "10 um,20 um"}, scheduler="inprocess", progress=False)
+
+
+def test_wrong_unit(base):
+    with pytest.raises(ActsimInputError, match="thickness"):
+        sweep(base, {"layers[film].thickness": "10 s,20 s"}, scheduler="inprocess", progress=False)
+
+
+def test_grid_too_large_needs_yes(tmp_path):
+    scen = tmp_path / "s.toml"
+    scen.write_text(_text())
+    r = _cli(["sweep", str(scen), "--vary", "layers[film].thickness=lin(8 um, 30 um, 200)", "--vary",
+              "protocol[0].light.lamp=lin(10 mW/cm^2, 90 mW/cm^2, 101)", "-o", str(tmp_path / "o")])
+    assert r.returncode == 2
+    assert r.stderr.strip().count("\n") == 0 and "--yes" in r.stderr and "20200" in r.stderr
+
+
+def test_scheduler_that_does_not_answer(base):
+    import socket
+
+    s = socket.socket()
+    s.bind(("127.0.0.1", 0))
+    port = s.getsockname()[1]
+    s.close()
+    t0 = time.time()
+    with pytest.raises(ActsimInputError, match="no dask scheduler answered"):
+        sweep(base, VARY, scheduler=f"tcp://127.0.0.1:{port}", connect_timeout=2, progress=False)
+    assert time.time() - t0 < 8
+
+
+def test_pareto_front_by_brute_force():
+    rng = np.random.default_rng(1)
+    t = rng.random(60)
+    f = rng.random(60)
+    t[::7] = np.nan
+    mask = tradeoff.pareto_mask(t, f)
+    for i in range(60):
+        if not np.isfinite(t[i]):
+            assert not mask[i]
+            continue
+        dominated = any(np.isfinite(t[j]) and t[j] <= t[i] and f[j] >= f[i] and (t[j] < t[i] or f[j] > f[i])
+                        for j in range(60))
+        assert mask[i] == (not dominated)
+
+
+def test_tradeoff_on_grid(local, tmp_path):
+    pf = tradeoff.pareto_front(local)
+    assert pf["n_on_front"] >= 1
+    assert pf["n_on_front"] + pf["n_not_reaching"] <= 8
+    rows = tradeoff.recommend(local, "layers_film_thickness", within=3.0)
+    assert len(rows) == 2
+    for row in rows:
+        if row["recommended"] is not None:
+            assert row["time_to_target"] <= 3.0
+            lamp = row["protocol[0].light.lamp"]
+            cand = local.sel(protocol_0_light_lamp=lamp)
+            ok = cand["time_to_target"] <= 3.0
+            assert row["peak_blocked_force"] == pytest.approx(float(np.abs(cand["peak_blocked_force"]).where(ok).max()))
+    tradeoff.heatmap(local, "time_to_target", "layers_film_thickness", "protocol_0_light_lamp", tmp_path / "h.png")
+    tradeoff.pareto_plot(local, tmp_path / "p.png")
+    assert (tmp_path / "h.png").stat().st_size > 1000 and (tmp_path / "p.png").stat().st_size > 1000
+
+
+def test_cli_story3(tmp_path):
+    root = Path(__file__).resolve().parents[1]
+    r = _cli(["sweep", str(root / "scenarios" / "thickness_study.toml"), "--vary",
+              "layers[active film].thickness=lin(5 um, 200 um, 12)", "--target-angle", "30 deg", "--pareto",
+              "--recommend", "layers[active film].thickness", "--within", "20 s", "--series", "--scheduler",
+              "inprocess", "-o", str(tmp_path / "o")])
+    assert r.returncode == 0, r.stderr
+    assert "recommendation" in r.stdout and "sweep written to" in r.stdout
+    for f in ("sweep.nc", "metrics.csv", "pareto.json", "recommendation.json", "figures/pareto.png", "figures/bend_family.png"):
+        assert (tmp_path / "o" / f).is_file(), f
