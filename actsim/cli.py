@@ -26,7 +26,8 @@ VERB_MODULES: list[str] = [
 
 EXAMPLES = {
     "demo": "example:\n  actsim demo                 # the vent-flap demo into actsim-out/vent_flap\n  actsim demo --list\n  actsim demo --scenario gripper_pulses -o out/",
-    "run": "example:\n  actsim run scenarios/vent_flap.toml -o out/vent\n  actsim run my.toml --no-figures",
+    "run": "example:\n  actsim run scenarios/vent_flap.toml -o out/vent\n  actsim run my.toml --no-figures\n"
+           "  actsim run fitted.toml --set \"layers[active film].thickness=40 um\" --uncertainty 100 -o out/thick",
 }
 
 
@@ -80,13 +81,38 @@ def summary_table(summary: dict) -> str:
     return "\n".join(f"  {k:<{w}}  {v}" for k, v in rows)
 
 
-def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel"):
-    from .cautions import with_caution
-    from .results import write_result_folder
-    from .scenario import load_scenario
-    from .solver import simulate
+def parse_set_options(items):
+    """``["layers[1].thickness=40 um", ...]`` -> {path: value}; values as in a scenario file."""
+    import tomllib
+
+    out = {}
+    for item in items or []:
+        if "=" not in item:
+            raise ActsimInputError(f"--set: '{item}' is not FIELD=VALUE (e.g. --set \"layers[1].thickness=40 um\")")
+        path, value = (part.strip() for part in item.split("=", 1))
+        try:  # numbers and booleans as TOML reads them; anything else is a unit string
+            value = tomllib.loads(f"v = {value}")["v"]
+        except tomllib.TOMLDecodeError:
+            pass
+        out[path] = value
+    return out
+
+
+def load_with_overrides(scenario_path, set_items=None):
+    """Load a scenario and apply ``--set`` overrides."""
+    from .scenario import apply_overrides, load_scenario
 
     sc = load_scenario(scenario_path)
+    overrides = parse_set_options(set_items)
+    return apply_overrides(sc, overrides) if overrides else sc
+
+
+def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set_items=None):
+    from .cautions import with_caution
+    from .results import write_result_folder
+    from .solver import simulate
+
+    sc = load_with_overrides(scenario_path, set_items)
     ds = simulate(sc, engine=engine)
     summary = write_result_folder(ds, sc, out_dir, figures=figures)
     print(f"{sc.title}")
@@ -97,14 +123,13 @@ def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel"):
 
 def cmd_run(args):
     out = args.output or str(Path("actsim-out") / Path(args.scenario).stem)
-    status = _run_and_write(args.scenario, out, figures=not args.no_figures, engine=args.engine)
+    if args.uncertainty and args.uncertainty < 2:
+        raise ActsimInputError(f"--uncertainty: {args.uncertainty} draws is too few (allowed >= 2)")
+    status = _run_and_write(args.scenario, out, figures=not args.no_figures, engine=args.engine, set_items=args.set)
     if args.uncertainty:
-        if args.uncertainty < 2:
-            raise ActsimInputError(f"--uncertainty: {args.uncertainty} draws is too few (allowed >= 2)")
         from .calibrate.uncertainty import run_uncertainty
-        from .scenario import load_scenario
 
-        run_uncertainty(load_scenario(args.scenario), n_draws=args.uncertainty, out_dir=out)
+        run_uncertainty(load_with_overrides(args.scenario, args.set), n_draws=args.uncertainty, out_dir=out)
     return status
 
 
@@ -153,6 +178,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--no-figures", action="store_true", help="skip the PNG figures")
     p.add_argument("--engine", choices=("kernel", "reference"), default="kernel",
                    help="numba kernel (default) or the slow readable reference path")
+    p.add_argument("--set", action="append", metavar="FIELD=VALUE",
+                   help="change a scenario field for this run, e.g. \"layers[1].thickness=40 um\" (repeatable)")
     p.add_argument("--uncertainty", type=int, metavar="N", default=0,
                    help="also draw N parameter sets from the scenario's [calibration] covariance and write 5-95 %% bands")
     p.set_defaults(func=cmd_run)

@@ -115,3 +115,15 @@ def test_spectrum_table_outside_light(tmp_path, capsys):
 def test_missing_scenario_file(tmp_path, capsys):
     assert main(["run", str(tmp_path / "none.toml")]) == 2
     assert "does not exist" in capsys.readouterr().err
+
+
+def test_run_with_set_overrides(tmp_path, capsys):
+    out = tmp_path / "thick"
+    args = ["run", str(ROOT / "scenarios" / "vent_flap.toml"), "-o", str(out), "--no-figures",
+            "--set", "layers[active film].thickness=40 um", "--set", "materials.contracting_film.photo_strain=-0.02"]
+    assert main(args) == 0
+    ds = xr.load_dataset(out / "result.nc")
+    assert float(ds.attrs["thickness"]) == pytest.approx(90e-6)
+    assert "-0.02" in (out / "scenario.toml").read_text()
+    assert main(["run", str(ROOT / "scenarios" / "vent_flap.toml"), "--set", "strip.free_lenght=3 mm", "-o", str(tmp_path / "x")]) == 2
+    assert "did you mean 'free_length'" in capsys.readouterr().err
