@@ -564,6 +564,11 @@ def run_checks(scenario, ds, *, elastica: bool = True):
                  f"{rng.max() / 1e6:.4g} MPa; {stress_how}; {cs.target_cycles:g} actuation cycles = "
                  f"{cs.target_passes:g} runs of the protocol")
         t_note = _temperature_notes(lim.fatigue_strength_coefficient, ds, cells)
+        freq = cs.cycles_per_protocol / scenario.duration
+        f_rng = lim.fatigue_strength_coefficient.valid_range.get("frequency")
+        if f_rng is not None and not (f_rng[0] <= freq <= f_rng[1]):
+            t_note = "; ".join(x for x in (t_note, f"actuation frequency {freq:.3g} Hz lies outside the constants' range "
+                                                    f"of validity {f_rng[0]:g}..{f_rng[1]:g} Hz") if x)
         for r in fr.checks:
             meth = r.check[r.check.find("(") + 1: r.check.rfind(")")]
             results.append(dataclasses.replace(r, check=f"fatigue damage ({meth}), {label}",

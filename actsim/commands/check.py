@@ -1,0 +1,109 @@
+"""``actsim check``: simulate a scenario, run its design checks, gate a script on the verdict.
+
+Exit status: 0 when every assessed check is within its modelled limit, 1 when
+any is not (so a script can stop on it), 2 on bad input (one line on stderr).
+``--strict`` also returns 1 when a check could not be assessed.
+"""
+
+from __future__ import annotations
+
+import argparse
+import math
+from pathlib import Path
+
+EPILOG = """example:
+  actsim check scenarios/gripper_hinge_check.toml -o out/hinge
+  actsim check my.toml --no-figures --strict && echo "within the modelled limits"
+
+exit status: 0 all checks within the modelled limits, 1 a check is not, 2 bad input.
+The scenario's [checks], [safety] and [joint] sections are described in docs/checks.md."""
+
+
+def _actuation_lines(details) -> list[str]:
+    act = details.get("actuation", {})
+    lines = [f"  peak bend {math.degrees(act.get('peak_bend_angle', 0.0)):.4g} deg at t = {act.get('peak_time', 0.0):g} s"]
+    if "peak_blocked_force" in act:
+        small = act["small_deflection_blocked_force"]
+        lines.append(
+            f"  blocked tip force (elastica, large deflection): peak {act['peak_blocked_force'] * 1e3:.4g} mN at "
+            f"t = {act['peak_blocked_force_time']:g} s (small-deflection 3EI kappa/(2L): {float(max(small, key=abs)) * 1e3:.4g} mN)"
+        )
+    if "load_line" in act:
+        ll = act["load_line"]
+        lines.append(f"  load line at peak bend: free tip travel {ll['displacement'][-1] * 1e3:.4g} mm, "
+                     f"work the tip can do {ll['work'] * 1e6:.4g} uJ")
+    if "tip_load" in act:
+        tl = act["tip_load"]
+        lines.append(f"  under a {tl['tip_force'] * 1e3:.4g} mN tip load at peak bend: tip at ({tl['tip_x'] * 1e3:.4g}, "
+                     f"{tl['tip_y'] * 1e3:.4g}) mm, tip angle {math.degrees(tl['tip_angle']):.4g} deg")
+    for n in act.get("notes", []):
+        lines.append(f"  note: {n}")
+    jd = details.get("joint")
+    if jd:
+        if jd.get("strips") is not None:
+            lines.append(f"  joint: {jd['strips']} strips ({jd['mounting']}); {jd['strips_needed']} needed for a factor "
+                         f"{jd['safety_factor']:g}; smallest factor {float(min(jd['achieved_factor'])):.3g} at "
+                         f"{math.degrees(jd['governing_angle']):.4g} deg")
+        else:
+            lines.append("  joint: no number of strips lifts the payload through the whole angle range")
+    for name, fd in details.get("fatigue", {}).items():
+        m = fd["governing_method"]
+        life = fd["life_cycles"][m]
+        lines.append(f"  fatigue, {name}: modelled life {life:.3g} actuation cycles by the most conservative method ({m})")
+    light = details.get("light", {})
+    if light.get("assessed"):
+        lines.append(f"  light at the exposure position: risk group of the most intense step {light['risk_group']} "
+                     f"(IEC 62471 scheme, from memory)")
+    return lines
+
+
+def cmd_check(args) -> int:
+    from ..checks.run import any_failed, format_results, run_checks, write_checks
+    from ..errors import ActsimInputError
+    from ..results import write_result_folder
+    from ..scenario import load_scenario
+    from ..solver import simulate
+
+    sc = load_scenario(args.scenario)
+    out = Path(args.output or (Path("actsim-out") / (Path(args.scenario).stem + "-check")))
+    ds = simulate(sc)
+    results, details = run_checks(sc, ds, elastica=not args.no_elastica)
+    if not results:
+        raise ActsimInputError("check: nothing to check in this scenario; add a [checks] section (see docs/checks.md)")
+    write_result_folder(ds, sc, out, figures=not args.no_figures)
+    write_checks(results, details, out)
+    print(sc.title)
+    print("\n".join(_actuation_lines(details)))
+    print()
+    print(format_results(results))
+    print(f"\nresults written to {out}/ (result.nc, timeseries.csv, summary.json, checks.json, checks.csv"
+          f"{', figures/' if not args.no_figures else ''})")
+    failed = any_failed(results)
+    not_assessed = any(r.passed is None for r in results)
+    if failed:
+        print("verdict: at least one check exceeds its modelled limit or misses its required margin (exit status 1)")
+        return 1
+    if args.strict and not_assessed:
+        print("verdict: at least one check was not assessed and --strict was given (exit status 1)")
+        return 1
+    print("verdict: every assessed check is within its modelled limit (exit status 0)")
+    return 0
+
+
+def register(subparsers) -> None:
+    """Add the ``check`` verb."""
+    p = subparsers.add_parser(
+        "check",
+        help="simulate a scenario and check strength, fatigue, joint load, light exposure and skin contact",
+        description="Simulate SCENARIO, run its design checks and print the verdict table. Exits 1 when a check "
+                    "fails, so it can gate a script.",
+        epilog=EPILOG,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    p.add_argument("scenario", help="scenario TOML file (with [checks], [safety], [joint] sections)")
+    p.add_argument("-o", "--output", help="output folder (default: actsim-out/<scenario name>-check)")
+    p.add_argument("--no-figures", action="store_true", help="skip the PNG figures")
+    p.add_argument("--no-elastica", action="store_true",
+                   help="skip the large-deflection blocked force and load line (faster)")
+    p.add_argument("--strict", action="store_true", help="exit 1 also when a check could not be assessed")
+    p.set_defaults(func=cmd_check)
