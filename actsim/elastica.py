@@ -49,11 +49,10 @@ References
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
-from typing import Callable
+from dataclasses import dataclass
 
 import numpy as np
-from scipy.integrate import cumulative_trapezoid, solve_bvp, trapezoid
+from scipy.integrate import cumulative_trapezoid, quad, solve_bvp, trapezoid
 
 from .errors import ActsimInputError
 
@@ -298,10 +297,6 @@ class _Profile:
     def _idx(self, t):
         return np.clip(np.searchsorted(self.a, t, side="right") - 1, 0, self.a.size - 1)
 
-    def k(self, t):
-        i = self._idx(t)
-        return self.scale * (self.va[i] + self.slope[i] * (t - self.a[i]))
-
     def K(self, t):
         i = self._idx(t)
         d = t - self.a[i]
@@ -511,7 +506,7 @@ def _continuation(solve_at, state0, stops=(1.0,), first_step=0.25):
 
 def _shape_from(sol, profile, length, stiffness, n_points, **extra):
     t = np.linspace(0.0, 1.0, n_points)
-    # keep the exact nodes at curvature jumps out of the way: sol.sol is C1 cubic
+    # sol.sol is the collocation solution's C1 cubic interpolant (nodes sit on curvature jumps)
     yy = sol.sol(t)
     theta = yy[0] + profile.K(t)
     s = t * length
@@ -835,7 +830,9 @@ def load_line(*, length, bending_stiffness, spontaneous_curvature, n=21, n_point
     n_points = _n_points(n_points)
     prof = _profile(spontaneous_curvature, L, n_points)
     free_guess = _unloaded_guess(prof, _initial_mesh(prof))
-    u_free = float(free_guess[1][3, -1])  # tip rise of the unloaded strip (quadrature of sin K)
+    # tip rise of the unloaded strip, int_0^1 sin K(t) dt (adaptive quadrature, breaks at the jumps)
+    u_free = quad(lambda t: math.sin(float(prof.K(np.array([t]))[0])), 0.0, 1.0,
+                  points=prof.jumps if prof.jumps.size else None, limit=400, epsabs=1e-14, epsrel=1e-12)[0]
     system = _System(prof, (0.0, 0.0), 0.0, (0.0, -1.0), free_force=(1,))
     blocked = _blocked_solution(prof, "free")
     f_scale = max(abs(float(blocked.p[0])), 1e-300)

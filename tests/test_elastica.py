@@ -222,6 +222,28 @@ def test_blocked_force_small_deflection():
     assert b.tip_moment == 0.0
 
 
+@pytest.mark.parametrize("rotation", ["free", "fixed"])
+def test_blocked_hinge_small_deflection_moment_area(rotation):
+    # Moment-area theorems (Timoshenko and Gere, Mechanics of Materials): tip slope = int kappa ds,
+    # tip deflection = int kappa (L - s) ds, with kappa = kappa0 + M(s)/EI and, for applied tip
+    # force F and moment M_L, M(s)/EI = (F (L - s) + M_L)/EI. A hinge lit on [a, b] gives
+    # I0 = kh (b - a), I1 = kh ((L - a)^2 - (L - b)^2)/2.
+    a, b, kh = 2e-3, 3.5e-3, 1e-3 / 1.5e-3  # 1 mrad fold: small deflection
+    I0 = kh * (b - a)
+    I1 = kh * ((L_STRIP - a) ** 2 - (L_STRIP - b) ** 2) / 2
+    hinge = piecewise_curvature([a, b], [kh])
+    res = blocked_tip_force(length=L_STRIP, bending_stiffness=EI_STRIP, spontaneous_curvature=hinge, rotation=rotation)
+    L, EI = L_STRIP, EI_STRIP
+    if rotation == "free":
+        F, M = -3 * EI * I1 / L**3, 0.0  # I1 + F L^3/(3 EI) = 0
+    else:
+        A = np.array([[L**2 / (2 * EI), L / EI], [L**3 / (3 * EI), L**2 / (2 * EI)]])
+        F, M = np.linalg.solve(A, [-I0, -I1])
+    # the result is what the strip exerts on the support: minus the applied loads
+    assert res.force == pytest.approx(-F, rel=1e-5)
+    assert res.tip_moment == pytest.approx(-M, rel=1e-5, abs=1e-12 * EI / L)
+
+
 def test_blocked_fixed_rotation_uniform_curvature_is_pure_moment():
     # Pure bending (Timoshenko and Gere): the moment EI kappa0 undoes a uniform curvature exactly,
     # so a tip held on the axis at zero rotation needs no force, at any size (here 2 rad).
