@@ -159,10 +159,10 @@ def blocked_tip_force(*, bending_stiffness, curvature, width, free_length):
 def arc_tip_position(*, curvature, free_length):
     """Tip of a uniformly curved cantilever (exact circular arc), clamped tangent along +x.
 
-    .. math:: x = \\frac{\\sin \\kappa L}{\\kappa}, \\qquad y = \\frac{1 - \\cos \\kappa L}{\\kappa}
+    Uses :func:`actsim.elastica.circular_arc_tip` (half-angle form, no 0/0 and no
+    cancellation as kappa L -> 0):
 
-    with series :math:`x = L(1 - \\theta^2/6)`, :math:`y = L(\\theta/2 - \\theta^3/24)` for
-    small :math:`\\theta = \\kappa L` (no 0/0).
+    .. math:: x = \frac{\sin \kappa L}{\kappa}, \qquad y = \frac{1 - \cos \kappa L}{\kappa}
 
     Parameters
     ----------
@@ -176,13 +176,10 @@ def arc_tip_position(*, curvature, free_length):
     (x_tip, y_tip) : numpy.ndarray
         Tip position along the clamped tangent and toward +z [m].
     """
-    k = np.asarray(curvature, dtype=float)
-    theta = k * free_length
-    small = np.abs(theta) < 1e-4
-    safe = np.where(small, 1.0, k)
-    x = np.where(small, free_length * (1 - theta**2 / 6 + theta**4 / 120), np.sin(theta) / safe)
-    y = np.where(small, free_length * (theta / 2 - theta**3 / 24), (1 - np.cos(theta)) / safe)
-    return x, y
+    from .elastica import circular_arc_tip
+
+    x, y, _ = circular_arc_tip(curvature=np.asarray(curvature, dtype=float), length=free_length)
+    return np.asarray(x), np.asarray(y)
 
 
 def held_strip_response(*, z_edges, modulus, eigenstrain, hold, value=0.0):
