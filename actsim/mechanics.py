@@ -157,7 +157,7 @@ def blocked_tip_force(*, bending_stiffness, curvature, width, free_length):
 
 
 def arc_tip_position(*, curvature, free_length):
-    """Tip of a uniformly curved cantilever (exact circular arc), clamped tangent along +x.
+    r"""Tip of a uniformly curved cantilever (exact circular arc), clamped tangent along +x.
 
     Uses :func:`actsim.elastica.circular_arc_tip` (half-angle form, no 0/0 and no
     cancellation as kappa L -> 0):
