@@ -218,11 +218,28 @@ def _actuation(scenario, ds, cs: CheckSettings, *, elastica: bool):
             out["notes"].append(f"load line at peak bend not solved ({exc})")
     if cs.tip_force is not None:
         sgn = 1.0 if k_peak >= 0 else -1.0
+        def solve(f):
+            return cantilever_shape(length=L, bending_stiffness=e_peak, spontaneous_curvature=k_peak, tip_force=(0.0, -sgn * f))
+
         try:
-            shape = cantilever_shape(length=L, bending_stiffness=e_peak, spontaneous_curvature=k_peak,
-                                     tip_force=(0.0, -sgn * cs.tip_force))
+            shape = solve(cs.tip_force)
         except ActsimInputError as exc:
-            raise ActsimInputError(f"checks.tip_force: {cs.tip_force:g} N is too large for the elastica at peak bend: {exc}") from None
+            # back off by decades to tell the user the largest load that was solved
+            solved = None
+            f = cs.tip_force
+            for _ in range(8):
+                f /= 10.0
+                try:
+                    solve(f)
+                    solved = f
+                    break
+                except ActsimInputError:
+                    continue
+            largest = f"largest load solved {solved:.3g} N" if solved is not None else "no load down to 1e-8 of it was solved"
+            reason = str(exc).split(": ", 1)[-1]
+            raise ActsimInputError(
+                f"checks.tip_force: {cs.tip_force:g} N is too large for the elastica at peak bend ({largest}; {reason})"
+            ) from None
         out["tip_load"] = {
             "tip_force": cs.tip_force,
             "tip_x": shape.tip_x,
