@@ -772,6 +772,9 @@ def apply_overrides(scenario: Scenario, overrides: dict) -> Scenario:
         node = raw
         for tok in tokens[:-1]:
             parent, key = _descend(node, tok, path)
+            if key == "light" and isinstance(parent[key], list):
+                # the list form ["lamp", ...] means each source at its own irradiance: make it a table
+                parent[key] = {name: "on" for name in parent[key]}
             node = parent[key]
         parent, key = _descend(node, tokens[-1], path, create=True)
         if hasattr(value, "units") and hasattr(value, "magnitude"):

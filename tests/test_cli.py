@@ -127,3 +127,13 @@ def test_run_with_set_overrides(tmp_path, capsys):
     assert "-0.02" in (out / "scenario.toml").read_text()
     assert main(["run", str(ROOT / "scenarios" / "vent_flap.toml"), "--set", "strip.free_lenght=3 mm", "-o", str(tmp_path / "x")]) == 2
     assert "did you mean 'free_length'" in capsys.readouterr().err
+
+
+def test_override_of_a_list_form_light_step():
+    # protocol[0].light = ["uv_led"] (each source at its own irradiance) can still be overridden per source
+    import actsim
+    from actsim.scenario import apply_overrides
+
+    sc = actsim.load_scenario(ROOT / "scenarios" / "gripper_two_colour.toml")
+    s2 = apply_overrides(sc, {"protocol[0].light.uv_led": "10 mW/cm^2"})
+    assert s2.protocol[0].irradiance[0] == pytest.approx(100.0)
