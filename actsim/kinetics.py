@@ -78,6 +78,24 @@ def exact_first_order_update(*, conversion, k_forward, k_backward, dt):
 
 
 def photostationary_state(*, k_forward, k_backward):
-    """Photostationary conversion x_ss = k_f/(k_f + k_b) [1] and relaxation time 1/(k_f + k_b) [s]."""
+    """Photostationary conversion x_ss = k_f/(k_f + k_b) [1] and relaxation time 1/(k_f + k_b) [s].
+
+    .. math:: x_{ss} = \\frac{k_f}{k_f + k_b}, \\qquad t_r = \\frac{1}{k_f + k_b}
+
+    Parameters
+    ----------
+    k_forward, k_backward : float or numpy.ndarray
+        Rate constants A -> B and B -> A, > 0 in sum [s-1].
+
+    Returns
+    -------
+    (x_ss, t_relax) : float or numpy.ndarray
+        Photostationary conversion [1] and relaxation time [s].
+
+    References
+    ----------
+    .. [1] Mauser, H. and Gauglitz, G. Photokinetics: Theoretical Fundamentals and
+       Applications. Elsevier 1998, ch. 2.
+    """
     k = k_forward + k_backward
     return k_forward / k, 1.0 / k

@@ -40,14 +40,37 @@ def conversion_modulus(*, conversion, reactant_modulus, product_modulus):
 
 
 def section_modulus(*, modulus, poisson_ratio, section):
-    """Modulus entering the beam solve: E (beam, plane stress) or E/(1 - nu^2) (plate, plane strain) [Pa]."""
+    """Modulus entering the beam solve: E (beam, plane stress) or E/(1 - nu^2) (plate, plane strain) [Pa].
+
+    Parameters
+    ----------
+    modulus : float or numpy.ndarray
+        Young's modulus E [Pa].
+    poisson_ratio : float or numpy.ndarray
+        Poisson's ratio nu, 0 <= nu < 0.5 [1].
+    section : str
+        ``"beam"`` (narrow strip, plane stress) or ``"plate"`` (wide strip, plane strain).
+
+    References
+    ----------
+    .. [1] Timoshenko, S. and Woinowsky-Krieger, S. Theory of Plates and Shells,
+       2nd ed., McGraw-Hill 1959, ch. 1.
+    """
     if section == "plate":
         return modulus / (1.0 - np.asarray(poisson_ratio) ** 2)
     return modulus
 
 
 def photo_eigenstrain(*, conversion, photo_strain):
-    """Photo-induced eigenstrain e* = photo_strain * x [1] (negative: contraction)."""
+    """Photo-induced eigenstrain e* = photo_strain * x [1] (negative: contraction).
+
+    Parameters
+    ----------
+    conversion : float or numpy.ndarray
+        Conversion x [1].
+    photo_strain : float or numpy.ndarray
+        Eigenstrain at full conversion [1].
+    """
     return np.asarray(photo_strain) * np.asarray(conversion)
 
 

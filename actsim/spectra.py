@@ -62,7 +62,20 @@ def photon_flux(*, irradiance, wavelength):
 
 
 def molar_photon_energy(wavelength):
-    """Energy of one mole of photons, N_A h c / lambda [J mol-1]; wavelength [m]."""
+    """Energy of one mole of photons, N_A h c / lambda [J mol-1].
+
+    .. math:: E_{mol} = \\frac{N_A h c}{\\lambda}
+
+    Parameters
+    ----------
+    wavelength : float or array_like
+        Wavelength in vacuum [m].
+
+    Returns
+    -------
+    numpy.ndarray or float
+        Molar photon energy [J mol-1].
+    """
     return MOLAR_PHOTON_ENERGY_TIMES_WAVELENGTH / np.asarray(wavelength)
 
 
@@ -209,6 +222,8 @@ def tabulated_bands(*, wavelength, spectral_irradiance, n_bands, field_name="spe
         Relative spectral irradiance (any scale; only the shape is used) [1].
     n_bands : int
         Number of bins.
+    field_name : str
+        Scenario field named in error messages.
 
     Returns
     -------

@@ -106,7 +106,13 @@ _R = float(_GAS_CONSTANT)
 
 
 def make_work(n: int) -> np.ndarray:
-    """Scratch array for the steppers, shape ``(WORK_ROWS, n)``, float64."""
+    """Scratch array for the steppers, shape ``(WORK_ROWS, n)``, float64.
+
+    Parameters
+    ----------
+    n : int
+        Number of cells.
+    """
     return np.empty((WORK_ROWS, int(n)), dtype=np.float64)
 
 
@@ -923,7 +929,19 @@ def _scalar_out(arr):
 
 @njit(cache=True)
 def glass_transition_modulus_nb(temperature, glassy_modulus, rubbery_modulus, glass_transition_temperature, transition_width):
-    """Scalar numba version of :func:`glass_transition_modulus` (no checks) [Pa]."""
+    """Scalar numba version of :func:`glass_transition_modulus` (no checks) [Pa].
+
+    Parameters
+    ----------
+    temperature : float
+        [K].
+    glassy_modulus, rubbery_modulus : float
+        Plateaus below and above the transition, > 0 [Pa].
+    glass_transition_temperature : float
+        Midpoint of the step [K].
+    transition_width : float
+        Width w, > 0 [K].
+    """
     s = 0.5 * (1.0 - math.tanh(0.5 * (temperature - glass_transition_temperature) / transition_width))
     return rubbery_modulus * math.exp(s * math.log(glassy_modulus / rubbery_modulus))
 
@@ -986,7 +1004,17 @@ def glass_transition_modulus(
 
 @njit(cache=True)
 def tabulated_modulus_nb(temperature, table_T, log_table_E):
-    """Scalar numba version of :func:`tabulated_modulus`; takes ``log(table_E)`` (precompute it) [Pa]."""
+    """Scalar numba version of :func:`tabulated_modulus`; takes ``log(table_E)`` (precompute it) [Pa].
+
+    Parameters
+    ----------
+    temperature : float
+        [K].
+    table_T : ndarray, shape (m,)
+        Strictly increasing table temperatures [K].
+    log_table_E : ndarray, shape (m,)
+        Natural logarithm of the moduli at ``table_T``, ln(E / 1 Pa) [1].
+    """
     m = table_T.shape[0]
     if temperature <= table_T[0]:
         return math.exp(log_table_E[0])
@@ -1050,7 +1078,17 @@ def tabulated_modulus(*, temperature, table_T, table_E):
 
 @njit(cache=True)
 def arrhenius_rate_nb(temperature, pre_factor, activation_energy):
-    """Scalar numba version of :func:`arrhenius_rate` (no checks) [unit of pre_factor]."""
+    """Scalar numba version of :func:`arrhenius_rate` (no checks) [unit of pre_factor].
+
+    Parameters
+    ----------
+    temperature : float
+        > 0 [K].
+    pre_factor : float
+        A [1/s] (or any rate unit; the result has the same).
+    activation_energy : float
+        E_a [J/mol].
+    """
     return pre_factor * math.exp(-activation_energy / (_R * temperature))
 
 
@@ -1090,7 +1128,15 @@ def arrhenius_rate(*, temperature, pre_factor, activation_energy):
 
 @njit(cache=True)
 def linearised_radiation_coefficient_nb(emissivity, ambient_temperature):
-    """Scalar numba version of :func:`linearised_radiation_coefficient` (no checks) [W/(m^2 K)]."""
+    """Scalar numba version of :func:`linearised_radiation_coefficient` (no checks) [W/(m^2 K)].
+
+    Parameters
+    ----------
+    emissivity : float
+        0..1 [1].
+    ambient_temperature : float
+        > 0 [K].
+    """
     return 4.0 * emissivity * _STEFAN_BOLTZMANN * ambient_temperature**3
 
 
