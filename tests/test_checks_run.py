@@ -311,3 +311,16 @@ def test_write_checks_json_and_csv(ds, tmp_path):
     rows = (tmp_path / names[1]).read_text().strip().splitlines()
     assert len(rows) == len(res) + 1 and rows[0].startswith("check,status,value")
     assert not list(tmp_path.glob(".*.part"))  # atomic: no temporary files left
+
+
+def test_joint_lever_moment_is_arm_times_load_line(ds):
+    # Lever mounting: M1 = r P(u) with u = r (phi - phi0) the contact travel (moment of a force,
+    # Meriam & Kraige); at the start angle the tip is blocked, P(0) = the elastica blocked force.
+    sec = JOINT.format(strips=2, a0="0 deg", a1="5 deg", m="0.01 g", r="5 mm").replace(
+        'mounting = "hinge"', 'mounting = "lever"\nlever_arm = "20 mm"')
+    _, res, det = checks(ds, sec, elastica=True)
+    ll, jd = det["actuation"]["load_line"], det["joint"]
+    assert jd["moment_per_strip"][0] == pytest.approx(0.020 * ll["force"][0], rel=1e-12)
+    u = 0.020 * (jd["angle"] - jd["angle"][0])
+    assert np.allclose(jd["moment_per_strip"], 0.020 * np.interp(u, ll["displacement"], ll["force"], right=0.0))
+    assert by_name(res, "joint moment, 2 strips (lever)")[0].passed in (True, False)
