@@ -7,6 +7,7 @@ one-line :class:`~actsim.errors.ActsimInputError` that names the field.
 
 from __future__ import annotations
 
+import functools
 import math
 
 import pint
@@ -73,24 +74,44 @@ def parse_quantity(value, *, field: str, kind: str):
         raise ActsimInputError(
             f"{field}: bare number {value!r} has no unit; write it with a unit of {kind.replace('_', ' ')}, e.g. \"{example}\""
         )
-    try:
-        q = Q_(value) if isinstance(value, str) else value
-    except Exception as exc:  # pint raises many kinds
-        raise ActsimInputError(f"{field}: cannot read {value!r} as a quantity ({exc.__class__.__name__}); e.g. \"{example}\"") from None
-    if not isinstance(q, pint.Quantity):
+    if isinstance(value, str):
+        status, payload = _string_to_si(value, si_unit)
+    else:
+        status, payload = _quantity_to_si(value, si_unit)
+    if status == "parse":
+        raise ActsimInputError(f"{field}: cannot read {value!r} as a quantity ({payload}); e.g. \"{example}\"")
+    if status == "bare":
         raise ActsimInputError(
             f"{field}: {value!r} has no unit; write it with a unit of {kind.replace('_', ' ')}, e.g. \"{example}\""
         )
-    try:
-        si = q.to(si_unit).magnitude
-    except pint.DimensionalityError:
+    if status == "dimension":
         raise ActsimInputError(
-            f"{field}: {value!r} has unit {q.units:~} but a {kind.replace('_', ' ')} is required (in {si_unit}, e.g. \"{example}\")"
-        ) from None
-    si = float(si)
+            f"{field}: {value!r} has unit {payload} but a {kind.replace('_', ' ')} is required (in {si_unit}, e.g. \"{example}\")"
+        )
+    si = float(payload)
     if not math.isfinite(si):
         raise ActsimInputError(f"{field}: {value!r} is not finite")
     return si
+
+
+def _quantity_to_si(q, si_unit):
+    """("ok", SI float) or ("bare" | "dimension" | "parse", detail) for a parsed value."""
+    if not isinstance(q, pint.Quantity):
+        return "bare", None
+    try:
+        return "ok", float(q.to(si_unit).magnitude)
+    except pint.DimensionalityError:
+        return "dimension", f"{q.units:~}"
+
+
+@functools.lru_cache(maxsize=8192)
+def _string_to_si(text: str, si_unit: str):
+    """Cached pint conversion of a unit string (scenario files and sweeps repeat the same strings)."""
+    try:
+        q = Q_(text)
+    except Exception as exc:  # pint raises many kinds
+        return "parse", exc.__class__.__name__
+    return _quantity_to_si(q, si_unit)
 
 
 def parse_dimensionless(value, *, field: str) -> float:

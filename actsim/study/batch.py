@@ -21,7 +21,8 @@ Metrics per design (SI): ``final_bend_angle``, ``peak_bend_angle`` [rad],
 reached; ``reached_target`` says so), ``blocked_force_at_target`` [N],
 ``peak_blocked_force`` [N], ``peak_blocked_moment`` [N m],
 ``peak_tip_deflection`` [m], ``peak_temperature`` [K] (NaN where heat is not
-modelled), ``optical_dose`` [J m-2], ``optical_energy`` [J],
+modelled), ``optical_dose`` [J m-2], ``optical_energy`` [J], ``peak_optical_power`` [W]
+(largest total incident irradiance of a protocol step times the strip area),
 ``mechanical_work`` [J] and ``efficiency`` [1] (see :func:`batch_metrics`).
 
 References
@@ -292,6 +293,7 @@ def batch_metrics(problems, o, *, free_length, width, target_bend_angle=None, he
         "peak_temperature": peak_T,
         "optical_dose": dose[:, -1],
         "optical_energy": dose[:, -1] * L * b,
+        "peak_optical_power": np.array([p.step_irradiance.sum(axis=1).max() for p in problems]) * L * b,
         "mechanical_work": work,
         "efficiency": eff,
     }
