@@ -496,7 +496,10 @@ def _parse_step(i: int, data, sources, heat: "HeatSettings", previous: "Step | N
     h_top = t.quantity("top_heat_transfer", "heat_transfer_coefficient", default=None, lo=0.0)
     h_bot = t.quantity("bottom_heat_transfer", "heat_transfer_coefficient", default=None, lo=0.0)
     if (amb is not None or h_top is not None or h_bot is not None) and not heat.enabled:
-        raise ActsimInputError(f"protocol[{i}]: ambient_temperature / heat transfer given but the scenario has no [heat] section")
+        raise ActsimInputError(
+            f"protocol[{i}]: ambient_temperature / heat transfer given but heat is not modelled "
+            "(add a [heat] section, or set heat.enabled = true)"
+        )
     ambient = amb if amb is not None else (previous.ambient_top if previous is not None else heat.ambient_temperature)
     from .thermal import linearised_radiation_coefficient
 

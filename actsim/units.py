@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import functools
 import math
+import re
 
 import pint
 
@@ -75,7 +76,7 @@ def parse_quantity(value, *, field: str, kind: str):
             f"{field}: bare number {value!r} has no unit; write it with a unit of {kind.replace('_', ' ')}, e.g. \"{example}\""
         )
     if isinstance(value, str):
-        status, payload = _string_to_si(value, si_unit)
+        status, payload = _string_to_si(value, si_unit, kind == "temperature")
     else:
         status, payload = _quantity_to_si(value, si_unit)
     if status == "parse":
@@ -83,6 +84,11 @@ def parse_quantity(value, *, field: str, kind: str):
     if status == "bare":
         raise ActsimInputError(
             f"{field}: {value!r} has no unit; write it with a unit of {kind.replace('_', ' ')}, e.g. \"{example}\""
+        )
+    if status == "offset":
+        raise ActsimInputError(
+            f"{field}: {value!r} uses degC/degF, an offset temperature scale; for a temperature difference "
+            f"or inside a compound unit write K (or delta_degC), e.g. \"{example}\""
         )
     if status == "dimension":
         raise ActsimInputError(
@@ -94,9 +100,13 @@ def parse_quantity(value, *, field: str, kind: str):
     return si
 
 
+_OFFSET_UNIT = re.compile(r"((?<!delta_)deg\s*[CF]\b|°\s*[CF]|(?<!delta_)celsius|(?<!delta_)fahrenheit|(?<!delta_)degree_[CF])",
+                          re.IGNORECASE)
+
+
 def _quantity_to_si(q, si_unit):
     """("ok", SI float) or ("bare" | "dimension" | "parse", detail) for a parsed value."""
-    if not isinstance(q, pint.Quantity):
+    if not isinstance(q, pint.Quantity) or (q.dimensionless and si_unit not in ("1", "rad")):
         return "bare", None
     try:
         return "ok", float(q.to(si_unit).magnitude)
@@ -105,8 +115,12 @@ def _quantity_to_si(q, si_unit):
 
 
 @functools.lru_cache(maxsize=8192)
-def _string_to_si(text: str, si_unit: str):
+def _string_to_si(text: str, si_unit: str, absolute_temperature: bool = False):
     """Cached pint conversion of a unit string (scenario files and sweeps repeat the same strings)."""
+    if not absolute_temperature and _OFFSET_UNIT.search(text):
+        # degC / degF are offset scales: right for a temperature, silently wrong inside a
+        # difference or a compound unit (1/degC, W/(m^2*degC)), so they are refused there
+        return "offset", None
     try:
         q = Q_(text)
     except Exception as exc:  # pint raises many kinds

@@ -137,3 +137,20 @@ def test_override_of_a_list_form_light_step():
     sc = actsim.load_scenario(ROOT / "scenarios" / "gripper_two_colour.toml")
     s2 = apply_overrides(sc, {"protocol[0].light.uv_led": "10 mW/cm^2"})
     assert s2.protocol[0].irradiance[0] == pytest.approx(100.0)
+
+
+@pytest.mark.parametrize("value,kind,fragment", [
+    ("5 degC", "temperature_difference", "offset temperature scale"),
+    ("1e-4 1/degC", "thermal_expansion", "offset temperature scale"),
+    ("10 W/(m^2*degC)", "heat_transfer_coefficient", "offset temperature scale"),
+    ("300", "temperature", "has no unit"),
+])
+def test_offset_units_and_unitless_strings_refused(value, kind, fragment):
+    # degC is an offset scale: right for a temperature, wrong for a difference or inside a compound unit
+    from actsim.errors import ActsimInputError
+    from actsim.units import parse_quantity
+
+    with pytest.raises(ActsimInputError, match=fragment):
+        parse_quantity(value, field="f", kind=kind)
+    assert parse_quantity("25 degC", field="f", kind="temperature") == pytest.approx(298.15)
+    assert parse_quantity("5 delta_degC", field="f", kind="temperature_difference") == pytest.approx(5.0)
