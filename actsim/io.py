@@ -15,6 +15,15 @@ from pathlib import Path
 import numpy as np
 
 
+def _current_umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
+
+
+_UMASK = _current_umask()
+
+
 @contextmanager
 def atomic_path(path):
     """Yield a temporary path beside ``path``; rename it onto ``path`` when the block succeeds."""
@@ -22,6 +31,7 @@ def atomic_path(path):
     path.parent.mkdir(parents=True, exist_ok=True)
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
     os.close(fd)
+    os.chmod(tmp, 0o666 & ~_UMASK)  # mkstemp makes 0600; give the file the permissions a plain open() would
     try:
         yield Path(tmp)
         os.replace(tmp, path)
