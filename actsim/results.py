@@ -53,9 +53,13 @@ def write_result_folder(ds, scenario, out_dir, *, figures=True):
     return summary
 
 
+def read_summary(out_dir) -> dict:
+    """The summary record (summary.json) of a result folder."""
+    return json.loads((Path(out_dir) / SUMMARY_FILE).read_text())
+
+
 def read_result_folder(out_dir):
     """Read back ``(dataset, summary_record)`` from a result folder."""
     out = Path(out_dir)
     ds = xr.load_dataset(out / RESULT_FILE)
-    record = json.loads((out / SUMMARY_FILE).read_text())
-    return ds, record
+    return ds, read_summary(out)

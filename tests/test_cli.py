@@ -154,3 +154,17 @@ def test_offset_units_and_unitless_strings_refused(value, kind, fragment):
         parse_quantity(value, field="f", kind=kind)
     assert parse_quantity("25 degC", field="f", kind="temperature") == pytest.approx(298.15)
     assert parse_quantity("5 delta_degC", field="f", kind="temperature_difference") == pytest.approx(5.0)
+
+
+def test_run_with_a_mask_reports_the_fold(tmp_path, capsys):
+    # A hinge lit over 2 mm of the 8 mm strip folds by the lit curvature times 2 mm (integral of the
+    # curvature along the length; the dark parts stay straight).
+    text = (ROOT / "scenarios" / "vent_flap.toml").read_text().replace(
+        "[report]", '[mask]\nregions = [ { start = "3 mm", end = "5 mm", transmission = 1.0 } ]\n\n[report]')
+    scen = write(tmp_path, text)
+    out = tmp_path / "masked"
+    assert main(["run", str(scen), "-o", str(out), "--no-figures"]) == 0
+    assert "peak fold angle" in capsys.readouterr().out
+    record = json.loads((out / "summary.json").read_text())
+    assert record["patterned"]["peak_fold_angle"] == pytest.approx(record["metrics"]["peak_bend_angle"] * 2 / 8, rel=1e-9)
+    assert (out / "patterned.nc").is_file()
