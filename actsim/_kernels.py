@@ -15,9 +15,12 @@ import numpy as np
 from numba import njit
 
 from .thermal import (
+    conduction_theta,
+    conduction_trbdf2,
+    face_conductance,
+    interior_conductances,
     glass_transition_modulus_nb,
     tabulated_modulus_nb,
-    thomas_solve,
 )
 
 LN10 = math.log(10.0)
@@ -65,92 +68,6 @@ def heat_source(absorbed, beam_emol, dz, heat_frac, out):
         for b in range(n_beam):
             p += absorbed[i, b] * beam_emol[b]
         out[i] = heat_frac[i] * p / dz[i]
-
-
-@njit(cache=True)
-def conduction_theta(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, Tb, Tt, theta, work, out):
-    """Theta-method heat step with precomputed conductances (same arithmetic as thermal.theta_step).
-
-    cap = rho c dz per cell [J m-2 K-1]; g_int the interior conductances [W m-2 K-1]; gb, gt the
-    face conductances. Returns the heat lost through the bottom and top faces over the step [J m-2].
-    """
-    n = T.shape[0]
-    lower = work[0]
-    diag = work[1]
-    upper = work[2]
-    rhs = work[3]
-    lb0 = gb * (T[0] - Tb)
-    lt0 = gt * (T[n - 1] - Tt)
-    w = (1.0 - theta) * dt
-    for i in range(n):
-        rhs[i] = dt * (theta * q_new[i] + (1.0 - theta) * q_old[i]) * dz[i]
-    for i in range(n - 1):
-        f = g_int[i] * (T[i + 1] - T[i])
-        rhs[i] += w * f
-        rhs[i + 1] -= w * f
-    rhs[0] += w * gb * (Tb - T[0])
-    rhs[n - 1] += w * gt * (Tt - T[n - 1])
-    for i in range(n):
-        rhs[i] += cap[i] * T[i]
-    rhs[0] += theta * dt * gb * Tb
-    rhs[n - 1] += theta * dt * gt * Tt
-    _assemble_fast(cap, g_int, gb, gt, theta * dt, lower, diag, upper)
-    thomas_solve(lower, diag, upper, rhs, out)
-    lb1 = gb * (out[0] - Tb)
-    lt1 = gt * (out[n - 1] - Tt)
-    return dt * (theta * lb1 + (1.0 - theta) * lb0), dt * (theta * lt1 + (1.0 - theta) * lt0)
-
-
-@njit(cache=True)
-def _assemble_fast(cap, g_int, gb, gt, coef, lower, diag, upper):
-    n = cap.shape[0]
-    for i in range(n):
-        diag[i] = cap[i]
-        lower[i] = 0.0
-        upper[i] = 0.0
-    for i in range(n - 1):
-        g = coef * g_int[i]
-        upper[i] = -g
-        lower[i + 1] = -g
-        diag[i] += g
-        diag[i + 1] += g
-    diag[0] += coef * gb
-    diag[n - 1] += coef * gt
-
-
-@njit(cache=True)
-def conduction_trbdf2(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, Tb, Tt, work, out):
-    """TR-BDF2 heat step (gamma = 2 - sqrt 2) with precomputed conductances (as thermal.trbdf2_step)."""
-    n = T.shape[0]
-    g = 2.0 - math.sqrt(2.0)
-    d = 0.5 * g
-    q_g = work[4]
-    T_g = work[5]
-    for i in range(n):
-        q_g[i] = (1.0 - g) * q_old[i] + g * q_new[i]
-    eb1, et1 = conduction_theta(T, cap, dz, g_int, gb, gt, q_old, q_g, g * dt, Tb, Tt, 0.5, work, T_g)
-    lower = work[0]
-    diag = work[1]
-    upper = work[2]
-    rhs = work[3]
-    a_g = 1.0 / (g * (2.0 - g))
-    a_n = (1.0 - g) * (1.0 - g) / (g * (2.0 - g))
-    for i in range(n):
-        rhs[i] = cap[i] * (a_g * T_g[i] - a_n * T[i]) + d * dt * q_new[i] * dz[i]
-    rhs[0] += d * dt * gb * Tb
-    rhs[n - 1] += d * dt * gt * Tt
-    _assemble_fast(cap, g_int, gb, gt, d * dt, lower, diag, upper)
-    thomas_solve(lower, diag, upper, rhs, out)
-    lb1 = gb * (out[0] - Tb)
-    lt1 = gt * (out[n - 1] - Tt)
-    return a_g * eb1 + d * dt * lb1, a_g * et1 + d * dt * lt1
-
-
-@njit(cache=True)
-def _face_g(h, dz_cell, k_cell):
-    if h <= 0.0:
-        return 0.0
-    return 1.0 / (1.0 / h + 0.5 * dz_cell / k_cell)
 
 
 @njit(cache=True)
@@ -339,8 +256,7 @@ def run_design(z_edges, dz, c0, eps_a, eps_b, alpha_bg, phi_f, phi_b, k_ref, e_a
     g_int = np.empty(max(n_cell - 1, 1))
     for i in range(n_cell):
         cap[i] = rho_c[i] * dz[i]
-    for i in range(n_cell - 1):
-        g_int[i] = 1.0 / (0.5 * dz[i] / k_cond[i] + 0.5 * dz[i + 1] / k_cond[i + 1])
+    interior_conductances(dz, k_cond, g_int)
 
     s0 = seg_step[0]
     q = step_flux[s0]
@@ -362,8 +278,8 @@ def run_design(z_edges, dz, c0, eps_a, eps_b, alpha_bg, phi_f, phi_b, k_ref, e_a
         T_amb_t = step_env[st, 2]
         h_t = step_env[st, 3]
         dt = seg_dt[s]
-        gb = _face_g(h_b, dz[0], k_cond[0])
-        gt = _face_g(h_t, dz[n_cell - 1], k_cond[n_cell - 1])
+        gb = face_conductance(h_b, dz[0], k_cond[0])
+        gt = face_conductance(h_t, dz[n_cell - 1], k_cond[n_cell - 1])
         if has_network:
             material_state(x, T, S, mod_kind, mod_base, mod_ratio, sec_fac, gl, tab_idx, tab_T, tab_logE,
                            network_mod, photo_strain, alpha_th, T_ref, E, Ee)

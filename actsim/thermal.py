@@ -173,8 +173,25 @@ def _interior_conductance(dz, k, i):
 
 
 @njit(cache=True)
-def _face_conductance(h, dz_cell, k_cell):
-    # Ambient -> film coefficient h -> half cell -> cell centre [W/(m^2 K)]; h = 0 insulated, inf = fixed T.
+def face_conductance(h, dz_cell, k_cell):
+    r"""Conductance from the ambient through the film coefficient and half the face cell.
+
+    .. math:: G = \left(\frac{1}{h} + \frac{\Delta z}{2k}\right)^{-1}
+
+    Parameters
+    ----------
+    h : float
+        Surface coefficient; <= 0 means insulated, ``inf`` a face held at the ambient [W/(m^2 K)].
+    dz_cell : float
+        Width of the face cell [m].
+    k_cell : float
+        Its conductivity [W/(m K)].
+
+    Returns
+    -------
+    float
+        [W/(m^2 K)].
+    """
     if h <= 0.0:
         return 0.0
     return 1.0 / (1.0 / h + 0.5 * dz_cell / k_cell)
@@ -211,8 +228,8 @@ def face_conductances(dz, k, h_bottom, h_top, out_interior, out_faces):
     n = dz.shape[0]
     for i in range(n - 1):
         out_interior[i] = _interior_conductance(dz, k, i)
-    out_faces[0] = _face_conductance(h_bottom, dz[0], k[0])
-    out_faces[1] = _face_conductance(h_top, dz[n - 1], k[n - 1])
+    out_faces[0] = face_conductance(h_bottom, dz[0], k[0])
+    out_faces[1] = face_conductance(h_top, dz[n - 1], k[n - 1])
 
 
 @njit(cache=True)
@@ -257,8 +274,8 @@ def face_heat_loss(T, dz, k, h_bottom, T_amb_bottom, h_top, T_amb_top):
     Transfer*, 6th ed., Wiley, 2007, sec. 1.3 (surface energy balance) and sec. 3.1 (thermal resistance).
     """
     n = T.shape[0]
-    gb = _face_conductance(h_bottom, dz[0], k[0])
-    gt = _face_conductance(h_top, dz[n - 1], k[n - 1])
+    gb = face_conductance(h_bottom, dz[0], k[0])
+    gt = face_conductance(h_top, dz[n - 1], k[n - 1])
     return gb * (T[0] - T_amb_bottom), gt * (T[n - 1] - T_amb_top)
 
 
@@ -299,8 +316,8 @@ def face_temperatures(T, dz, k, h_bottom, T_amb_bottom, h_top, T_amb_top):
 def _assemble(dz, k, rho_c, coef, h_bottom, h_top, lower, diag, upper):
     # Matrix C + coef * A of the implicit part (C = rho_c dz, A the conduction operator).
     n = dz.shape[0]
-    gb = _face_conductance(h_bottom, dz[0], k[0])
-    gt = _face_conductance(h_top, dz[n - 1], k[n - 1])
+    gb = face_conductance(h_bottom, dz[0], k[0])
+    gt = face_conductance(h_top, dz[n - 1], k[n - 1])
     for i in range(n):
         diag[i] = rho_c[i] * dz[i]
         lower[i] = 0.0
@@ -316,17 +333,163 @@ def _assemble(dz, k, rho_c, coef, h_bottom, h_top, lower, diag, upper):
 
 
 @njit(cache=True)
-def _add_flux(T, dz, k, h_bottom, T_amb_bottom, h_top, T_amb_top, weight, acc):
-    # acc += weight * (conduction + face exchange) [W/m^2 per cell], with T the given state.
+def interior_conductances(dz, k, out):
+    r"""Series conductances between neighbouring cell centres, into ``out``.
+
+    .. math:: G_{i+1/2} = \left(\frac{\Delta z_i}{2k_i} + \frac{\Delta z_{i+1}}{2k_{i+1}}\right)^{-1}
+
+    Parameters
+    ----------
+    dz : ndarray, shape (n,)
+        Cell widths [m].
+    k : ndarray, shape (n,)
+        Conductivities [W/(m K)].
+    out : ndarray, shape (n-1,)
+        Receives the conductances [W/(m^2 K)].
+    """
+    for i in range(dz.shape[0] - 1):
+        out[i] = _interior_conductance(dz, k, i)
+
+
+@njit(cache=True)
+def conduction_theta(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, Tb, Tt, theta, work, out):
+    r"""Theta-method heat step with precomputed conductances (the core of :func:`theta_step`).
+
+    .. math:: (C + \theta\Delta t A)\,T^{n+1} = (C - (1-\theta)\Delta t A)\,T^n
+       + \Delta t\,[\theta b^{n+1} + (1-\theta) b^n]
+
+    Parameters
+    ----------
+    T : ndarray, shape (n,)
+        Temperatures at the start of the step [K].
+    cap : ndarray, shape (n,)
+        Heat capacity per unit area of each cell, rho c dz [J/(m^2 K)].
+    dz : ndarray, shape (n,)
+        Cell widths [m].
+    g_int : ndarray, shape (n-1,)
+        Interior conductances (:func:`interior_conductances`) [W/(m^2 K)].
+    gb, gt : float
+        Face conductances (:func:`face_conductance`) [W/(m^2 K)].
+    q_old, q_new : ndarray, shape (n,)
+        Heat source at the start and end of the step [W/m^3].
+    dt : float
+        Step [s].
+    Tb, Tt : float
+        Ambient temperatures below and above [K].
+    theta : float
+        Implicitness, 0.5 Crank–Nicolson, 1 backward Euler [dimensionless].
+    work : ndarray, shape (6, n)
+        Scratch [dimensionless].
+    out : ndarray, shape (n,)
+        Receives the new temperatures; may be ``T`` [K].
+
+    Returns
+    -------
+    (loss_bottom, loss_top) : float
+        Heat lost through each face over the step, with the scheme's own quadrature [J/m^2].
+    """
     n = T.shape[0]
+    lower = work[0]
+    diag = work[1]
+    upper = work[2]
+    rhs = work[3]
+    lb0 = gb * (T[0] - Tb)
+    lt0 = gt * (T[n - 1] - Tt)
+    w = (1.0 - theta) * dt
+    for i in range(n):
+        rhs[i] = dt * (theta * q_new[i] + (1.0 - theta) * q_old[i]) * dz[i]
     for i in range(n - 1):
-        f = _interior_conductance(dz, k, i) * (T[i + 1] - T[i])
-        acc[i] += weight * f
-        acc[i + 1] -= weight * f
-    gb = _face_conductance(h_bottom, dz[0], k[0])
-    gt = _face_conductance(h_top, dz[n - 1], k[n - 1])
-    acc[0] += weight * gb * (T_amb_bottom - T[0])
-    acc[n - 1] += weight * gt * (T_amb_top - T[n - 1])
+        f = g_int[i] * (T[i + 1] - T[i])
+        rhs[i] += w * f
+        rhs[i + 1] -= w * f
+    rhs[0] += w * gb * (Tb - T[0])
+    rhs[n - 1] += w * gt * (Tt - T[n - 1])
+    for i in range(n):
+        rhs[i] += cap[i] * T[i]
+    rhs[0] += theta * dt * gb * Tb
+    rhs[n - 1] += theta * dt * gt * Tt
+    _assemble_fast(cap, g_int, gb, gt, theta * dt, lower, diag, upper)
+    thomas_solve(lower, diag, upper, rhs, out)
+    lb1 = gb * (out[0] - Tb)
+    lt1 = gt * (out[n - 1] - Tt)
+    return dt * (theta * lb1 + (1.0 - theta) * lb0), dt * (theta * lt1 + (1.0 - theta) * lt0)
+
+
+@njit(cache=True)
+def _assemble_fast(cap, g_int, gb, gt, coef, lower, diag, upper):
+    n = cap.shape[0]
+    for i in range(n):
+        diag[i] = cap[i]
+        lower[i] = 0.0
+        upper[i] = 0.0
+    for i in range(n - 1):
+        g = coef * g_int[i]
+        upper[i] = -g
+        lower[i + 1] = -g
+        diag[i] += g
+        diag[i + 1] += g
+    diag[0] += coef * gb
+    diag[n - 1] += coef * gt
+
+
+@njit(cache=True)
+def conduction_trbdf2(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, Tb, Tt, work, out):
+    r"""TR-BDF2 heat step (gamma = 2 - sqrt 2) with precomputed conductances (the core of :func:`trbdf2_step`).
+
+    A trapezoid stage to :math:`t + \gamma\Delta t`, then a BDF2 stage to :math:`t + \Delta t`;
+    L-stable and second order (Hosea and Shampine, Appl. Numer. Math. 20 (1996) 21).
+
+    Parameters
+    ----------
+    T : ndarray, shape (n,)
+        Temperatures at the start of the step [K].
+    cap : ndarray, shape (n,)
+        rho c dz of each cell [J/(m^2 K)].
+    dz : ndarray, shape (n,)
+        Cell widths [m].
+    g_int : ndarray, shape (n-1,)
+        Interior conductances [W/(m^2 K)].
+    gb, gt : float
+        Face conductances [W/(m^2 K)].
+    q_old, q_new : ndarray, shape (n,)
+        Heat source at the start and end of the step [W/m^3].
+    dt : float
+        Step [s].
+    Tb, Tt : float
+        Ambient temperatures below and above [K].
+    work : ndarray, shape (6, n)
+        Scratch [dimensionless].
+    out : ndarray, shape (n,)
+        Receives the new temperatures [K].
+
+    Returns
+    -------
+    (loss_bottom, loss_top) : float
+        Heat lost through each face over the step [J/m^2].
+    """
+    n = T.shape[0]
+    g = 2.0 - math.sqrt(2.0)
+    d = 0.5 * g
+    q_g = work[4]
+    T_g = work[5]
+    for i in range(n):
+        q_g[i] = (1.0 - g) * q_old[i] + g * q_new[i]
+    eb1, et1 = conduction_theta(T, cap, dz, g_int, gb, gt, q_old, q_g, g * dt, Tb, Tt, 0.5, work, T_g)
+    lower = work[0]
+    diag = work[1]
+    upper = work[2]
+    rhs = work[3]
+    a_g = 1.0 / (g * (2.0 - g))
+    a_n = (1.0 - g) * (1.0 - g) / (g * (2.0 - g))
+    for i in range(n):
+        rhs[i] = cap[i] * (a_g * T_g[i] - a_n * T[i]) + d * dt * q_new[i] * dz[i]
+    rhs[0] += d * dt * gb * Tb
+    rhs[n - 1] += d * dt * gt * Tt
+    _assemble_fast(cap, g_int, gb, gt, d * dt, lower, diag, upper)
+    thomas_solve(lower, diag, upper, rhs, out)
+    lb1 = gb * (out[0] - Tb)
+    lt1 = gt * (out[n - 1] - Tt)
+    return a_g * eb1 + d * dt * lb1, a_g * et1 + d * dt * lt1
 
 
 @njit(cache=True)
@@ -379,29 +542,14 @@ def theta_step(T, dz, k, rho_c, q_old, q_new, dt, h_bottom, T_amb_bottom, h_top,
     S. V. Patankar, *Numerical Heat Transfer and Fluid Flow*, Hemisphere, 1980, ch. 4.
     """
     n = T.shape[0]
-    lower = work[0]
-    diag = work[1]
-    upper = work[2]
-    rhs = work[3]
-    lb0, lt0 = face_heat_loss(T, dz, k, h_bottom, T_amb_bottom, h_top, T_amb_top)
+    cap = np.empty(n)
+    g_int = np.empty(max(n - 1, 1))
     for i in range(n):
-        rhs[i] = dt * (theta * q_new[i] + (1.0 - theta) * q_old[i]) * dz[i]
-    # explicit part of the fluxes at T^n
-    _add_flux(T, dz, k, h_bottom, T_amb_bottom, h_top, T_amb_top, (1.0 - theta) * dt, rhs)
-    for i in range(n):
-        rhs[i] += rho_c[i] * dz[i] * T[i]
-    # implicit ambient terms theta*dt*G*T_amb
-    gb = _face_conductance(h_bottom, dz[0], k[0])
-    gt = _face_conductance(h_top, dz[n - 1], k[n - 1])
-    rhs[0] += theta * dt * gb * T_amb_bottom
-    rhs[n - 1] += theta * dt * gt * T_amb_top
-    _assemble(dz, k, rho_c, theta * dt, h_bottom, h_top, lower, diag, upper)
-    thomas_solve(lower, diag, upper, rhs, out)
-    lb1, lt1 = face_heat_loss(out, dz, k, h_bottom, T_amb_bottom, h_top, T_amb_top)
-    return (
-        dt * (theta * lb1 + (1.0 - theta) * lb0),
-        dt * (theta * lt1 + (1.0 - theta) * lt0),
-    )
+        cap[i] = rho_c[i] * dz[i]
+    interior_conductances(dz, k, g_int)
+    gb = face_conductance(h_bottom, dz[0], k[0])
+    gt = face_conductance(h_top, dz[n - 1], k[n - 1])
+    return conduction_theta(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, T_amb_bottom, T_amb_top, theta, work, out)
 
 
 @njit(cache=True)
@@ -520,29 +668,14 @@ def trbdf2_step(T, dz, k, rho_c, q_old, q_new, dt, h_bottom, T_amb_bottom, h_top
     Mathematics 20, 21-37, 1996.
     """
     n = T.shape[0]
-    g = 2.0 - math.sqrt(2.0)
-    d = 0.5 * g
-    q_g = work[4]
-    T_g = work[5]
+    cap = np.empty(n)
+    g_int = np.empty(max(n - 1, 1))
     for i in range(n):
-        q_g[i] = (1.0 - g) * q_old[i] + g * q_new[i]
-    eb1, et1 = theta_step(T, dz, k, rho_c, q_old, q_g, g * dt, h_bottom, T_amb_bottom, h_top, T_amb_top, 0.5, work, T_g)
-    lower = work[0]
-    diag = work[1]
-    upper = work[2]
-    rhs = work[3]
-    a_g = 1.0 / (g * (2.0 - g))
-    a_n = (1.0 - g) * (1.0 - g) / (g * (2.0 - g))
-    gb = _face_conductance(h_bottom, dz[0], k[0])
-    gt = _face_conductance(h_top, dz[n - 1], k[n - 1])
-    for i in range(n):
-        rhs[i] = rho_c[i] * dz[i] * (a_g * T_g[i] - a_n * T[i]) + d * dt * q_new[i] * dz[i]
-    rhs[0] += d * dt * gb * T_amb_bottom
-    rhs[n - 1] += d * dt * gt * T_amb_top
-    _assemble(dz, k, rho_c, d * dt, h_bottom, h_top, lower, diag, upper)
-    thomas_solve(lower, diag, upper, rhs, out)
-    lb1, lt1 = face_heat_loss(out, dz, k, h_bottom, T_amb_bottom, h_top, T_amb_top)
-    return a_g * eb1 + d * dt * lb1, a_g * et1 + d * dt * lt1
+        cap[i] = rho_c[i] * dz[i]
+    interior_conductances(dz, k, g_int)
+    gb = face_conductance(h_bottom, dz[0], k[0])
+    gt = face_conductance(h_top, dz[n - 1], k[n - 1])
+    return conduction_trbdf2(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, T_amb_bottom, T_amb_top, work, out)
 
 
 @njit(cache=True)
@@ -580,8 +713,8 @@ def steady_temperature(dz, k, q, h_bottom, T_amb_bottom, h_top, T_amb_top, work,
     t_ref = T_amb_top if h_top > 0.0 else T_amb_bottom
     for i in range(n):
         rhs[i] = q[i] * dz[i]
-    rhs[0] += _face_conductance(h_bottom, dz[0], k[0]) * (T_amb_bottom - t_ref)
-    rhs[n - 1] += _face_conductance(h_top, dz[n - 1], k[n - 1]) * (T_amb_top - t_ref)
+    rhs[0] += face_conductance(h_bottom, dz[0], k[0]) * (T_amb_bottom - t_ref)
+    rhs[n - 1] += face_conductance(h_top, dz[n - 1], k[n - 1]) * (T_amb_top - t_ref)
     zero_capacity = work[4]  # the steady operator has no heat capacity; scratch row, no allocation
     for i in range(n):
         zero_capacity[i] = 0.0
