@@ -15,9 +15,11 @@ import numpy as np
 from numba import njit
 
 from .thermal import (
-    conduction_theta,
-    conduction_trbdf2,
+    TRBDF2_GAMMA,
+    conduction_theta_factored,
+    conduction_trbdf2_factored,
     face_conductance,
+    factor_conduction,
     interior_conductances,
     glass_transition_modulus_nb,
     tabulated_modulus_nb,
@@ -253,6 +255,7 @@ def run_design(z_edges, dz, c0, eps_a, eps_b, alpha_bg, phi_f, phi_b, k_ref, e_a
     work = np.empty((6, n_cell))
     mech = np.zeros(4)
     cap = np.empty(n_cell)
+    fac = np.empty((3, n_cell))
     g_int = np.empty(max(n_cell - 1, 1))
     for i in range(n_cell):
         cap[i] = rho_c[i] * dz[i]
@@ -280,6 +283,10 @@ def run_design(z_edges, dz, c0, eps_a, eps_b, alpha_bg, phi_f, phi_b, k_ref, e_a
         dt = seg_dt[s]
         gb = face_conductance(h_b, dz[0], k_cond[0])
         gt = face_conductance(h_t, dz[n_cell - 1], k_cond[n_cell - 1])
+        if heat_mode == HEAT_CN:
+            factor_conduction(cap, g_int, gb, gt, 0.5 * dt, fac)
+        elif heat_mode == HEAT_TRBDF2:
+            factor_conduction(cap, g_int, gb, gt, 0.5 * TRBDF2_GAMMA * dt, fac)
         if has_network:
             material_state(x, T, S, mod_kind, mod_base, mod_ratio, sec_fac, gl, tab_idx, tab_T, tab_logE,
                            network_mod, photo_strain, alpha_th, T_ref, E, Ee)
@@ -297,9 +304,11 @@ def run_design(z_edges, dz, c0, eps_a, eps_b, alpha_bg, phi_f, phi_b, k_ref, e_a
             if heat_mode != HEAT_OFF:
                 heat_source(ab, beam_emol, dz, heat_frac, q1)
                 if heat_mode == HEAT_CN:
-                    lb, lt = conduction_theta(T, cap, dz, g_int, gb, gt, q0, q1, dt, T_amb_b, T_amb_t, 0.5, work, Tn)
+                    lb, lt = conduction_theta_factored(T, cap, dz, g_int, gb, gt, q0, q1, dt, T_amb_b, T_amb_t, 0.5,
+                                                       fac, work[3], Tn)
                 else:
-                    lb, lt = conduction_trbdf2(T, cap, dz, g_int, gb, gt, q0, q1, dt, T_amb_b, T_amb_t, work, Tn)
+                    lb, lt = conduction_trbdf2_factored(T, cap, dz, g_int, gb, gt, q0, q1, dt, T_amb_b, T_amb_t,
+                                                        fac, work, Tn)
                 e_lb += lb
                 e_lt += lt
                 for i in range(n_cell):

@@ -352,6 +352,116 @@ def interior_conductances(dz, k, out):
 
 
 @njit(cache=True)
+def factor_conduction(cap, g_int, gb, gt, coef, fac):
+    r"""Factor the implicit conduction matrix :math:`C + c A` once (Thomas algorithm), for many steps.
+
+    Parameters
+    ----------
+    cap : ndarray, shape (n,)
+        rho c dz of each cell [J/(m^2 K)].
+    g_int : ndarray, shape (n-1,)
+        Interior conductances [W/(m^2 K)].
+    gb, gt : float
+        Face conductances [W/(m^2 K)].
+    coef : float
+        Implicit weight times the step, e.g. dt/2 for Crank–Nicolson [s].
+    fac : ndarray, shape (3, n)
+        Receives the sub-diagonal, the inverse pivots and the reduced super-diagonal [dimensionless].
+
+    References
+    ----------
+    .. [1] Press, Teukolsky, Vetterling and Flannery, Numerical Recipes, 3rd ed., Cambridge 2007,
+       sec. 2.4 (tridiagonal systems).
+    """
+    n = cap.shape[0]
+    sub = fac[0]
+    inv = fac[1]
+    sup = fac[2]
+    for i in range(n):
+        d = cap[i]
+        if i > 0:
+            d += coef * g_int[i - 1]
+        if i < n - 1:
+            d += coef * g_int[i]
+        if i == 0:
+            d += coef * gb
+        if i == n - 1:
+            d += coef * gt
+        if i > 0:
+            sub[i] = -coef * g_int[i - 1]
+            d -= sub[i] * sup[i - 1]
+        else:
+            sub[i] = 0.0
+        inv[i] = 1.0 / d
+        sup[i] = (-coef * g_int[i] if i < n - 1 else 0.0) * inv[i]
+
+
+@njit(cache=True)
+def solve_factored(fac, rhs, out):
+    """Solve the factored tridiagonal system for ``rhs`` into ``out`` (``out`` may be ``rhs``).
+
+    Parameters
+    ----------
+    fac : ndarray, shape (3, n)
+        From :func:`factor_conduction` [dimensionless].
+    rhs : ndarray, shape (n,)
+        Right-hand side [J/m^2].
+    out : ndarray, shape (n,)
+        Receives the solution [K].
+    """
+    n = rhs.shape[0]
+    sub = fac[0]
+    inv = fac[1]
+    sup = fac[2]
+    out[0] = rhs[0] * inv[0]
+    for i in range(1, n):
+        out[i] = (rhs[i] - sub[i] * out[i - 1]) * inv[i]
+    for i in range(n - 2, -1, -1):
+        out[i] -= sup[i] * out[i + 1]
+
+
+@njit(cache=True)
+def conduction_theta_factored(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, Tb, Tt, theta, fac, rhs, out):
+    """:func:`conduction_theta` with the matrix already factored for ``theta * dt`` (``fac``); ``rhs`` is scratch.
+
+    Parameters
+    ----------
+    T, cap, dz, g_int, gb, gt, q_old, q_new, dt, Tb, Tt, theta, out : see :func:`conduction_theta`
+        [K], [J/(m^2 K)], [m], [W/(m^2 K)], [W/(m^2 K)], [W/(m^2 K)], [W/m^3], [W/m^3], [s], [K], [K],
+        [dimensionless], [K].
+    fac : ndarray, shape (3, n)
+        :func:`factor_conduction` of coef = theta * dt [dimensionless].
+    rhs : ndarray, shape (n,)
+        Scratch [J/m^2].
+
+    Returns
+    -------
+    (loss_bottom, loss_top) : float
+        Heat lost through each face over the step [J/m^2].
+    """
+    n = T.shape[0]
+    lb0 = gb * (T[0] - Tb)
+    lt0 = gt * (T[n - 1] - Tt)
+    w = (1.0 - theta) * dt
+    for i in range(n):
+        rhs[i] = dt * (theta * q_new[i] + (1.0 - theta) * q_old[i]) * dz[i]
+    for i in range(n - 1):
+        f = g_int[i] * (T[i + 1] - T[i])
+        rhs[i] += w * f
+        rhs[i + 1] -= w * f
+    rhs[0] += w * gb * (Tb - T[0])
+    rhs[n - 1] += w * gt * (Tt - T[n - 1])
+    for i in range(n):
+        rhs[i] += cap[i] * T[i]
+    rhs[0] += theta * dt * gb * Tb
+    rhs[n - 1] += theta * dt * gt * Tt
+    solve_factored(fac, rhs, out)
+    lb1 = gb * (out[0] - Tb)
+    lt1 = gt * (out[n - 1] - Tt)
+    return dt * (theta * lb1 + (1.0 - theta) * lb0), dt * (theta * lt1 + (1.0 - theta) * lt0)
+
+
+@njit(cache=True)
 def conduction_theta(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, Tb, Tt, theta, work, out):
     r"""Theta-method heat step with precomputed conductances (the core of :func:`theta_step`).
 
@@ -388,48 +498,51 @@ def conduction_theta(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, Tb, Tt, theta,
     (loss_bottom, loss_top) : float
         Heat lost through each face over the step, with the scheme's own quadrature [J/m^2].
     """
-    n = T.shape[0]
-    lower = work[0]
-    diag = work[1]
-    upper = work[2]
-    rhs = work[3]
-    lb0 = gb * (T[0] - Tb)
-    lt0 = gt * (T[n - 1] - Tt)
-    w = (1.0 - theta) * dt
-    for i in range(n):
-        rhs[i] = dt * (theta * q_new[i] + (1.0 - theta) * q_old[i]) * dz[i]
-    for i in range(n - 1):
-        f = g_int[i] * (T[i + 1] - T[i])
-        rhs[i] += w * f
-        rhs[i + 1] -= w * f
-    rhs[0] += w * gb * (Tb - T[0])
-    rhs[n - 1] += w * gt * (Tt - T[n - 1])
-    for i in range(n):
-        rhs[i] += cap[i] * T[i]
-    rhs[0] += theta * dt * gb * Tb
-    rhs[n - 1] += theta * dt * gt * Tt
-    _assemble_fast(cap, g_int, gb, gt, theta * dt, lower, diag, upper)
-    thomas_solve(lower, diag, upper, rhs, out)
-    lb1 = gb * (out[0] - Tb)
-    lt1 = gt * (out[n - 1] - Tt)
-    return dt * (theta * lb1 + (1.0 - theta) * lb0), dt * (theta * lt1 + (1.0 - theta) * lt0)
+    factor_conduction(cap, g_int, gb, gt, theta * dt, work[0:3])
+    return conduction_theta_factored(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, Tb, Tt, theta, work[0:3], work[3], out)
+
+
+#: TR-BDF2 stage fraction gamma = 2 - sqrt(2): both stages then share the matrix C + (gamma dt / 2) A.
+TRBDF2_GAMMA = 2.0 - math.sqrt(2.0)
 
 
 @njit(cache=True)
-def _assemble_fast(cap, g_int, gb, gt, coef, lower, diag, upper):
-    n = cap.shape[0]
+def conduction_trbdf2_factored(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, Tb, Tt, fac, work, out):
+    """:func:`conduction_trbdf2` with the shared matrix already factored for gamma dt / 2 (``fac``).
+
+    Parameters
+    ----------
+    T, cap, dz, g_int, gb, gt, q_old, q_new, dt, Tb, Tt, out : see :func:`conduction_trbdf2`
+        [K], [J/(m^2 K)], [m], [W/(m^2 K)], [W/(m^2 K)], [W/(m^2 K)], [W/m^3], [W/m^3], [s], [K], [K], [K].
+    fac : ndarray, shape (3, n)
+        :func:`factor_conduction` of coef = gamma dt / 2 [dimensionless].
+    work : ndarray, shape (>= 6, n)
+        Scratch; rows 3 to 5 are used [dimensionless].
+
+    Returns
+    -------
+    (loss_bottom, loss_top) : float
+        Heat lost through each face over the step [J/m^2].
+    """
+    n = T.shape[0]
+    g = TRBDF2_GAMMA
+    d = 0.5 * g
+    rhs = work[3]
+    q_g = work[4]
+    T_g = work[5]
     for i in range(n):
-        diag[i] = cap[i]
-        lower[i] = 0.0
-        upper[i] = 0.0
-    for i in range(n - 1):
-        g = coef * g_int[i]
-        upper[i] = -g
-        lower[i + 1] = -g
-        diag[i] += g
-        diag[i + 1] += g
-    diag[0] += coef * gb
-    diag[n - 1] += coef * gt
+        q_g[i] = (1.0 - g) * q_old[i] + g * q_new[i]
+    eb1, et1 = conduction_theta_factored(T, cap, dz, g_int, gb, gt, q_old, q_g, g * dt, Tb, Tt, 0.5, fac, rhs, T_g)
+    a_g = 1.0 / (g * (2.0 - g))
+    a_n = (1.0 - g) * (1.0 - g) / (g * (2.0 - g))
+    for i in range(n):
+        rhs[i] = cap[i] * (a_g * T_g[i] - a_n * T[i]) + d * dt * q_new[i] * dz[i]
+    rhs[0] += d * dt * gb * Tb
+    rhs[n - 1] += d * dt * gt * Tt
+    solve_factored(fac, rhs, out)
+    lb1 = gb * (out[0] - Tb)
+    lt1 = gt * (out[n - 1] - Tt)
+    return a_g * eb1 + d * dt * lb1, a_g * et1 + d * dt * lt1
 
 
 @njit(cache=True)
@@ -467,29 +580,8 @@ def conduction_trbdf2(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, Tb, Tt, work,
     (loss_bottom, loss_top) : float
         Heat lost through each face over the step [J/m^2].
     """
-    n = T.shape[0]
-    g = 2.0 - math.sqrt(2.0)
-    d = 0.5 * g
-    q_g = work[4]
-    T_g = work[5]
-    for i in range(n):
-        q_g[i] = (1.0 - g) * q_old[i] + g * q_new[i]
-    eb1, et1 = conduction_theta(T, cap, dz, g_int, gb, gt, q_old, q_g, g * dt, Tb, Tt, 0.5, work, T_g)
-    lower = work[0]
-    diag = work[1]
-    upper = work[2]
-    rhs = work[3]
-    a_g = 1.0 / (g * (2.0 - g))
-    a_n = (1.0 - g) * (1.0 - g) / (g * (2.0 - g))
-    for i in range(n):
-        rhs[i] = cap[i] * (a_g * T_g[i] - a_n * T[i]) + d * dt * q_new[i] * dz[i]
-    rhs[0] += d * dt * gb * Tb
-    rhs[n - 1] += d * dt * gt * Tt
-    _assemble_fast(cap, g_int, gb, gt, d * dt, lower, diag, upper)
-    thomas_solve(lower, diag, upper, rhs, out)
-    lb1 = gb * (out[0] - Tb)
-    lt1 = gt * (out[n - 1] - Tt)
-    return a_g * eb1 + d * dt * lb1, a_g * et1 + d * dt * lt1
+    factor_conduction(cap, g_int, gb, gt, 0.5 * TRBDF2_GAMMA * dt, work[0:3])
+    return conduction_trbdf2_factored(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, Tb, Tt, work[0:3], work, out)
 
 
 @njit(cache=True)
