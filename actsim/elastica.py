@@ -930,3 +930,66 @@ def circular_arc_tip(*, curvature, length):
     if x.ndim == 0:
         return float(x), float(y), float(th)
     return x, y, th
+
+
+def load_line_history(ds, *, n_times=25, n=11, times=None):
+    """Large-deflection load lines at output times of a simulation (time-resolved force–travel curves).
+
+    At each selected output time the strip's free curvature and bending stiffness give one
+    :func:`load_line`: the force the tip delivers along +y at each tip travel between blocked and free,
+    and the work it can do. Times whose curvature is zero get a zero line.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        Result of :func:`actsim.simulate` (needs ``free_curvature`` or ``curvature``, and
+        ``bending_stiffness`` [N m2]); its ``free_length`` attribute is the length [m].
+    n_times : int
+        Number of output times, evenly spread, when ``times`` is not given; the time of peak
+        curvature is always included [dimensionless].
+    n : int
+        Points on each load line [dimensionless].
+    times : array_like, optional
+        Output times to use [s] (nearest output times are taken).
+
+    Returns
+    -------
+    xarray.Dataset
+        ``displacement`` and ``force`` (time, point) [m], [N]; ``work`` (time,) [J];
+        ``snap_displacement`` (time,) [m] (NaN where the line does not snap).
+    """
+    import xarray as xr
+
+    t_all = ds["time"].values
+    kappa = (ds["free_curvature"] if "free_curvature" in ds else ds["curvature"]).values
+    ei = ds["bending_stiffness"].values
+    length = float(ds.attrs["free_length"])
+    if times is None:
+        idx = np.unique(np.concatenate([np.linspace(0, t_all.size - 1, max(int(n_times), 1)).round().astype(int),
+                                        [int(np.argmax(np.abs(kappa)))]]))
+    else:
+        idx = np.unique([int(np.argmin(np.abs(t_all - t))) for t in np.atleast_1d(times)])
+    disp = np.zeros((idx.size, n))
+    force = np.zeros((idx.size, n))
+    work = np.zeros(idx.size)
+    snap = np.full(idx.size, np.nan)
+    for row, i in enumerate(idx):
+        k = float(kappa[i])
+        if k == 0.0:
+            continue
+        ll = load_line(length=length, bending_stiffness=float(ei[i]), spontaneous_curvature=abs(k), n=n)
+        sign = 1.0 if k > 0 else -1.0
+        disp[row] = sign * np.asarray(ll.displacement)
+        force[row] = sign * np.asarray(ll.force)
+        work[row] = ll.work
+        snap[row] = sign * ll.snap_displacement if np.isfinite(ll.snap_displacement) else np.nan
+    return xr.Dataset(
+        data_vars={
+            "displacement": (("time", "point"), disp, {"units": "m", "long_name": "tip travel along +y from the clamped tangent"}),
+            "force": (("time", "point"), force, {"units": "N", "long_name": "force the tip delivers along +y at that travel"}),
+            "work": (("time",), work, {"units": "J", "long_name": "work the tip can do from blocked to free"}),
+            "snap_displacement": (("time",), snap, {"units": "m", "long_name": "travel at which the line snaps to the free branch (NaN: none)"}),
+        },
+        coords={"time": ("time", t_all[idx], {"units": "s", "long_name": "output time"})},
+        attrs={"model": "elastica of a uniformly curved cantilever, tip load normal to the clamped tangent"},
+    )

@@ -72,12 +72,19 @@ def cmd_check(args) -> int:
         raise ActsimInputError("check: nothing to check in this scenario; add a [checks] section (see docs/checks.md)")
     write_result_folder(ds, sc, out, figures=not args.no_figures)
     write_checks(results, details, out)
+    extra_files = ""
+    if not args.no_elastica:
+        from ..elastica import load_line_history
+        from ..io import write_netcdf
+
+        write_netcdf(load_line_history(ds), out / "load_lines.nc")
+        extra_files = ", load_lines.nc"
     print(sc.title)
     print("\n".join(_actuation_lines(details)))
     print()
     print(format_results(results))
     print(f"\nresults written to {out}/ (result.nc, timeseries.csv, summary.json, checks.json, checks.csv"
-          f"{', figures/' if not args.no_figures else ''})")
+          f"{extra_files}{', figures/' if not args.no_figures else ''})")
     failed = any_failed(results)
     not_assessed = any(r.passed is None for r in results)
     if failed:
