@@ -116,6 +116,8 @@ class Step:
     ambient_top: float = 293.15  # K
     h_bottom: float = 10.0  # W/(m^2 K), convection + linearised radiation
     h_top: float = 10.0  # W/(m^2 K)
+    convection_bottom: float = 10.0  # W/(m^2 K), convection alone (carried to the next step)
+    convection_top: float = 10.0
 
 
 @dataclass(frozen=True)
@@ -503,8 +505,10 @@ def _parse_step(i: int, data, sources, heat: "HeatSettings", previous: "Step | N
     ambient = amb if amb is not None else (previous.ambient_top if previous is not None else heat.ambient_temperature)
     from .thermal import linearised_radiation_coefficient
 
-    h_t = h_top if h_top is not None else heat.top_heat_transfer
-    h_b = h_bot if h_bot is not None else heat.bottom_heat_transfer
+    # surroundings persist: a step that does not give them keeps those of the step before
+    h_t = h_top if h_top is not None else (previous.convection_top if previous is not None else heat.top_heat_transfer)
+    h_b = h_bot if h_bot is not None else (previous.convection_bottom if previous is not None else heat.bottom_heat_transfer)
+    conv_t, conv_b = h_t, h_b
     h_t += float(linearised_radiation_coefficient(emissivity=heat.top_emissivity, ambient_temperature=ambient))
     h_b += float(linearised_radiation_coefficient(emissivity=heat.bottom_emissivity, ambient_temperature=ambient))
     names = [s.name for s in sources]
@@ -528,7 +532,8 @@ def _parse_step(i: int, data, sources, heat: "HeatSettings", previous: "Step | N
             irr[j] = v
     t.finish()
     return Step(duration=duration, irradiance=tuple(irr), label=label or f"step {i + 1}", hold=hold,
-                hold_value=hold_value, ambient_bottom=ambient, ambient_top=ambient, h_bottom=h_b, h_top=h_t)
+                hold_value=hold_value, ambient_bottom=ambient, ambient_top=ambient, h_bottom=h_b, h_top=h_t,
+                convection_bottom=conv_b, convection_top=conv_t)
 
 
 def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | None = None) -> Scenario:
@@ -593,6 +598,12 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
             cells=lt.integer("cells", default=20, lo=1, hi=10000),
             initial_conversion=lt.number("initial_conversion", default=0.0, lo=0.0, hi=1.0),
         )
+        if layer.initial_conversion > 0 and not layer.material.is_active:
+            raise ActsimInputError(
+                f"layers[{i}].initial_conversion: {layer.initial_conversion:g} given but material '{mname}' has no chromophore"
+            )
+        if any(other.name == layer.name for other in layers):
+            raise ActsimInputError(f"layers[{i}].name: '{layer.name}' is already used by another layer; names must be unique")
         lt.finish()
         layers.append(layer)
 
@@ -624,6 +635,12 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
     for mname, mat in materials.items():
         if mat.temperature_modulus is not None and not heat.enabled:
             raise ActsimInputError(f"materials.{mname}: a temperature-dependent modulus needs a [heat] section")
+        if not heat.enabled:
+            for key in ("thermal_expansion", "back_reaction_activation_energy"):
+                if mats_raw[mname].get(key) not in (None, 0, 0.0) and getattr(mat, key) != 0.0:
+                    raise ActsimInputError(
+                        f"materials.{mname}.{key}: has an effect only when heat is modelled; add a [heat] section"
+                    )
 
     prot_raw = top.raw("protocol")
     if not isinstance(prot_raw, list) or not prot_raw:

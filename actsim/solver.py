@@ -164,6 +164,13 @@ def build_problem(scenario: Scenario) -> Problem:
                 eps_b[sel] = m.product_absorptivity(beam_wl)
                 phi_f[sel] = m.forward_quantum_yield(beam_wl)
                 phi_b[sel] = m.backward_quantum_yield(beam_wl)
+            for name, phi in (("forward_quantum_yield", phi_f[sel]), ("backward_quantum_yield", phi_b[sel])):
+                if phi.size and phi.max() > 1.0 + 1e-12:
+                    b = int(np.argmax(phi.max(axis=0)))
+                    raise ActsimInputError(
+                        f"materials.{m.name}.{name}: {phi.max():.4g} at {beam_wl[b] * 1e9:.4g} nm (its bands add up above 1); "
+                        "allowed range 0 to 1"
+                    )
             k_th[sel] = m.thermal_back_rate
             e_act[sel] = m.back_reaction_activation_energy if heat_on else 0.0
             strain[sel] = m.photo_strain
