@@ -8,7 +8,8 @@ and the photo-induced eigenstrain is proportional to conversion:
 For the wide-plate section (plane strain across the width) the plane-strain
 modulus :math:`E/(1-\\nu^2)` is used; the eigenstrain acts along the strip's
 length only (an aligned, uniaxial photo-strain). For an in-plane isotropic
-eigenstrain under plane strain, multiply the photo-strain by :math:`1+\\nu`.
+eigenstrain under plane strain, multiply the photo-strain by :math:`1+\\nu`; the
+solver does this for the (isotropic) thermal strain.
 
 References
 ----------

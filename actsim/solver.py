@@ -191,7 +191,10 @@ def build_problem(scenario: Scenario) -> Problem:
         k_cond[sel] = m.conductivity
         rho_c[sel] = m.density * m.specific_heat
         heat_frac[sel] = m.heat_fraction
-        alpha_th[sel] = m.thermal_expansion if heat_on else 0.0
+        # thermal strain is isotropic: under plane strain across the width (plate) it acts as (1 + nu) alpha dT
+        # along the strip with the plane-strain modulus (Timoshenko and Woinowsky-Krieger 1959, sec. 14)
+        plate_factor = (1.0 + m.poisson_ratio) if scenario.strip.section == "plate" else 1.0
+        alpha_th[sel] = plate_factor * m.thermal_expansion if heat_on else 0.0
         if n_beam:
             dzl = layer.thickness / layer.cells
             alpha_hi = optics.LN10 * c0[sel][0] * np.maximum(eps_a[sel][0], eps_b[sel][0]) + alpha_bg[sel][0]

@@ -172,3 +172,16 @@ def test_glass_transition_width_zero_refused():
     extra = '[materials.m.glass_transition]\nglassy_modulus = "2 GPa"\nrubbery_modulus = "20 MPa"\ntemperature = "30 degC"\nwidth = "0 K"\n'
     with pytest.raises(actsim.ActsimInputError, match="width"):
         heated(extra_mat=extra)
+
+
+def test_plate_thermal_strain_carries_one_plus_poisson():
+    # Plane strain across the width with an isotropic thermal strain e_th: sigma_x = E/(1-nu^2) (e_x - (1+nu) e_th)
+    # (Timoshenko and Woinowsky-Krieger, Theory of Plates and Shells, 1959, sec. 14), so a free uniform plate
+    # stretches by (1 + nu) alpha dT along the strip, a beam by alpha dT.
+    extra = 'thermal_expansion = "1e-4 1/K"\npoisson_ratio = 0.4'
+    beam = actsim.simulate(heated(extra_mat=extra, step="0.01 s"))
+    plate_sc = heated(extra_mat=extra, step="0.01 s")
+    plate = actsim.simulate(actsim.scenario.apply_overrides(plate_sc, {"strip.section": "plate"}))
+    dT = float(beam.temperature.values[-1].mean()) - 293.15
+    assert float(beam.axial_strain[-1]) == pytest.approx(1e-4 * dT, rel=1e-6)
+    assert float(plate.axial_strain[-1]) == pytest.approx(1.4e-4 * dT, rel=1e-6)
