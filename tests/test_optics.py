@@ -74,3 +74,13 @@ def test_photon_conservation_every_step(make_scenario):
     balance = inc - ds.photon_flux_reflected - ds.photon_flux_absorbed - ds.photon_flux_transmitted
     assert np.all(inc > 0)
     assert float(np.max(np.abs(balance.values) / inc)) < 1e-13
+
+
+def test_lighting_from_below_mirrors_lighting_from_above(make_scenario):
+    # Mirror symmetry of a homogeneous film: lighting the bottom face instead of the top gives the mirrored
+    # conversion profile and the opposite curvature (DESIGN.md sign convention: kappa > 0 bends toward +z).
+    top = actsim.simulate(make_scenario(face="top"))
+    bottom = actsim.simulate(make_scenario(face="bottom"))
+    np.testing.assert_allclose(bottom.conversion.values, top.conversion.values[:, ::-1], rtol=1e-12, atol=1e-15)
+    np.testing.assert_allclose(bottom.curvature.values, -top.curvature.values, rtol=1e-9, atol=1e-12)
+    assert float(top.curvature[-1]) > 0  # a contracting top layer bends the strip toward the light
