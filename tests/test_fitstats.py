@@ -153,3 +153,29 @@ def test_calibrate_docstrings_document_every_parameter():
                 assert re.search(rf"(^|[\s,*]){re.escape(p)}\b[^\n]*:", doc, re.M) or f"*{p}" in doc, (m, name, p)
             if name not in exempt:
                 assert ".. math::" in doc and "References" in doc, (m, name)
+
+
+def test_known_sigma_interval_uses_normal_quantile():
+    # With known standard deviations (absolute_sigma=True) s is not estimated, so the two-sided 95 %
+    # interval is p +- z_0.975 se with z_0.975 = 1.959964 (scipy.stats.norm.ppf(0.975); normal table,
+    # e.g. M. Abramowitz and I. A. Stegun, Handbook of Mathematical Functions, 1964, table 26.5),
+    # not Student t with n - p dof (Bates and Watts 1988, sec. 2.3). Few points make the two differ.
+    x = np.linspace(0.0, 1.0, 5)
+    sigma = 0.2
+    y = 1.0 + 2.0 * x + np.array([0.1, -0.2, 0.15, 0.0, -0.05])
+    X = np.column_stack([np.ones_like(x), x]) / sigma
+    beta = np.linalg.lstsq(X, y / sigma, rcond=None)[0]
+    fr = fit_statistics(X, X @ beta - y / sigma, values=beta, names=("c", "m"), units=("1", "1"),
+                        absolute_sigma=True)
+    # known-sigma covariance: Cov = (X^T W X)^-1 with W = 1/sigma^2 (Draper and Smith 1998, sec. 9.2)
+    se_m = np.sqrt(np.linalg.inv(X.T @ X)[1, 1])
+    assert fr.stderr("m") == pytest.approx(se_m, rel=1e-10)
+    z = 1.959963984540054
+    assert stats.norm.ppf(0.975) == pytest.approx(z, rel=1e-12)
+    lo, hi = fr.ci("m")
+    assert lo == pytest.approx(beta[1] - z * se_m, rel=1e-10)
+    assert hi == pytest.approx(beta[1] + z * se_m, rel=1e-10)
+    # the estimated-sigma fit of the same data keeps Student t with n - p = 3 dof (t_0.975,3 = 3.182)
+    fr_t = fit_statistics(X, X @ beta - y / sigma, values=beta, names=("c", "m"), units=("1", "1"))
+    lo_t, hi_t = fr_t.ci("m")
+    assert (hi_t - lo_t) / 2 == pytest.approx(stats.t.ppf(0.975, 3) * fr_t.stderr("m"), rel=1e-10)

@@ -11,6 +11,9 @@ is replaced by its tangent, and the covariance of the parameters is
     s^2 = \\frac{\\sum_i r_i^2}{n - p},
 
 with Student-t confidence intervals :math:`\\hat p_k \\pm t_{1-\\alpha/2,\\,n-p}\\,\\mathrm{se}_k`.
+When the residuals are already divided by known standard deviations (``absolute_sigma``),
+:math:`s^2 = 1` is not estimated and the interval uses the normal quantile
+:math:`z_{1-\\alpha/2}` instead.
 These intervals are exact for a linear model with independent, equal-variance normal errors
 and approximate otherwise (their coverage is checked by simulation in the tests).
 
@@ -88,7 +91,8 @@ class FitResult:
     covariance : numpy.ndarray
         Parameter covariance matrix [units_i * units_j].
     dof : int
-        Degrees of freedom used for ``s^2`` and the t quantile (n - rank).
+        Degrees of freedom used for ``s^2`` and the t quantile (n - rank); with known sigma
+        (``absolute_sigma``) the interval uses the normal quantile instead.
     residual_std : float
         Residual standard deviation ``s``.
     confidence : float
@@ -350,7 +354,8 @@ def fit_statistics(jacobian, residuals, *, values, names, units, confidence=0.95
     success, message : bool, str
         Passed through from the optimiser.
     absolute_sigma : bool
-        Residuals already weighted by known standard deviations (``s^2 = 1``).
+        Residuals already weighted by known standard deviations (``s^2 = 1``); the
+        confidence interval then uses the normal quantile instead of Student t.
     active_mask : array_like of int, optional
         ``least_squares``' ``active_mask``; a parameter sitting on a bound is reported.
     sv_warn_rtol : float
@@ -367,7 +372,8 @@ def fit_statistics(jacobian, residuals, *, values, names, units, confidence=0.95
     .. math::
 
         \\mathrm{se}_k = \\sqrt{\\operatorname{Cov}_{kk}}, \\quad
-        \\hat p_k \\pm t_{(1+c)/2,\\;n-p}\\,\\mathrm{se}_k, \\quad
+        \\hat p_k \\pm t_{(1+c)/2,\\;n-p}\\,\\mathrm{se}_k
+        \\;\\text{(or } z_{(1+c)/2}\\,\\mathrm{se}_k \\text{ with known } \\sigma), \\quad
         \\rho_{jk} = \\frac{\\operatorname{Cov}_{jk}}{\\mathrm{se}_j\\,\\mathrm{se}_k}
 
     References
@@ -387,7 +393,12 @@ def fit_statistics(jacobian, residuals, *, values, names, units, confidence=0.95
     cov, info = covariance_from_jacobian(J, residuals, absolute_sigma=absolute_sigma)
     diag = np.diag(cov).copy()
     se = np.sqrt(np.where(diag < 0, 0.0, diag))  # tiny negative round-off only
-    tq = float(stats.t.ppf(0.5 + confidence / 2.0, info["dof"]))
+    # Known standard deviations (absolute_sigma): s is not estimated, so the interval uses the
+    # normal quantile; an estimated s (n - p dof) calls for Student t (Bates and Watts 1988, sec. 2.3).
+    if absolute_sigma:
+        tq = float(stats.norm.ppf(0.5 + confidence / 2.0))
+    else:
+        tq = float(stats.t.ppf(0.5 + confidence / 2.0, info["dof"]))
     lo = values - tq * se
     hi = values + tq * se
     with np.errstate(invalid="ignore", divide="ignore"):
