@@ -278,3 +278,24 @@ def test_docstrings_document_every_parameter():
                 assert re.search(rf"(^|[\s,*]){re.escape(p)}\b[^\n]*:", doc, re.M) or f"*{p}" in doc, (m, name, p)
             if name not in exempt:
                 assert ".. math::" in doc and "References" in doc, (m, name)
+
+
+def test_sigma_on_some_curves_only_is_refused_and_equal_sigma_matches_unweighted(start_scenario, clean_curves):
+    # A bare residual is in rad (sigma = 1 rad in effect) while a residual divided by sigma = 0.5 deg is
+    # dimensionless: mixing them weights curves by (1 rad / 0.5 deg)^2 ~ 1.3e4 for no reason. Refused, naming
+    # the curves without sigma.
+    curves = noisy(clean_curves, 7)
+    curves[1].sigma = np.radians(0.5)
+    with pytest.raises(ActsimInputError, match=r"curves sigma: missing on curve 1, curve 3 but given"):
+        fit_bend(start_scenario, curves)
+    # Weighted least squares with s estimated is invariant to one common factor on all weights: the same
+    # sigma on every curve gives the unweighted estimates and standard errors (N. R. Draper and H. Smith,
+    # Applied Regression Analysis, 3rd ed., Wiley, 1998, sec. 9.2: only relative weights matter when
+    # s^2 is estimated from the residuals).
+    plain = fit_bend(start_scenario, noisy(clean_curves, 7))
+    weighted = noisy(clean_curves, 7)
+    for c in weighted:
+        c.sigma = np.radians(0.5)
+    same = fit_bend(start_scenario, weighted)
+    np.testing.assert_allclose(same.result.values, plain.result.values, rtol=1e-4)
+    np.testing.assert_allclose(same.result.standard_errors, plain.result.standard_errors, rtol=1e-3)

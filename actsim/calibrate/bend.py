@@ -13,7 +13,11 @@ all curves are stacked,
     r_{c,i}(p) = \\frac{\\theta_\\text{model}(t_{c,i};\\,p,\\,\\text{overrides}_c) - \\theta_{c,i}}{\\sigma_c},
     \\qquad \\hat p = \\arg\\min_{l \\le p \\le u} \\sum_{c,i} r_{c,i}^2,
 
-with :math:`\\sigma_c = 1\\,\\mathrm{rad}` unless a curve gives its measurement standard deviation.
+with :math:`\\sigma_c` the measurement standard deviation of curve :math:`c` when the curves give
+one (then every curve must give it: a bare residual in radians and one divided by a sigma in
+radians have different units, so mixing them would weight the curves arbitrarily), or
+:math:`\\sigma_c = 1` for all curves when none does. The sigmas act as relative weights: the
+residual standard deviation :math:`s` is still estimated from the fit.
 The Jacobian is taken by forward differences on parameters scaled to order one, so the number
 of simulations stays near ``(1 + n_parameters) * n_curves`` per iteration. Standard errors,
 confidence intervals, correlations and identifiability warnings come from
@@ -329,7 +333,8 @@ class BendCurve:
     label : str
         Legend label (default: the file name or ``curve <n>``).
     sigma : float or None
-        Measurement standard deviation of this curve [rad]; None weighs all curves equally.
+        Measurement standard deviation of this curve [rad]; give it on every curve of a fit or
+        on none (None on all weighs all curves equally).
     time_unit, angle_unit : str, optional
         Units for arrays or a header without units.
     """
@@ -560,6 +565,11 @@ def fit_bend(scenario, curves, *, parameters=None, confidence=0.95, max_iteratio
     if not isinstance(max_iterations, int) or max_iterations < 1:
         raise ActsimInputError(f"max_iterations: {max_iterations!r} is outside the allowed range (whole number >= 1)")
     resolved = [_resolve_curve(c, i, scenario) for i, c in enumerate(curves)]
+    bare = [c.source for c in resolved if c.sigma is None]
+    if bare and len(bare) < len(resolved):
+        raise ActsimInputError(
+            f"curves sigma: missing on {', '.join(bare)} but given on the others; give sigma [angle, > 0] "
+            "on every curve or on none")
     for c in resolved:
         clash = set(c.overrides) & set(paths)
         if clash:
@@ -587,6 +597,7 @@ def fit_bend(scenario, curves, *, parameters=None, confidence=0.95, max_iteratio
     width = hi - lo
     fallback = np.where(np.isfinite(width), 0.01 * width, 1.0)
     scale = np.where(scale > 0, scale, fallback)
+    # all curves give sigma (relative weights 1/sigma_c) or none does (equal weights); mixed is refused above
     weights = np.array([1.0 if c.sigma is None else 1.0 / c.sigma for c in resolved])
     count = {"sims": 0}
     cache = {}
@@ -682,7 +693,7 @@ def load_fit_plan(path) -> FitPlan:
             [[curves]]
             file = "bend_05mWcm2.csv"
             label = "5 mW/cm^2"        # optional
-            sigma = "0.5 deg"          # optional measurement standard deviation
+            sigma = "0.5 deg"          # optional measurement standard deviation (all curves or none)
             overrides = { "protocol[0].light.uv_lamp" = "5 mW/cm^2" }
 
     Returns
