@@ -167,9 +167,10 @@ def section_solve(z_edges, E, Ee, hold, value, h):
 
 
 @njit(cache=True)
-def cell_strain(z_edges, e0, kappa, out):
+def mechanical_strain(z_edges, e0, kappa, alpha_th, T, T_ref, out):
+    """Strain at each cell centre less the thermal strain: what a network formed now remembers."""
     for i in range(out.size):
-        out[i] = e0 - kappa * 0.5 * (z_edges[i] + z_edges[i + 1])
+        out[i] = e0 - kappa * 0.5 * (z_edges[i] + z_edges[i + 1]) - alpha_th[i] * (T[i] - T_ref)
 
 
 @njit(cache=True)
@@ -217,7 +218,8 @@ def run_design(z_edges, dz, c0, eps_a, eps_b, alpha_bg, phi_f, phi_b, k_ref, e_a
     heat step (Crank–Nicolson or TR-BDF2, source averaged) and rates at the new
     temperature; the exact update again with the averaged rates. Where a
     light-formed network exists, network formed in the step remembers the
-    midpoint strain of the step (predicted, then corrected), and cleavage
+    midpoint mechanical strain of the step (total strain less thermal strain;
+    predicted, then corrected), so it is stress-free when it forms; cleavage
     removes the same fraction of the remembered strain. Output slot 0 holds the
     initial state; slot s+1 the state at the end of segment s. ``out_energy``
     holds the cumulative heat absorbed and lost through the bottom and top
@@ -291,7 +293,7 @@ def run_design(z_edges, dz, c0, eps_a, eps_b, alpha_bg, phi_f, phi_b, k_ref, e_a
             material_state(x, T, S, mod_kind, mod_base, mod_ratio, sec_fac, gl, tab_idx, tab_T, tab_logE,
                            network_mod, photo_strain, alpha_th, T_ref, E, Ee)
             r = section_solve(z_edges, E, Ee, hold, value, h)
-            cell_strain(z_edges, r[0], r[1], e_start)
+            mechanical_strain(z_edges, r[0], r[1], alpha_th, T, T_ref, e_start)
         for _ in range(seg_n[s]):
             # light and rates at the start of the step
             light_pass(x, dz, c0, eps_a, eps_b, alpha_bg, from_top, entry, q, mf, ab)
@@ -334,7 +336,7 @@ def run_design(z_edges, dz, c0, eps_a, eps_b, alpha_bg, phi_f, phi_b, k_ref, e_a
                 material_state(xp, Tn, Sp, mod_kind, mod_base, mod_ratio, sec_fac, gl, tab_idx, tab_T, tab_logE,
                                network_mod, photo_strain, alpha_th, T_ref, E, Ee)
                 r = section_solve(z_edges, E, Ee, hold, value, h)
-                cell_strain(z_edges, r[0], r[1], e_end)
+                mechanical_strain(z_edges, r[0], r[1], alpha_th, Tn, T_ref, e_end)
                 # corrector: midpoint strain
                 for i in range(n_cell):
                     if network_mod[i] > 0.0:
@@ -346,7 +348,7 @@ def run_design(z_edges, dz, c0, eps_a, eps_b, alpha_bg, phi_f, phi_b, k_ref, e_a
                 material_state(xp, Tn, S, mod_kind, mod_base, mod_ratio, sec_fac, gl, tab_idx, tab_T, tab_logE,
                                network_mod, photo_strain, alpha_th, T_ref, E, Ee)
                 r = section_solve(z_edges, E, Ee, hold, value, h)
-                cell_strain(z_edges, r[0], r[1], e_start)
+                mechanical_strain(z_edges, r[0], r[1], alpha_th, Tn, T_ref, e_start)
             for i in range(n_cell):
                 x[i] = xp[i]
                 T[i] = Tn[i]

@@ -82,7 +82,8 @@ def two_network_state(*, conversion, temperature, network_strain, primary_modulu
     The primary network carries the photo-strain and the thermal strain; the
     light-formed network of density n = x (its modulus at full conversion
     :math:`E_n`) is stress-free at the strain it formed at, kept as the
-    network-weighted strain :math:`S` (forming dn at strain e adds e dn;
+    network-weighted strain :math:`S` (forming dn at mechanical strain
+    :math:`e - e_{th}` adds :math:`(e - e_{th})\\,dn`, so new network is stress-free;
     cleavage removes the same fraction of S). With
     :math:`e_{th} = \\alpha_{th}(T - T_{ref})`,
 

@@ -374,7 +374,7 @@ def run_reference(p: Problem) -> dict:
         dt = p.seg_dt[s]
         if has_network:
             _, _, r = mech(x, T, S, st)
-            e_start = r[0] - r[1] * zc
+            e_start = r[0] - r[1] * zc - p.alpha_th * (T - p.T_ref)  # mechanical strain: stress-free network
         for _ in range(p.seg_n[s]):
             mf, ab, _ = light(x, q)
             kf0, kb0 = rate(mf, T)
@@ -403,11 +403,11 @@ def run_reference(p: Problem) -> dict:
                 on = p.network_mod > 0
                 Sp = np.where(on, network.update_network_strain(network_strain=S, conversion_old=x, conversion_new=xn, strain=e_start), S)
                 _, _, r = mech(xn, Tn, Sp, st)
-                e_end = r[0] - r[1] * zc
+                e_end = r[0] - r[1] * zc - p.alpha_th * (Tn - p.T_ref)
                 S = np.where(on, network.update_network_strain(network_strain=S, conversion_old=x, conversion_new=xn,
                                                                strain=0.5 * (e_start + e_end)), S)
                 _, _, r = mech(xn, Tn, S, st)
-                e_start = r[0] - r[1] * zc
+                e_start = r[0] - r[1] * zc - p.alpha_th * (Tn - p.T_ref)
             x, T = xn, Tn
         store(s + 1, x, T, S, st)
         o["energy"][s + 1] = energy

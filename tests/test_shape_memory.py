@@ -157,3 +157,38 @@ def test_release_without_hold_is_refused():
 def test_stretch_needs_a_strain():
     with pytest.raises(actsim.ActsimInputError, match=r"protocol\[0\].strain: required field is missing"):
         smp(protocol='[[protocol]]\nduration = "5 s"\nhold = "stretch"\n')
+
+
+def test_network_formed_hot_is_stress_free_and_fixes_nothing_on_cooling():
+    # Two-network framework (Long et al. 2009) with thermal strain on both networks: a free, uniform strip heated
+    # to T expands by alpha (T - T_ref); network formed while hot remembers the mechanical strain (zero here), so
+    # it forms stress-free, leaves the strain at alpha dT, and on cooling back to T_ref the strip returns to zero
+    # strain: heating alone programs no shape.
+    protocol = """
+    [[protocol]]
+    duration = "20 s"
+    ambient_temperature = "60 degC"
+    [[protocol]]
+    duration = "80 s"
+    light = ["fix"]
+    [[protocol]]
+    duration = "40 s"
+    ambient_temperature = "20 degC"
+    """
+    placeholder = '[[protocol]]\nlabel = "placeholder"\nduration = "1 s"\n'
+    sc = smp(protocol=placeholder, step="0.05 s")
+    text = sc.text.replace(placeholder, textwrap.dedent(protocol)).replace("[strip]", '[heat]\nambient_temperature = "20 degC"\ntop_heat_transfer = "1000 W/(m^2*K)"\n'
+                           'bottom_heat_transfer = "1000 W/(m^2*K)"\n\n[strip]')
+    text = text.replace('network_modulus = "30 MPa"', 'network_modulus = "30 MPa"\nthermal_expansion = "2e-4 1/K"')
+    sc = parse_scenario(text)
+    fast = actsim.simulate(sc)
+    steps = fast.protocol_step.values
+    end_fix = np.nonzero(steps == 1)[0][-1]
+    dT = float(fast.temperature.values[end_fix].mean()) - 293.15
+    assert dT == pytest.approx(40.0, rel=1e-3)
+    assert float(fast.conversion.values[end_fix].mean()) > 0.99
+    assert float(fast.axial_strain[end_fix]) == pytest.approx(2e-4 * dT, rel=1e-6)
+    assert float(np.abs(fast.stress.values[end_fix]).max()) < 1e-6 * 30e6 * 2e-4 * dT
+    assert abs(float(fast.axial_strain[-1])) < 1e-6
+    slow = actsim.simulate(sc, engine="reference")
+    np.testing.assert_allclose(fast.network_strain.values, slow.network_strain.values, rtol=1e-10, atol=1e-16)
