@@ -436,8 +436,31 @@ def fischer_conversions(wavelength, *, absorbance_reactant, absorbance_pss1, abs
     return float(x1), float(x2), float(phi)
 
 
-def isosbestic_points(wavelength, absorbance_1, absorbance_2, *, min_relative_absorbance=0.02):
-    """Wavelengths where two spectra cross.
+def _noise_std(y):
+    """Noise standard deviation of a sampled curve from its point-to-point differences [unit of y].
+
+    The DER_SNR estimator: the median of :math:`|2y_i - y_{i-2} - y_{i+2}|` scaled to a standard
+    deviation. A straight line contributes nothing; curvature of the signal makes it an
+    overestimate, so it errs towards the safe side for a threshold. Fewer than five points: 0.
+
+    .. math::
+
+        \\hat\\sigma = \\frac{1.482602}{\\sqrt{6}}\\,\\operatorname{median}_i\\,|2y_i - y_{i-2} - y_{i+2}|
+
+    References
+    ----------
+    .. [1] F. Stoehr et al., "DER_SNR: a simple and general spectroscopic signal-to-noise
+       measurement algorithm", ASP Conference Series 394 (2008) 505 (from memory).
+    """
+    y = np.asarray(y, dtype=float)
+    if y.size < 5:
+        return 0.0
+    return float(1.482602 / np.sqrt(6.0) * np.median(np.abs(2.0 * y[2:-2] - y[:-4] - y[4:])))
+
+
+def isosbestic_points(wavelength, absorbance_1, absorbance_2, *, absorbance_matrix=0.0,
+                      min_relative_absorbance=0.02, noise=None, significance=3.0):
+    """Wavelengths where two spectra cross, with crossings made by noise left out.
 
     Parameters
     ----------
@@ -445,10 +468,19 @@ def isosbestic_points(wavelength, absorbance_1, absorbance_2, *, min_relative_ab
         Common grid, increasing [m].
     absorbance_1, absorbance_2 : array_like
         Two spectra on the grid [1].
+    absorbance_matrix : float or array_like
+        Absorbance of everything but the chromophore (film matrix, substrate, reflection) [1];
+        subtracted before the thresholds are applied, so that a flat baseline where the
+        chromophore does not absorb does not count as absorbance.
     min_relative_absorbance : float
-        Crossings where the absorbance is below this fraction of the larger spectrum's maximum
-        are dropped (both spectra near zero: noise, not an isosbestic point) [1]. Common
-        practice, no source.
+        Crossings where the chromophore absorbance (absorbance minus matrix) is below this
+        fraction of its peak over both spectra are dropped [1]. Common practice, no source.
+    noise : float, optional
+        Standard deviation of the absorbance noise [1]; default: estimated from each spectrum's
+        point-to-point differences (DER_SNR, see Notes), the larger of the two.
+    significance : float
+        Multiple of the noise that counts as a real difference [1]. Default 3 (common practice,
+        no source).
 
     Returns
     -------
@@ -457,42 +489,67 @@ def isosbestic_points(wavelength, absorbance_1, absorbance_2, *, min_relative_ab
 
     Notes
     -----
-    A crossing is a sign change of :math:`D = A_2 - A_1` between neighbouring points (or a zero),
-    refined by linear interpolation:
+    With :math:`A'_k = A_k - A_\\text{matrix}` and :math:`D = A'_2 - A'_1`, a crossing is a change
+    of sign of :math:`D` between two points where :math:`|D|` exceeds ``significance`` times its
+    noise (hysteresis: wiggles of a noisy :math:`D` about zero count once, or not at all when
+    :math:`D` never leaves the noise band). Its wavelength is the root of the least-squares
+    line through :math:`D` from the last significant point before to the first after; when these
+    are neighbours this is plain linear interpolation,
 
     .. math::
 
-        \\lambda^* = \\lambda_i + \\frac{D_i}{D_i - D_{i+1}}(\\lambda_{i+1} - \\lambda_i)
+        \\lambda^* = \\lambda_i + \\frac{D_i}{D_i - D_{i+1}}(\\lambda_{i+1} - \\lambda_i).
+
+    A crossing is kept when the chromophore absorbance there is at least the floor
+    :math:`\\max(f\\,\\max A',\\; s\\,\\sigma)` (``f = min_relative_absorbance``,
+    ``s = significance``, :math:`\\sigma` the absorbance noise): where both spectra are at the
+    matrix baseline they cross at random.
 
     References
     ----------
     .. [1] IUPAC Gold Book, "isosbestic point".
+    .. [2] F. Stoehr et al., "DER_SNR: a simple and general spectroscopic signal-to-noise
+       measurement algorithm", ASP Conference Series 394 (2008) 505 (noise estimate; from memory).
     """
     wl = np.asarray(wavelength, dtype=float)
     A1 = np.asarray(absorbance_1, dtype=float)
     A2 = np.asarray(absorbance_2, dtype=float)
     if not (wl.shape == A1.shape == A2.shape):
         raise ActsimInputError("spectra: wavelength and absorbance arrays differ in length; use common_grid first")
-    D = A2 - A1
-    thr = min_relative_absorbance * max(float(np.max(A1)), float(np.max(A2)))
+    if not (np.isfinite(significance) and significance >= 0):
+        raise ActsimInputError(f"significance: {significance!r} is outside the allowed range (>= 0)")
+    matrix = np.broadcast_to(np.asarray(absorbance_matrix, dtype=float), wl.shape)
+    C1, C2 = A1 - matrix, A2 - matrix
+    if noise is None:
+        sigma = max(_noise_std(C1), _noise_std(C2))
+    else:
+        if not (np.isfinite(noise) and noise >= 0):
+            raise ActsimInputError(f"noise: {noise!r} is outside the allowed range (>= 0, absorbance [1])")
+        sigma = float(noise)
+    peak = max(float(np.max(C1)), float(np.max(C2))) if wl.size else 0.0
+    floor = max(min_relative_absorbance * peak, significance * sigma)
+    D = C2 - C1
+    # noise of the difference of two independent spectra: sqrt(2) sigma
+    band = significance * np.sqrt(2.0) * sigma
+    sig = np.flatnonzero(np.abs(D) > band)
     out = []
-    for i in range(D.size - 1):
-        if D[i] == 0.0:
-            lam, a = wl[i], A1[i]
-        elif D[i] * D[i + 1] < 0:
-            t = D[i] / (D[i] - D[i + 1])
-            lam = wl[i] + t * (wl[i + 1] - wl[i])
-            a = A1[i] + t * (A1[i + 1] - A1[i])
-        else:
+    for i, j in zip(sig[:-1], sig[1:]):
+        if np.sign(D[i]) == np.sign(D[j]):
             continue
-        if a >= thr:
+        x, y = wl[i:j + 1], D[i:j + 1]
+        if j == i + 1:
+            lam = wl[i] + D[i] / (D[i] - D[j]) * (wl[j] - wl[i])
+        else:
+            slope, icpt = np.polyfit(x - x[0], y, 1)
+            lam = x[0] - icpt / slope if slope != 0 else 0.5 * (x[0] + x[-1])
+            lam = min(max(lam, x[0]), x[-1])
+        a = float(np.interp(lam, wl, 0.5 * (C1 + C2)))
+        if a >= floor:
             out.append(lam)
-    if D.size and D[-1] == 0.0 and A1[-1] >= thr:
-        out.append(wl[-1])
     return np.array(out, dtype=float)
 
 
-def isosbestic_consistency(wavelength, reference, others, *, tolerance=1e-9):
+def isosbestic_consistency(wavelength, reference, others, *, tolerance=1e-9, absorbance_matrix=0.0):
     """Check that every spectrum crosses the reference at the same wavelengths.
 
     Parameters
@@ -505,6 +562,8 @@ def isosbestic_consistency(wavelength, reference, others, *, tolerance=1e-9):
         Further spectra on the grid [1].
     tolerance : float
         Largest accepted spread of a crossing between spectra [m].
+    absorbance_matrix : float or array_like
+        Absorbance of everything but the chromophore [1] (see :func:`isosbestic_points`).
 
     Returns
     -------
@@ -525,7 +584,7 @@ def isosbestic_consistency(wavelength, reference, others, *, tolerance=1e-9):
     ----------
     .. [1] IUPAC Gold Book, "isosbestic point".
     """
-    pts = [isosbestic_points(wavelength, reference, o) for o in others]
+    pts = [isosbestic_points(wavelength, reference, o, absorbance_matrix=absorbance_matrix) for o in others]
     counts = {p.size for p in pts}
     if len(counts) > 1:
         spread = float("inf")
@@ -651,13 +710,13 @@ def fit_spectra(before, after, *, concentration, thickness, conversion=None, par
         i = int(np.argmin(eB))
         notes.append(f"product absorptivity negative ({eB[i]:.3g} m^2/mol at {wl[i] * 1e9:.5g} nm): the given conversion "
                      "is too small, or baseline drift or a side product")
-    iso = isosbestic_points(wl, Ab, Aa)
+    iso = isosbestic_points(wl, Ab, Aa, absorbance_matrix=absorbance_matrix)
     check = None
     xp = None
     if Ap is not None:
         rho, misfit = relative_conversion(absorbance_before=Ab, absorbance_partial=Ap, absorbance_after=Aa)
         xp = rho * x
-        check = isosbestic_consistency(wl, Ab, [Aa, Ap])
+        check = isosbestic_consistency(wl, Ab, [Aa, Ap], absorbance_matrix=absorbance_matrix)
         check["relative_misfit"] = misfit
         if misfit > 0.05:
             notes.append(f"partial spectrum is not a multiple of the final change (relative misfit {misfit:.2g}); "
