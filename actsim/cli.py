@@ -126,7 +126,7 @@ def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set
 
         record = read_summary(out_dir)
         record["patterned"] = pat
-        record["files"].append("patterned.nc")
+        record["files"] += ["patterned.nc"] + (["figures/folded_shape.png"] if figures else [])
         write_json(Path(out_dir) / "summary.json", record)
         print("  through the mask (the table above is the strip lit all along its length):")
         print(f"  peak fold angle  {_fmt_angle(pat['peak_fold_angle'])} at t = {pat['time_of_peak_fold']:.4g} s")
@@ -139,6 +139,11 @@ def cmd_run(args):
     out = args.output or str(Path("actsim-out") / Path(args.scenario).stem)
     if args.uncertainty and args.uncertainty < 2:
         raise ActsimInputError(f"--uncertainty: {args.uncertainty} draws is too few (allowed >= 2)")
+    if args.uncertainty and "calibration" not in load_with_overrides(args.scenario, args.set).extras:
+        raise ActsimInputError(
+            "--uncertainty: the scenario has no [calibration] section to draw from; fit one with `actsim fit bend` "
+            "(see docs/calibration.md)"
+        )
     status = _run_and_write(args.scenario, out, figures=not args.no_figures, engine=args.engine, set_items=args.set)
     if args.uncertainty:
         from .calibrate.uncertainty import run_uncertainty
@@ -220,13 +225,16 @@ def main(argv=None) -> int:
     except ActsimError as exc:
         print(f"actsim: error: {exc}", file=sys.stderr)
         return 3
-    except BrokenPipeError:
-        # output piped into a command that stopped reading (e.g. `| head`): not an error of ours
-        import os
+    except OSError as exc:
+        if isinstance(exc, BrokenPipeError):
+            import os
 
-        devnull = os.open(os.devnull, os.O_WRONLY)
-        os.dup2(devnull, sys.stdout.fileno())
-        return 0
+            # output piped into a command that stopped reading (e.g. `| head`): not an error of ours
+            devnull = os.open(os.devnull, os.O_WRONLY)
+            os.dup2(devnull, sys.stdout.fileno())
+            return 0
+        print(f"actsim: error: {exc.strerror or exc}: {exc.filename or ''}".rstrip(": "), file=sys.stderr)
+        return 2
     except KeyboardInterrupt:
         print("actsim: interrupted; finished files are complete, unfinished ones were not written", file=sys.stderr)
         return 130

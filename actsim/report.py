@@ -92,6 +92,22 @@ def _length(x) -> tuple[str, str]:
     return _num(x * 1e9), "nm"
 
 
+def _modulus_law_text(m) -> str:
+    """Plain words for a modulus that follows a temperature law (glass transition or DMA table)."""
+    law = m.temperature_modulus
+    if law is None:
+        return "—"
+    if law[0] == "glass":
+        g, gu = _pressure(law[1])
+        r, ru = _pressure(law[2])
+        return (f"glass transition from {g} {gu} (glassy) to {r} {ru} (rubbery), Tg {_num(law[3] - 273.15)} °C, "
+                f"width {_num(law[4])} K")
+    e_lo, u_lo = _pressure(float(np.min(law[2])))
+    e_hi, u_hi = _pressure(float(np.max(law[2])))
+    return (f"tabulated against temperature ({len(law[1])} points, {_num(law[1][0] - 273.15)}–"
+            f"{_num(law[1][-1] - 273.15)} °C, {e_lo} {u_lo} to {e_hi} {u_hi})")
+
+
 def _pressure(x) -> tuple[str, str]:
     ax = abs(x)
     for scale, unit in ((1e9, "GPa"), (1e6, "MPa"), (1e3, "kPa")):
@@ -254,9 +270,10 @@ def _scenario_words(sc) -> str:
     for layer in sc.layers:
         m = layer.material
         t, tu = _length(layer.thickness)
-        e0, eu = _pressure(m.modulus)
+        e0, eu = _pressure(m.modulus) if m.modulus is not None else (_modulus_law_text(m), "")
         if m.is_active:
-            e1, eu1 = _pressure(m.product_modulus)
+            e1, eu1 = _pressure(m.product_modulus) if m.product_modulus is not None else (
+                f"{_num(m.product_modulus_ratio)} x that", "")
             what = (f"photoactive: chromophore {_num(m.chromophore_concentration / 1000.0)} mol/L, eigenstrain "
                     f"{_num(m.photo_strain * 100)} % at full conversion, Young's modulus {e0} {eu} unconverted and "
                     f"{e1} {eu1} fully converted")
@@ -311,9 +328,14 @@ def _param_rows(sc) -> list[tuple[str, str, str, str]]:
             continue
         seen.append(m.name)
         g = f"material: {m.name}"
-        rows.append((g, "Young's modulus (unconverted)", *_pressure(m.modulus)))
-        if m.product_modulus != m.modulus:
-            rows.append((g, "Young's modulus (fully converted)", *_pressure(m.product_modulus)))
+        if m.modulus is None:
+            rows.append((g, "Young's modulus (unconverted)", _modulus_law_text(m), "—"))
+            if m.product_modulus_ratio != 1.0:
+                rows.append((g, "fully converted / unconverted modulus", _num(m.product_modulus_ratio), "1"))
+        else:
+            rows.append((g, "Young's modulus (unconverted)", *_pressure(m.modulus)))
+            if m.product_modulus != m.modulus:
+                rows.append((g, "Young's modulus (fully converted)", *_pressure(m.product_modulus)))
         rows += [(g, "Poisson's ratio", _num(m.poisson_ratio), "1"), (g, "refractive index", _num(m.refractive_index), "1")]
         if not m.background_absorption.is_zero():
             rows.append((g, "background absorption (natural log)",

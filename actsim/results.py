@@ -19,6 +19,7 @@ from pathlib import Path
 import xarray as xr
 
 from . import io
+from .errors import ActsimInputError
 from .metrics import summarize
 
 RESULT_FILE = "result.nc"
@@ -30,6 +31,8 @@ def write_result_folder(ds, scenario, out_dir, *, figures=True):
     from . import __version__
 
     out = Path(out_dir)
+    if out.exists() and not out.is_dir():
+        raise ActsimInputError(f"-o/--output: '{out}' is a file, not a folder; give a folder for the results")
     out.mkdir(parents=True, exist_ok=True)
     summary = summarize(ds, target_bend_angle=scenario.target_bend_angle, protocol=scenario.protocol)
     files = [RESULT_FILE, "timeseries.csv", "scenario.toml", SUMMARY_FILE]

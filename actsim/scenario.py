@@ -45,8 +45,8 @@ class Material:
     """
 
     name: str
-    modulus: float  # Pa
-    product_modulus: float  # Pa
+    modulus: float | None  # Pa (None when the modulus follows a temperature law)
+    product_modulus: float | None  # Pa
     poisson_ratio: float  # 1
     refractive_index: float  # 1
     background_absorption: SpectralFunction  # 1/m (natural-log absorption coefficient)
@@ -160,6 +160,7 @@ class Scenario:
     description: str = ""
     target_bend_angle: float | None = None  # rad
     extras: dict = field(default_factory=dict)  # parsed optional sections (see SECTION_PARSERS)
+    base_dir: str = ""  # folder against which the scenario's data files were resolved
 
     @property
     def thickness(self) -> float:
@@ -380,6 +381,8 @@ def _read_modulus_table(path: Path, field_name: str):
         moduli = Q_(data[:, 1], units[1]).to("Pa").magnitude
     except Exception:
         raise ActsimInputError(f"{field_name}: '{path.name}' header units [{units[0]}], [{units[1]}] must be a temperature and a pressure") from None
+    if not (np.all(np.isfinite(temps)) and np.all(np.isfinite(moduli))):
+        raise ActsimInputError(f"{field_name}: '{path.name}' has a non-finite temperature or modulus (nan/inf)")
     if np.any(np.diff(temps) <= 0) or np.any(moduli <= 0):
         raise ActsimInputError(f"{field_name}: '{path.name}' temperatures must increase strictly and moduli be > 0")
     return temps, moduli
@@ -394,7 +397,7 @@ def _parse_material(name: str, data, base_dir: Path) -> Material:
                 raise ActsimInputError(
                     f"materials.{name}.{key}: not used when the modulus follows a temperature law; use product_modulus_ratio"
                 )
-        modulus = product_modulus = float("nan")
+        modulus = product_modulus = None  # the temperature law gives them
         ratio = t.number("product_modulus_ratio", default=1.0, lo=0.0, lo_open=True, hi=100.0)
     else:
         modulus = t.quantity("modulus", "pressure", lo=0, lo_open=True)
@@ -464,13 +467,18 @@ def _parse_source(i: int, data, optics: OpticsSettings, base_dir: Path) -> Light
         fname = t.string("file")
         n_bands = t.integer("bands", default=optics.bands_per_source, lo=1, hi=200)
         lam_tab, val = read_table_csv(base_dir / fname, field_name=f"sources[{i}].file", value_unit_kind=None)
+        if lam_tab[0] < 100e-9 or lam_tab[-1] > 20e-6:
+            raise ActsimInputError(
+                f"sources[{i}].file: '{fname}' spans {lam_tab[0] * 1e9:g} to {lam_tab[-1] * 1e9:g} nm, outside the "
+                "allowed range (>= 100 nm and <= 20000 nm)"
+            )
         wl, frac = tabulated_bands(wavelength=lam_tab, spectral_irradiance=val, n_bands=n_bands, field_name=f"sources[{i}].file")
         desc = f"tabulated spectrum '{fname}' ({lam_tab[0] * 1e9:.4g}-{lam_tab[-1] * 1e9:.4g} nm)"
     t.finish()
     return LightSource(name=name, face=face, irradiance=irradiance, band_wavelength=wl, band_fraction=frac, description=desc)
 
 
-def _parse_step(i: int, data, sources, heat: "HeatSettings", previous: "Step | None") -> Step:
+def _parse_step(i: int, data, sources, heat: "HeatSettings", previous: "Step | None", thickness: float) -> Step:
     t = _Table(data, f"protocol[{i}]")
     duration = t.quantity("duration", "time", lo=0.0, lo_open=True)
     label = t.string("label", default="")
@@ -482,9 +490,17 @@ def _parse_step(i: int, data, sources, heat: "HeatSettings", previous: "Step | N
         if t.has("curvature") and t.has("mandrel_radius"):
             raise ActsimInputError(f"protocol[{i}]: give curvature or mandrel_radius, not both")
         if t.has("mandrel_radius"):
+            key = "mandrel_radius"
             hold_value = 1.0 / t.quantity("mandrel_radius", "length", lo=0.0, lo_open=True)
         else:
+            key = "curvature"
             hold_value = t.quantity("curvature", "curvature")
+        surface = abs(hold_value) * thickness / 2
+        if surface > 2.0:
+            raise ActsimInputError(
+                f"protocol[{i}].{key}: gives a surface strain of {100 * surface:.4g} % on the {thickness * 1e6:g} um stack "
+                f"(allowed <= 200 %, the stretch limit; radius >= {thickness / 4 * 1e6:.4g} um)"
+            )
     elif hold == "release":
         prev_hold = previous.hold if previous is not None else "free"
         if prev_hold in ("free", "release"):
@@ -515,6 +531,9 @@ def _parse_step(i: int, data, sources, heat: "HeatSettings", previous: "Step | N
     irr = [0.0] * len(sources)
     lights = t.raw("light", default={})
     if isinstance(lights, list):
+        bad = [n for n in lights if not isinstance(n, str)]
+        if bad:
+            raise ActsimInputError(f"protocol[{i}].light: {bad[0]!r} is not a source name (write names in quotes)")
         lights = {n: None for n in lights}
     if not isinstance(lights, dict):
         raise ActsimInputError(f"protocol[{i}].light: must be a table {{source = \"irradiance\"}} or a list of source names")
@@ -647,7 +666,8 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
         raise ActsimInputError("protocol: required list of [[protocol]] steps (each with a duration)")
     protocol = []
     for i, d in enumerate(prot_raw):
-        protocol.append(_parse_step(i, d, sources, heat, protocol[-1] if protocol else None))
+        protocol.append(_parse_step(i, d, sources, heat, protocol[-1] if protocol else None,
+                                    sum(layer.thickness for layer in layers)))
 
     tt = top.table("time", default={})
     total = sum(s.duration for s in protocol)
@@ -662,7 +682,19 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
         raise ActsimInputError(
             f"time.output_interval: {output_interval:g} s is longer than the whole protocol ({total:g} s)"
         )
-    n_steps = sum(math.ceil(s.duration / time_step - 1e-9) for s in protocol)
+    n_outputs = int(math.floor(total / output_interval + 1e-9)) + len(protocol)
+    if n_outputs > 1_000_000:
+        raise ActsimInputError(
+            f"time.output_interval: {output_interval:g} s gives {n_outputs} output times over {total:g} s "
+            "(allowed <= 1e6); use a longer interval"
+        )
+    n_cells_total = sum(layer.cells for layer in layers)
+    if n_outputs * n_cells_total > 200_000_000:
+        raise ActsimInputError(
+            f"time.output_interval: {n_outputs} output times x {n_cells_total} cells is too large to keep "
+            "(allowed <= 2e8 values per field); use a longer interval or fewer cells"
+        )
+    n_steps = sum(math.ceil(s.duration / time_step - 1e-9) for s in protocol) + n_outputs
     if n_steps > 5_000_000:
         raise ActsimInputError(
             f"time.step: {time_step:g} s gives {n_steps} steps over {total:g} s (allowed <= 5e6); use a longer step"
@@ -691,7 +723,7 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
     return Scenario(
         title=title, strip=strip, layers=tuple(layers), sources=tuple(sources), protocol=tuple(protocol),
         optics=optics, heat=heat, output_interval=output_interval, time_step=time_step, text=text, path=str(path),
-        description=description, target_bend_angle=target, extras=extras,
+        description=description, target_bend_angle=target, extras=extras, base_dir=str(base),
     )
 
 
@@ -717,7 +749,11 @@ def load_scenario(path) -> Scenario:
     p = Path(path)
     if not p.is_file():
         raise ActsimInputError(f"scenario: file '{p}' does not exist")
-    return parse_scenario(p.read_text(), path=p)
+    try:
+        text = p.read_text(encoding="utf-8")
+    except UnicodeDecodeError:
+        raise ActsimInputError(f"scenario: '{p}' is not a UTF-8 text (TOML) file") from None
+    return parse_scenario(text, path=p)
 
 
 # ----------------------------------------------------------------------------
@@ -803,5 +839,5 @@ def apply_overrides(scenario: Scenario, overrides: dict) -> Scenario:
             value = value.item()
         parent[key] = value
     text = tomli_w.dumps(raw)
-    base = Path(scenario.path).parent if scenario.path else Path.cwd()
+    base = scenario.base_dir or (Path(scenario.path).parent if scenario.path else Path.cwd())
     return parse_scenario(text, path=scenario.path, base_dir=base)

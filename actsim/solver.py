@@ -73,14 +73,18 @@ class Problem:
 def _schedule(scenario: Scenario):
     """Split the protocol into segments that end on every output time and step boundary."""
     total = scenario.duration
-    tol = 1e-9 * total
-    boundaries = np.cumsum([0.0] + [s.duration for s in scenario.protocol])
+    durations = [s.duration for s in scenario.protocol]
+    # protocol boundaries are always kept (however short a step); output marks that fall on a
+    # boundary, to round-off, are dropped in its favour
+    tol = 1e-9 * min(min(durations), scenario.output_interval)
+    boundaries = np.cumsum([0.0] + durations)
+    boundaries[-1] = total
     n_out = int(math.floor(total / scenario.output_interval + 1e-9))
-    marks = np.concatenate([np.arange(n_out + 1) * scenario.output_interval, boundaries])
-    marks = np.sort(marks[marks <= total + tol])
-    keep = np.concatenate([[True], np.diff(marks) > tol])
-    marks = marks[keep]
-    marks[-1] = total
+    outs = np.arange(n_out + 1) * scenario.output_interval
+    outs = outs[outs < total - tol]
+    j = np.clip(np.searchsorted(boundaries, outs), 1, boundaries.size - 1)
+    near = np.minimum(np.abs(outs - boundaries[j - 1]), np.abs(outs - boundaries[j])) <= tol
+    marks = np.sort(np.concatenate([boundaries, outs[~near]]))
     seg_step, seg_dt, seg_n = [], [], []
     for a, b in zip(marks[:-1], marks[1:]):
         mid = 0.5 * (a + b)
@@ -283,7 +287,7 @@ def run_kernel(p: Problem) -> dict:
     )
     if bad >= 0:
         raise ActsimSimulationError(
-            f"non-finite state at t = {p.times[bad + 1]:g} s (step {p.seg_step[bad] + 1}); nothing was written. "
+            f"non-finite state at t = {p.times[bad + 1]:g} s (protocol[{p.seg_step[bad]}]); nothing was written. "
             "Check for a runaway temperature or an extreme load"
         )
     return o
@@ -511,7 +515,7 @@ def assemble_dataset(scenario: Scenario, p: Problem, o: dict) -> xr.Dataset:
         "axial_strain": _var(("time",), e0 - kappa * 0.5 * h, "1", "axial strain at the mid-thickness"),
         "bending_stiffness": _var(("time",), b * d_eff, "N m2", "bending stiffness EI about the neutral axis"),
         "blocked_moment": _var(("time",), m_block, "N m", "moment that holds the strip flat"),
-        "blocked_force": _var(("time",), f_block, "N", "tip force that holds the tip in place (free rotation, small deflection)"),
+        "blocked_force": _var(("time",), f_block, "N", "force the tip exerts on a support holding it in place (positive toward +z; free rotation, small deflection)"),
         "holding_force": _var(("time",), b * n_hold, "N", "axial force the grips apply (zero when free)"),
         "holding_moment": _var(("time",), b * (m_hold - n_hold * 0.5 * h), "N m", "moment the grips or mandrel apply about the mid-thickness"),
         "photon_flux_incident": _var(("time",), o["budget"][:, 0], "mol m-2 s-1", "incident photon flux (all sources)"),

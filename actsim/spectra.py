@@ -336,6 +336,9 @@ def read_table_csv(path, *, field_name, value_unit_kind=None, default_value_unit
             raise ActsimInputError(
                 f"{field_name}: '{path.name}' value unit [{unit}] is not a {value_unit_kind.replace('_', ' ')}"
             ) from None
+    if not np.all(np.isfinite(lam)):
+        i = int(np.argmax(~np.isfinite(lam)))
+        raise ActsimInputError(f"{field_name}: '{path.name}' has a non-finite wavelength on data row {i + 1} (nan/inf)")
     if np.any(np.diff(lam) <= 0):
         i = int(np.argmax(np.diff(lam) <= 0))
         raise ActsimInputError(

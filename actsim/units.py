@@ -106,7 +106,7 @@ _OFFSET_UNIT = re.compile(r"((?<!delta_)deg\s*[CF]\b|°\s*[CF]|(?<!delta_)celsiu
 
 def _quantity_to_si(q, si_unit):
     """("ok", SI float) or ("bare" | "dimension" | "parse", detail) for a parsed value."""
-    if not isinstance(q, pint.Quantity) or (q.dimensionless and si_unit not in ("1", "rad")):
+    if not isinstance(q, pint.Quantity) or q.unitless or (q.dimensionless and si_unit not in ("1", "rad")):
         return "bare", None
     try:
         return "ok", float(q.to(si_unit).magnitude)

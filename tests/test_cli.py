@@ -168,3 +168,22 @@ def test_run_with_a_mask_reports_the_fold(tmp_path, capsys):
     record = json.loads((out / "summary.json").read_text())
     assert record["patterned"]["peak_fold_angle"] == pytest.approx(record["metrics"]["peak_bend_angle"] * 2 / 8, rel=1e-9)
     assert (out / "patterned.nc").is_file()
+
+
+def test_output_path_that_is_a_file_and_uncertainty_without_calibration(tmp_path, capsys):
+    afile = tmp_path / "afile"
+    afile.write_text("x")
+    scen = str(ROOT / "scenarios" / "vent_flap.toml")
+    assert main(["run", scen, "-o", str(afile), "--no-figures"]) == 2
+    assert "is a file, not a folder" in capsys.readouterr().err
+    out = tmp_path / "unc"
+    assert main(["run", scen, "-o", str(out), "--uncertainty", "5"]) == 2
+    assert "[calibration]" in capsys.readouterr().err
+    assert not out.exists()  # refused before anything was written
+
+
+def test_binary_file_as_scenario(tmp_path, capsys):
+    bad = tmp_path / "x.toml"
+    bad.write_bytes(b"\x89HDF\r\n\x1a\n\xff\xfe")
+    assert main(["run", str(bad)]) == 2
+    assert "not a UTF-8 text" in capsys.readouterr().err
