@@ -81,7 +81,8 @@ yield_strength = "{ys} Pa"
         assert r.passed is ok
         # the layer without limits is reported, never silently passed
         assert isinstance(by_name(res, "yield strength, layer 0 (sub)")[0], NotAssessed)
-        assert any_failed(res) is (not ok)
+        # (the light check of this unshielded lamp fails over the default 8 h: leave it out here)
+        assert any_failed([r for r in res if not r.check.startswith("light")]) is (not ok)
 
 
 def test_plate_uses_plane_strain_von_mises():
@@ -324,3 +325,21 @@ def test_joint_lever_moment_is_arm_times_load_line(ds):
     u = 0.020 * (jd["angle"] - jd["angle"][0])
     assert np.allclose(jd["moment_per_strip"], 0.020 * np.interp(u, ll["displacement"], ll["force"], right=0.0))
     assert by_name(res, "joint moment, 2 strips (lever)")[0].passed in (True, False)
+
+
+def test_light_default_is_a_working_day_of_repeated_use(ds):
+    # Without [safety].exposure_duration the light is assessed over 8 h = 28800 s of repeated use, the daily
+    # reference of the actinic limit 30 J/m^2 per 8 h (ICNIRP 2004 / IEC 62471:2006 4.3.1, from memory), not one
+    # run. The dose is linear in time: 8 h of a 10 s protocol is 2880 runs, so H_8h = 2880 H_run (hand calculation).
+    _, res1, _ = checks(ds, '[safety]\nexposure_distance_factor = 0.1\nexposure_duration = "10 s"\n')
+    _, res, det = checks(ds, "[safety]\nexposure_distance_factor = 0.1\n")
+    one = by_name(res1, "light at the exposure position: actinic UV")[0]
+    day = by_name(res, "light at the exposure position: actinic UV")[0]
+    assert det["light"]["exposure_duration"] == 28800.0 and det["light"]["protocol_runs"] == pytest.approx(2880.0)
+    assert day.value == pytest.approx(2880.0 * one.value, rel=1e-9)
+    assert "exposure_duration not given: 8 h of repeated use assessed" in day.note
+    # one run is far within the limit, the working day is not: the old one-run default hid this
+    assert one.passed is True and day.passed is False
+    # and no [safety] section at all gives the same working day
+    _, res0, _ = checks(ds, "")
+    assert by_name(res0, "light at the exposure position: actinic UV")[0].value == pytest.approx(day.value / 0.1, rel=1e-9)

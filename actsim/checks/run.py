@@ -24,7 +24,9 @@ joint's margin at each angle ...). The checks are:
    checks 1 and 2 instead of the free-strip stress).
 5. **Light at the exposure position** (UV and visible sources): actinic UV,
    UV-A and blue-light hazards of the protocol, repeated over the exposure
-   duration (:func:`actsim.checks.photobio.protocol_check`).
+   duration (:func:`actsim.checks.photobio.protocol_check`); without
+   ``[safety].exposure_duration``, 8 h of repeated use (the daily reference
+   of the ICNIRP / IEC 62471 limits), never a single run.
 6. **Skin contact** (``[safety].skin_contact = true``): the peak modelled
    temperature of the contacting face against the skin-contact limit; if the
    scenario has no temperature model, a "not assessed" entry (never a pass).
@@ -64,6 +66,10 @@ CHECKS_JSON = "checks.json"
 CHECKS_CSV = "checks.csv"
 
 _STRESS_SOURCE_NOTE = "layered-beam stress at cell centres"
+
+#: Exposure assessed when ``[safety].exposure_duration`` is not given: one working day of repeated use, the
+#: 8 h daily reference of the ICNIRP (2004) / IEC 62471:2006 exposure limits [s].
+_DEFAULT_EXPOSURE = 8.0 * 3600.0
 
 
 @dataclass(frozen=True)
@@ -386,7 +392,17 @@ def _exposure_protocol(scenario, ss: SafetySettings):
         factor = 1.0
         where = "exposure position taken at the strip (no [safety] exposure factor given: conservative)"
     T = scenario.duration
-    D = ss.exposure_duration if ss.exposure_duration is not None else T
+    if ss.exposure_duration is not None:
+        D = ss.exposure_duration
+        field = f"safety.exposure_duration: {D:g} s"
+    else:
+        # no duration given: a working day of repeated use (the 8 h daily reference of the ICNIRP/IEC 62471 limits);
+        # a protocol longer than that is assessed whole
+        D = max(T, _DEFAULT_EXPOSURE)
+        where += "; exposure_duration not given: 8 h of repeated use assessed"
+        if T > _DEFAULT_EXPOSURE:
+            where += " (the protocol is longer: its whole duration)"
+        field = f"safety.exposure_duration: not given, so the 8 h default ({D:g} s)"
     seq = []
     t = 0.0
     while t < D * (1 - 1e-12):
@@ -401,7 +417,8 @@ def _exposure_protocol(scenario, ss: SafetySettings):
                 seq.append((d, sp))
             t += d
         if len(seq) > 200000:
-            raise ActsimInputError(f"safety.exposure_duration: {D:g} s repeats the protocol too often (> 200000 steps); use a longer protocol")
+            raise ActsimInputError(f"{field} repeats the protocol too often (> 200000 steps); "
+                                   "give a shorter exposure_duration or use a longer protocol")
     reps = D / T
     return seq, factor, where, D, reps
 
@@ -415,7 +432,14 @@ def _light_checks(scenario, ss: SafetySettings):
     if not np.any((wl >= 180e-9) & (wl <= 700e-9)):
         return [NotAssessed("photobiological exposure", "all sources lie outside 180-700 nm: infrared hazards are not modelled")], \
             {"assessed": False}
-    seq, factor, where, D, reps = _exposure_protocol(scenario, ss)
+    try:
+        seq, factor, where, D, reps = _exposure_protocol(scenario, ss)
+    except ActsimInputError as exc:
+        if ss.exposure_duration is not None:
+            raise
+        # the 8 h default was not chosen by the user: report the check as not made rather than stop the run
+        return [NotAssessed("photobiological exposure", f"{exc}; set [safety] exposure_duration",
+                            source="ICNIRP 2004 / IEC 62471")], {"assessed": False, "reason": str(exc)}
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         results, summary = protocol_check(seq)

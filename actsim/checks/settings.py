@@ -273,7 +273,8 @@ class SafetySettings:
     exposure_irradiance : float or None
         Total irradiance at the person while the sources are as bright as their brightest step [W/m^2].
     exposure_duration : float or None
-        Time the person is exposed; the protocol repeats to fill it. None: one run [s].
+        Time the person is exposed; the protocol repeats to fill it. None: 8 h of repeated use
+        (the daily reference of the ICNIRP / IEC 62471 limits) [s].
     skin_contact : bool
         Whether a face of the strip touches the skin.
     skin_face : str
