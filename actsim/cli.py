@@ -25,7 +25,7 @@ VERB_MODULES: list[str] = [
 ]
 
 EXAMPLES = {
-    "demo": "example:\n  actsim demo                 # the vent-flap demo into actsim-out/vent_flap\n  actsim demo --list\n  actsim demo --scenario gripper_pulses -o out/",
+    "demo": "example:\n  actsim demo                 # the vent-flap demo into actsim-out/vent_flap\n  actsim demo --list\n  actsim demo --scenario gripper_two_colour -o out/\n  actsim demo --copy my-scenarios   # then edit and: actsim run my-scenarios/vent_flap.toml",
     "run": "example:\n  actsim run scenarios/vent_flap.toml -o out/vent\n  actsim run my.toml --no-figures\n"
            "  actsim run fitted.toml --set \"layers[active film].thickness=40 um\" --uncertainty 100 -o out/thick",
 }
@@ -154,6 +154,15 @@ def cmd_run(args):
 
 def cmd_demo(args):
     folder = scenarios_folder()
+    if args.copy:
+        import shutil
+
+        dest = Path(args.copy)
+        if dest.exists():
+            raise ActsimInputError(f"--copy: '{dest}' already exists; give a new folder name")
+        shutil.copytree(folder, dest, ignore=shutil.ignore_patterns("__pycache__", "*.pyc"))
+        print(f"demo scenarios and their data copied to {dest}/ (edit them, then: actsim run {dest}/vent_flap.toml)")
+        return 0
     if args.list:
         for p in sorted(folder.glob("*.toml")):
             first = next((ln for ln in p.read_text().splitlines() if ln.startswith("title")), "")
@@ -186,6 +195,7 @@ def build_parser() -> argparse.ArgumentParser:
                        formatter_class=argparse.RawDescriptionHelpFormatter)
     p.add_argument("--scenario", default="vent_flap", help="demo scenario name (default: vent_flap)")
     p.add_argument("--list", action="store_true", help="list the demo scenarios and exit")
+    p.add_argument("--copy", metavar="FOLDER", help="copy the demo scenarios (and their data files) into a new FOLDER and exit")
     p.add_argument("-o", "--output", help="output folder (default: actsim-out/<scenario>)")
     p.add_argument("--no-figures", action="store_true", help="skip the PNG figures")
     p.set_defaults(func=cmd_demo)

@@ -187,3 +187,11 @@ def test_binary_file_as_scenario(tmp_path, capsys):
     bad.write_bytes(b"\x89HDF\r\n\x1a\n\xff\xfe")
     assert main(["run", str(bad)]) == 2
     assert "not a UTF-8 text" in capsys.readouterr().err
+
+
+def test_demo_copy(tmp_path, capsys):
+    dest = tmp_path / "mine"
+    assert main(["demo", "--copy", str(dest)]) == 0
+    assert (dest / "vent_flap.toml").is_file() and (dest / "data").is_dir()
+    assert main(["run", str(dest / "microvalve_spectrum.toml"), "-o", str(tmp_path / "o"), "--no-figures"]) == 0
+    assert main(["demo", "--copy", str(dest)]) == 2
