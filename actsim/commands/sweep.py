@@ -197,6 +197,10 @@ def _cmd_optimise(args, sc, out, target, within):
     print(sc.title)
     print(format_inverse(res))
     print(with_caution(f"\ninverse design written to {out}/inverse.json"))
+    if not res["feasible"]:
+        print("actsim sweep: no feasible design between the bounds (exit status 1); widen the bounds or relax "
+              "the targets")
+        return 1
     return 0
 
 
