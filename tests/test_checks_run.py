@@ -343,3 +343,22 @@ def test_light_default_is_a_working_day_of_repeated_use(ds):
     # and no [safety] section at all gives the same working day
     _, res0, _ = checks(ds, "")
     assert by_name(res0, "light at the exposure position: actinic UV")[0].value == pytest.approx(day.value / 0.1, rel=1e-9)
+
+
+def test_plate_with_heat_adds_transverse_thermal_stress():
+    # A free homogeneous plate held uniformly 20 K above its reference temperature, in the dark: it expands freely
+    # along the strip (sigma_x = 0), but plane strain across the width gives sigma_y = nu sigma_x - E alpha dT
+    # = -E alpha dT (Hooke's law with eigenstrain; Timoshenko & Goodier, Theory of Elasticity, 3rd ed., 1970, ch. 13),
+    # so sigma_vM = E alpha dT = 1 GPa * 1e-4 1/K * 20 K = 2 MPa (hand calculation). The earlier sigma_y = nu sigma_x
+    # gave ~0 and passed any yield strength.
+    text = film_toml(irradiance="0 mW/cm^2", duration="2 s", output="1 s", step="0.1 s", cells=10)
+    text = text.replace('width = "2 mm"', 'width = "2 mm"\nsection = "plate"').replace(
+        "photo_strain = -0.01", 'photo_strain = -0.01\nthermal_expansion = "1e-4 1/K"')
+    text += ('\n[heat]\nambient_temperature = "40 degC"\nreference_temperature = "20 degC"\n'
+             'top_heat_transfer = "10 W/(m^2*K)"\nbottom_heat_transfer = "10 W/(m^2*K)"\n')
+    d = simulate(parse_scenario(text))
+    assert float(np.abs(d["stress"].values).max()) < 1.0  # sigma_x ~ 0 Pa
+    _, res, det = checks(d, '[checks]\n[checks.materials.film]\nyield_strength = "1.5 MPa"\n', text=text)
+    r = by_name(res, "yield strength, layer 0 (film)")[0]
+    assert r.value == pytest.approx(1e9 * 1e-4 * 20.0, rel=1e-6)
+    assert r.passed is False and "E alpha (T - T_ref)" in det["stress"]["state"]

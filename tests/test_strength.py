@@ -11,7 +11,7 @@ import re
 import numpy as np
 import pytest
 
-from actsim.checks.strength import plate_biaxial_stress, stress_check, von_mises
+from actsim.checks.strength import plate_biaxial_stress, plate_thermal_transverse_stress, stress_check, von_mises
 from actsim.checks.verdict import Limit, format_table, material_limits
 from actsim.errors import ActsimInputError
 
@@ -145,3 +145,29 @@ def test_stress_check_bad_input_one_line(kwargs, field):
         stress_check(**kwargs)
     msg = str(e.value)
     assert "\n" not in msg and field in msg
+
+
+def test_plate_with_isotropic_thermal_strain_hand_calculation():
+    """Wide plate, plane strain eps_y = 0, isotropic thermal strain alpha dT: Hooke's law
+    eps_y = (sigma_y - nu sigma_x)/E + alpha dT = 0 gives sigma_y = nu sigma_x - E alpha dT
+    (Timoshenko & Goodier, Theory of Elasticity, 3rd ed., 1970, ch. 13; Timoshenko & Woinowsky-Krieger 1959, sec. 14).
+    Hand calculation: E = 2 GPa, nu = 0.35, alpha = 1e-4 1/K, dT = 20 K, sigma_x = 5 MPa:
+    sigma_y = 1.75 - 4 = -2.25 MPa; sigma_vM = sqrt(25 + 11.25 + 5.0625) = sqrt(41.3125) = 6.4275 MPa > |sigma_x|."""
+    eig = plate_thermal_transverse_stress(young_modulus=2e9, thermal_expansion=1e-4, temperature=313.15,
+                                          reference_temperature=293.15)
+    assert eig == pytest.approx(-4.0 * MPa, rel=1e-12)
+    sx, sy = plate_biaxial_stress(sigma_x=5 * MPa, poisson_ratio=0.35, transverse_eigen_stress=eig)
+    assert sy == pytest.approx(-2.25 * MPa, rel=1e-12)
+    vm = von_mises(sigma_x=sx, sigma_y=sy)
+    assert vm == pytest.approx(math.sqrt(41.3125) * MPa, rel=1e-12)
+    assert vm > 5 * MPa  # the plate state is not bounded by |sigma_x| once an isotropic eigenstrain acts
+    # limiting case: free, uniformly heated homogeneous plate, sigma_x = 0 -> sigma_vM = E alpha |dT| = 4 MPa
+    assert von_mises(sigma_x=0.0, sigma_y=plate_biaxial_stress(sigma_x=0.0, poisson_ratio=0.35,
+                                                                transverse_eigen_stress=eig)[1]) == pytest.approx(4 * MPa)
+    # stress_check carries it: one cell, yield 5 MPa -> factor 5 / 6.4275
+    r = stress_check(stress_profile=[5 * MPa], layer_index=np.array([0]), yield_strength_per_layer=[5 * MPa],
+                     poisson_ratio=0.35, transverse_eigen_stress=[eig])[0]
+    assert r.value == pytest.approx(math.sqrt(41.3125) * MPa, rel=1e-12) and r.passed is False
+    with pytest.raises(ActsimInputError, match="transverse_eigen_stress"):
+        stress_check(stress_profile=[5 * MPa], layer_index=np.array([0]), yield_strength_per_layer=[5 * MPa],
+                     transverse_eigen_stress=[eig])

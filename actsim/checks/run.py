@@ -7,7 +7,8 @@ with a dictionary of details (time series, counted cycles, the load line, the
 joint's margin at each angle ...). The checks are:
 
 1. **Strength**: von Mises stress of every cell at every output time (biaxial
-   plane-strain state for ``section = "plate"``), the largest per layer against
+   plane-strain state for ``section = "plate"``, with the transverse stress
+   of isotropic thermal strain when heat is modelled), the largest per layer against
    the layer's yield strength, with the required safety factor.
 2. **Fatigue**: the stress history at the critical point of each layer
    (largest stress range), counted by rainflow, Basquin life with the
@@ -121,14 +122,44 @@ def _layer_label(k, scenario) -> str:
     return f"layer {k} ({scenario.layers[k].name})"
 
 
-def _equivalent_signed(sigma, nu_cell, plate: bool):
-    """Signed equivalent stress per cell: sign(sigma_x) * von Mises [Pa]."""
+def _equivalent_signed(sigma, nu_cell, plate: bool, transverse_eigen_stress=None):
+    """Signed equivalent stress per cell: sign(sigma_x + sigma_y) * von Mises [Pa].
+
+    The sign of the first stress invariant tells tension from compression
+    (a signed von Mises stress, common practice, no source); where it is zero,
+    the sign of sigma_x. Without transverse eigen-stress it is the sign of
+    sigma_x, since then sigma_x + sigma_y = (1 + nu) sigma_x.
+    """
     if not plate:
         return sigma
     from .strength import plate_biaxial_stress, von_mises
 
-    sx, sy = plate_biaxial_stress(sigma_x=sigma, poisson_ratio=nu_cell[None, :])
-    return np.sign(sigma) * von_mises(sigma_x=sx, sigma_y=sy)
+    eig = 0.0 if transverse_eigen_stress is None else transverse_eigen_stress
+    sx, sy = plate_biaxial_stress(sigma_x=sigma, poisson_ratio=nu_cell[None, :], transverse_eigen_stress=eig)
+    sgn = np.sign(sx + sy)
+    sgn = np.where(sgn == 0, np.sign(sx), sgn)
+    sgn = np.where(sgn == 0, 1.0, sgn)
+    return sgn * von_mises(sigma_x=sx, sigma_y=sy)
+
+
+def _transverse_eigen_stress(scenario, ds, li):
+    """Plate with heat: transverse stress of the isotropic thermal strain per (time, cell) [Pa], else None.
+
+    sigma_y* = -E alpha (T - T_ref), E the Young's modulus = section modulus (1 - nu^2) (plane strain across
+    the width, the solver's (1 + nu) alpha dT along the strip; see :func:`actsim.checks.strength.plate_biaxial_stress`).
+    """
+    from .strength import plate_thermal_transverse_stress
+
+    if scenario.strip.section != "plate" or not scenario.heat.enabled or "temperature" not in ds:
+        return None
+    alpha = np.array([layer.material.thermal_expansion for layer in scenario.layers])[li]
+    if not np.any(alpha):
+        return None
+    nu = np.array([layer.material.poisson_ratio for layer in scenario.layers])[li]
+    young = ds["modulus"].values * (1.0 - nu[None, :] ** 2)
+    return plate_thermal_transverse_stress(young_modulus=young, thermal_expansion=alpha[None, :],
+                                           temperature=ds["temperature"].values,
+                                           reference_temperature=scenario.heat.reference_temperature)
 
 
 def _temperature_notes(limit, ds, cells) -> str:
@@ -507,7 +538,8 @@ def run_checks(scenario, ds, *, elastica: bool = True):
     Notes
     -----
     Safety factor per layer (von Mises, plane strain :math:`\\sigma_y = \\nu\\sigma_x`
-    for plates):
+    for plates, :math:`- E\\alpha(T - T_\\mathrm{ref})` added with heat, :math:`E`
+    the Young's modulus):
 
     .. math::
 
@@ -552,8 +584,15 @@ def run_checks(scenario, ds, *, elastica: bool = True):
     plate = scenario.strip.section == "plate"
     nu_layer = np.array([layer.material.poisson_ratio for layer in scenario.layers])
     nu_cell = nu_layer[li]
-    eq = _equivalent_signed(sigma, nu_cell, plate)
-    state = "wide plate, plane strain (sigma_y = nu sigma_x)" if plate else "narrow strip, uniaxial stress"
+    eig = _transverse_eigen_stress(scenario, ds, li)
+    eq = _equivalent_signed(sigma, nu_cell, plate, eig)
+    if not plate:
+        state = "narrow strip, uniaxial stress"
+    elif eig is None:
+        state = "wide plate, plane strain (sigma_y = nu sigma_x)"
+    else:
+        state = ("wide plate, plane strain with isotropic thermal strain "
+                 "(sigma_y = nu sigma_x - E alpha (T - T_ref), E = section modulus (1 - nu^2))")
     times = ds["time"].values
     sdet = {"time": times, "state": state, "history": stress_how, "layers": {}}
     fdet = {}
@@ -573,7 +612,8 @@ def run_checks(scenario, ds, *, elastica: bool = True):
             r = stress_check(stress_profile=sigma[:, cells], layer_index=np.zeros(cells.size, dtype=np.int64),
                              yield_strength_per_layer=[lim.yield_strength], layer_names=[layer.name],
                              poisson_ratio=[layer.material.poisson_ratio] if plate else None,
-                             required_safety_factor=cs.required_safety_factor)[0]
+                             required_safety_factor=cs.required_safety_factor,
+                             transverse_eigen_stress=None if eig is None else eig[:, cells])[0]
             t_note = _temperature_notes(lim.yield_strength, ds, cells)
             note = "; ".join(x for x in (f"{stress_how}; peak at t = {times[int(np.argmax(per_time))]:g} s",
                                          r.note, t_note) if x)

@@ -21,7 +21,7 @@ from ..errors import ActsimInputError
 from ..units import check_range
 from .verdict import CheckResult, Limit
 
-__all__ = ["von_mises", "plate_biaxial_stress", "stress_check"]
+__all__ = ["von_mises", "plate_biaxial_stress", "plate_thermal_transverse_stress", "stress_check"]
 
 
 def _as_finite_array(x, *, field: str, unit: str = "Pa") -> np.ndarray:
@@ -81,7 +81,7 @@ def von_mises(*, sigma_x, sigma_y=0.0, sigma_z=0.0, tau_xy=0.0, tau_yz=0.0, tau_
     return float(out) if out.ndim == 0 else out
 
 
-def plate_biaxial_stress(*, sigma_x, poisson_ratio):
+def plate_biaxial_stress(*, sigma_x, poisson_ratio, transverse_eigen_stress=0.0):
     r"""In-plane stresses of a wide plate in cylindrical bending (plane strain across the width).
 
     Parameters
@@ -91,6 +91,11 @@ def plate_biaxial_stress(*, sigma_x, poisson_ratio):
     poisson_ratio : float or array_like
         Poisson's ratio, broadcast against ``sigma_x`` (for example one value per
         cell) [-], in [0, 0.5].
+    transverse_eigen_stress : float or array_like, optional
+        Stress that an in-plane isotropic eigenstrain adds across the width,
+        :math:`-E\,\varepsilon^*_\mathrm{iso}`, broadcast against ``sigma_x``;
+        for thermal strain see :func:`plate_thermal_transverse_stress`.
+        Default 0 (eigenstrain along x only, or none) [Pa].
 
     Returns
     -------
@@ -100,43 +105,101 @@ def plate_biaxial_stress(*, sigma_x, poisson_ratio):
     Notes
     -----
     A strip much wider than its thickness cannot contract freely across its
-    width away from its free edges, so :math:`\varepsilon_y = 0`; with
-    :math:`\sigma_z = 0` Hooke's law gives
+    width away from its free edges, so :math:`\varepsilon_y = 0`. With
+    :math:`\sigma_z = 0`, an eigenstrain :math:`\varepsilon^*_x` along x only
+    (an aligned contracting film, or none for an external load) and an
+    isotropic in-plane eigenstrain :math:`\varepsilon^*_\mathrm{iso}` (thermal
+    expansion :math:`\alpha (T - T_\mathrm{ref})`, isotropic swelling),
+    Hooke's law :math:`\varepsilon_y = (\sigma_y - \nu\sigma_x)/E + \varepsilon^*_\mathrm{iso} = 0`
+    gives
 
     .. math::
 
-        \sigma_y = \nu\,\sigma_x, \qquad
-        \sigma_\mathrm{vM} = |\sigma_x|\sqrt{1 - \nu + \nu^2}.
+        \sigma_y = \nu\,\sigma_x - E\,\varepsilon^*_\mathrm{iso}
+                 = \nu\,\sigma_x + \sigma^*_y ,
 
-    Assumptions: linear isotropic elasticity in each layer, and a stress
-    :math:`\sigma_x` that comes from mechanical strain along x only (the
-    eigenstrain acts along x, as for an aligned contracting film, or the stress
-    is from external load). An in-plane *isotropic* eigenstrain (thermal
-    expansion, isotropic swelling) gives a different transverse stress that this
-    function does not model. Near the free side edges the transverse stress
-    falls to zero and the state tends to uniaxial (narrow-beam) stress; the
-    equivalent stress of the wide-plate state is never larger than
-    :math:`|\sigma_x|` for :math:`0 \le \nu \le 1/2`, so the uniaxial check is the
-    more conservative of the two.
+    with :math:`E` the Young's modulus (not the plane-strain modulus
+    :math:`E/(1-\nu^2)`). Without the isotropic eigenstrain
+    (:math:`\sigma^*_y = 0`) :math:`\sigma_\mathrm{vM} = |\sigma_x|\sqrt{1 - \nu + \nu^2}`,
+    which is never larger than :math:`|\sigma_x|` for :math:`0 \le \nu \le 1/2`.
+    With it the plate state can be far larger than :math:`|\sigma_x|`: a
+    uniformly heated free homogeneous plate has :math:`\sigma_x = 0` but
+    :math:`\sigma_y = -E\alpha\,\Delta T`, so :math:`\sigma_\mathrm{vM} = E\alpha|\Delta T|`;
+    neither the uniaxial check nor :math:`\sigma_y = \nu\sigma_x` is
+    conservative then. Near the free side edges the transverse stress falls to
+    zero and the state tends to uniaxial (narrow-beam) stress; the larger of
+    the two states governs.
 
     References
     ----------
     .. [1] S. Timoshenko and S. Woinowsky-Krieger, "Theory of Plates and Shells",
        2nd ed., McGraw-Hill, 1959, ch. 1 (bending of long rectangular plates to
-       a cylindrical surface).
+       a cylindrical surface) and sec. 14 (thermal stresses in plates).
+    .. [2] S. P. Timoshenko and J. N. Goodier, "Theory of Elasticity", 3rd ed.,
+       McGraw-Hill, 1970, ch. 13 (thermal stress, plane strain).
     """
     sx = _as_finite_array(sigma_x, field="sigma_x")
     nu = _as_finite_array(poisson_ratio, field="poisson_ratio", unit="1")
+    eig = _as_finite_array(transverse_eigen_stress, field="transverse_eigen_stress")
     if np.any(nu < 0) or np.any(nu > 0.5):
         bad = nu[(nu < 0) | (nu > 0.5)].ravel()[0] if nu.ndim else float(nu)
         raise ActsimInputError(f"poisson_ratio: {bad:g} is outside the allowed range (>= 0 and <= 0.5)")
     try:
-        sy = nu * sx
+        sy = nu * sx + eig
     except ValueError:
-        raise ActsimInputError("plate_biaxial_stress: poisson_ratio does not broadcast against sigma_x") from None
+        raise ActsimInputError(
+            "plate_biaxial_stress: poisson_ratio or transverse_eigen_stress does not broadcast against sigma_x") from None
     if sy.ndim == 0:
         return float(sx), float(sy)
     return np.broadcast_to(sx, sy.shape).copy(), sy
+
+
+def plate_thermal_transverse_stress(*, young_modulus, thermal_expansion, temperature, reference_temperature):
+    r"""Transverse stress that isotropic thermal strain adds in a wide plate (plane strain across the width).
+
+    Parameters
+    ----------
+    young_modulus : float or array_like
+        Young's modulus :math:`E` of the cell (the plane-strain section modulus
+        times :math:`1-\nu^2`) [Pa], >= 0.
+    thermal_expansion : float or array_like
+        Linear thermal expansion coefficient :math:`\alpha` [1/K].
+    temperature : float or array_like
+        Temperature of the cell [K].
+    reference_temperature : float or array_like
+        Temperature of zero thermal strain [K].
+
+    Returns
+    -------
+    float or numpy.ndarray
+        :math:`\sigma^*_y` to pass as ``transverse_eigen_stress`` to
+        :func:`plate_biaxial_stress` [Pa].
+
+    Notes
+    -----
+    .. math::
+
+        \sigma^*_y = -E\,\alpha\,(T - T_\mathrm{ref})
+
+    the term an isotropic eigenstrain adds to :math:`\sigma_y = \nu\sigma_x`
+    when :math:`\varepsilon_y = 0` (see :func:`plate_biaxial_stress`).
+
+    References
+    ----------
+    .. [1] S. P. Timoshenko and J. N. Goodier, "Theory of Elasticity", 3rd ed.,
+       McGraw-Hill, 1970, ch. 13 (thermal stress, plane strain).
+    """
+    e = _as_finite_array(young_modulus, field="young_modulus")
+    if np.any(e < 0):
+        raise ActsimInputError(f"young_modulus: {float(e.min()):g} is outside the allowed range (>= 0 Pa)")
+    a = _as_finite_array(thermal_expansion, field="thermal_expansion", unit="1/K")
+    t = _as_finite_array(temperature, field="temperature", unit="K")
+    t0 = _as_finite_array(reference_temperature, field="reference_temperature", unit="K")
+    try:
+        out = -e * a * (t - t0)
+    except ValueError:
+        raise ActsimInputError("plate_thermal_transverse_stress: the arrays do not broadcast together") from None
+    return float(out) if out.ndim == 0 else out
 
 
 def _limit_value(x, *, field: str):
@@ -162,6 +225,7 @@ def stress_check(
     required_safety_factor: float = 1.0,
     source: str = "yield strength given by the caller",
     validity: str = "",
+    transverse_eigen_stress=None,
 ) -> list[CheckResult]:
     r"""Per-layer safety factor against yield over a stress history.
 
@@ -177,7 +241,7 @@ def stress_check(
         brings its own source and validity into the result.
     poisson_ratio : None, float or sequence of float (one per layer), optional
         ``None``: narrow strip, uniaxial stress (:math:`\sigma_\mathrm{vM}=|\sigma_x|`).
-        Given: wide plate in plane strain, :math:`\sigma_y=\nu\sigma_x`, see
+        Given: wide plate in plane strain, :math:`\sigma_y=\nu\sigma_x` (plus ``transverse_eigen_stress``), see
         :func:`plate_biaxial_stress` [-].
     layer_names : sequence of str, optional
         Names shown in the check labels.
@@ -186,6 +250,10 @@ def stress_check(
         caller chooses it from the governing code or standard [-].
     source, validity : str, optional
         Source and validity text for yield strengths given as plain floats.
+    transverse_eigen_stress : None or array_like, optional
+        Plate only: the transverse stress of an isotropic eigenstrain per cell
+        (and time), broadcast against ``stress_profile``, see
+        :func:`plate_biaxial_stress` and :func:`plate_thermal_transverse_stress` [Pa].
 
     Returns
     -------
@@ -230,6 +298,8 @@ def stress_check(
     check_range(required_safety_factor, field="required_safety_factor", unit="1", lo=1.0)
 
     if poisson_ratio is None:
+        if transverse_eigen_stress is not None:
+            raise ActsimInputError("transverse_eigen_stress: given without poisson_ratio; it applies to the wide plate only")
         vm = np.abs(s)
         state = "uniaxial stress (narrow strip)"
     else:
@@ -240,9 +310,15 @@ def stress_check(
             nu_cell = nu[li]
         else:
             raise ActsimInputError(f"poisson_ratio: {nu.size} values for {n_layers} layers; give one, or one per layer")
-        sx, sy = plate_biaxial_stress(sigma_x=s, poisson_ratio=nu_cell[None, :])
-        vm = von_mises(sigma_x=sx, sigma_y=sy)
+        eig = 0.0
         state = "wide plate, plane strain across the width (sigma_y = nu*sigma_x)"
+        if transverse_eigen_stress is not None:
+            eig = _as_finite_array(transverse_eigen_stress, field="transverse_eigen_stress")
+            if eig.ndim == 1:
+                eig = eig[None, :]
+            state = "wide plate, plane strain across the width (sigma_y = nu*sigma_x - E*eigenstrain_iso)"
+        sx, sy = plate_biaxial_stress(sigma_x=s, poisson_ratio=nu_cell[None, :], transverse_eigen_stress=eig)
+        vm = von_mises(sigma_x=sx, sigma_y=sy)
 
     results = []
     for k in range(n_layers):
