@@ -132,39 +132,47 @@ def cmd_sweep(args) -> int:
     if len(dims) >= 2:
         tradeoff.heatmap(ds, metric, dims[0], dims[1], figs / f"heatmap_{metric}.png")
         files.append(f"figures/heatmap_{metric}.png")
+    force = tradeoff.FORCE_METRICS[args.force]
+    flabel = tradeoff.force_label(force)
+    units = tradeoff.field_units(ds)
+
+    def shown(row, skip):
+        return ", ".join(f"{k} = {tradeoff.format_quantity(v, units.get(k, ''))}" for k, v in row.items()
+                         if k not in skip)
+
     if args.pareto:
         if not has_target:
             raise ActsimInputError("--pareto: needs a target bend angle (--target-angle or [report] target_bend_angle)")
-        pf = tradeoff.pareto_front(ds)
-        tradeoff.pareto_plot(ds, figs / "pareto.png")
+        pf = tradeoff.pareto_front(ds, force=force)
+        tradeoff.pareto_plot(ds, figs / "pareto.png", force=force)
         write_json(out / "pareto.json", {k: v for k, v in pf.items() if k != "mask"})
         files += ["pareto.json", "figures/pareto.png"]
-        print(f"  Pareto front (time to target vs blocked force): {pf['n_on_front']} designs; "
+        print(f"  Pareto front (time to target vs {flabel}): {pf['n_on_front']} designs; "
               f"{pf['n_not_reaching']} never reach the target (excluded)")
         for row in pf["table"][:12]:
-            vals = ", ".join(f"{k} = {v:.4g}" if isinstance(v, float) else f"{k} = {v}" for k, v in row.items()
-                             if k not in ("design", "time_to_target", "peak_blocked_force"))
-            print(f"    {vals}: {row['time_to_target']:.3g} s, {row['peak_blocked_force'] * 1e3:.4g} mN")
+            print(f"    {shown(row, ('design', 'time_to_target', force))}: {row['time_to_target']:.3g} s, "
+                  f"{tradeoff.format_quantity(row[force], 'N')}")
     if args.recommend:
         if within is None:
             raise ActsimInputError("--recommend: give the time limit with --within, e.g. --within \"20 s\"")
         if sampling != "grid":
             raise ActsimInputError("--recommend: needs a grid sweep (not --sample)")
         dim = _resolve_dim(ds, args.recommend, "--recommend")
-        rows = tradeoff.recommend(ds, dim, within=within)
+        rows = tradeoff.recommend(ds, dim, within=within, maximise=force)
         write_json(out / "recommendation.json", {"field": ds[dim].attrs.get("field", dim), "within": within,
-                                                 "units": ds[dim].attrs.get("units", ""), "rows": rows})
+                                                 "units": ds[dim].attrs.get("units", ""), "maximised": force,
+                                                 "maximised_label": flabel, "rows": rows})
         files.append("recommendation.json")
         unit = ds[dim].attrs.get("units", "")
         for row in rows:
-            others = ", ".join(f"{k} = {v:.4g}" if isinstance(v, float) else f"{k} = {v}" for k, v in row.items()
-                               if k not in ("recommended", "time_to_target", "peak_blocked_force"))
+            others = shown(row, ("recommended", "time_to_target", "peak_blocked_force", force))
             where = f" at {others}" if others else ""
             if row["recommended"] is None:
                 print(f"  recommendation{where}: no {ds[dim].attrs.get('field', dim)} reaches the target within {within:g} s")
             else:
-                print(f"  recommendation{where}: {ds[dim].attrs.get('field', dim)} = {row['recommended']:.4g} {unit} "
-                      f"(target in {row['time_to_target']:.3g} s, blocked force {row['peak_blocked_force'] * 1e3:.4g} mN)")
+                print(f"  recommendation{where}: {ds[dim].attrs.get('field', dim)} = "
+                      f"{tradeoff.format_quantity(row['recommended'], unit)} (target in {row['time_to_target']:.3g} s, "
+                      f"{flabel} {tradeoff.format_quantity(row[force], 'N')})")
     if args.series and dims:
         tradeoff.bend_family(ds, figs / "bend_family.png", along=dims[0])
         files.append("figures/bend_family.png")
@@ -204,6 +212,13 @@ def _cmd_optimise(args, sc, out, target, within):
     return 0
 
 
+def tradeoff_force_choices():
+    """Names accepted by ``--force`` (keys of :data:`actsim.study.tradeoff.FORCE_METRICS`)."""
+    from ..study.tradeoff import FORCE_METRICS
+
+    return FORCE_METRICS.keys()
+
+
 def register(subparsers) -> None:
     """Add the ``sweep`` verb to the ``actsim`` command line."""
     p = subparsers.add_parser(
@@ -230,8 +245,13 @@ def register(subparsers) -> None:
                    help="seconds to wait for the scheduler to answer (default 10)")
     p.add_argument("--chunk-size", type=int, metavar="N", help="designs per chunk (default from a memory budget)")
     p.add_argument("--yes", action="store_true", help="run a grid larger than 20000 designs")
-    p.add_argument("--pareto", action="store_true", help="Pareto front of time to target against blocked force")
-    p.add_argument("--recommend", metavar="FIELD", help="best value of FIELD: reaches the target within --within with the largest force")
+    p.add_argument("--pareto", action="store_true",
+                   help="Pareto front of time to target against blocked force (see --force)")
+    p.add_argument("--recommend", metavar="FIELD",
+                   help="best value of FIELD: reaches the target within --within with the largest force (see --force)")
+    p.add_argument("--force", choices=tuple(tradeoff_force_choices()), default="at-target",
+                   help="force of --pareto and --recommend: 'at-target' (default), the blocked force when the target "
+                        "angle is reached; 'peak', the largest blocked force over the whole protocol")
     p.add_argument("--within", metavar="TIME", help="time limit for --recommend and --optimise, e.g. \"20 s\"")
     p.add_argument("--heatmap", metavar="METRIC", help="metric of the heat map over the first two swept fields")
     p.add_argument("--no-progress", action="store_true", help="no progress bar")

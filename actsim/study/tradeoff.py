@@ -1,9 +1,15 @@
 """Trade-offs in a sweep result: the speed/force Pareto front, best values, recommendations, figures.
 
 All functions take the :class:`xarray.Dataset` of :func:`actsim.study.sweep.sweep`.
-Speed is the time to the target bend angle (smaller is better); force is the
-magnitude of the peak blocked force (larger is better). Designs that never reach
-the target are left out of the front and counted.
+Speed is the time to the target bend angle (smaller is better); force is, by
+default, the magnitude of the blocked force when the target angle is reached
+(``blocked_force_at_target``, larger is better): the force the strip can exert
+at the moment it is fast enough, independent of how long the protocol goes on
+afterwards. The peak blocked force over the whole protocol
+(``peak_blocked_force``) can be chosen instead (``force=``); it grows with the
+protocol length, so a speed/force trade-off built on it mixes "how fast" with
+"how strong after the full exposure". Designs that never reach the target are
+left out of the front and counted.
 
 References
 ----------
@@ -20,6 +26,56 @@ import numpy as np
 import xarray as xr
 
 from ..errors import ActsimInputError
+
+#: Force metrics a speed/force trade-off can use: short name -> metric in the sweep.
+FORCE_METRICS = {"at-target": "blocked_force_at_target", "peak": "peak_blocked_force"}
+#: How each force metric is labelled in reports and figures.
+FORCE_LABELS = {"blocked_force_at_target": "blocked force at the target angle",
+                "peak_blocked_force": "peak blocked force over the protocol"}
+
+
+def force_label(metric: str) -> str:
+    """Readable name of a force metric (``blocked_force_at_target`` -> "blocked force at the target angle")."""
+    return FORCE_LABELS.get(metric, metric.replace("_", " "))
+
+
+def format_quantity(value, unit: str) -> str:
+    """A SI value with its unit in a readable scale: (7.5e-05, "m") -> "75 um", (50.0, "W/m^2") -> "5 mW/cm^2".
+
+    Parameters
+    ----------
+    value : float or str
+        Value in SI [``unit``]; words (categorical fields) are returned as they are.
+    unit : str
+        SI unit of ``value`` ("m", "W/m^2", "rad", "N", "s", "K", "1", ...).
+    """
+    if isinstance(value, str) or isinstance(value, bool) or value is None:
+        return str(value)
+    v = float(value)
+    if not math.isfinite(v):
+        return f"{v} {unit}".strip()
+    a = abs(v)
+    if unit == "m":
+        for lim, k, u in ((1e-6, 1e9, "nm"), (1e-3, 1e6, "um"), (1.0, 1e3, "mm")):
+            if 0 < a < lim:
+                return f"{v * k:.4g} {u}"
+        return f"{v:.4g} m"
+    if unit == "N":
+        for lim, k, u in ((1e-3, 1e6, "uN"), (1.0, 1e3, "mN")):
+            if 0 < a < lim:
+                return f"{v * k:.4g} {u}"
+        return f"{v:.4g} N"
+    if unit in _SCALE and unit not in ("N", "m"):
+        k, du = _SCALE[unit]
+        return f"{v * k:.4g} {du}"
+    if unit in ("", "1"):
+        return f"{v:.4g}"
+    return f"{v:.4g} {unit}"
+
+
+def field_units(ds) -> dict:
+    """SI unit of every swept field of a sweep result: field path -> unit."""
+    return {c.attrs["field"]: c.attrs.get("units", "") for c in ds.coords.values() if "field" in c.attrs}
 
 
 def _swept_dims(ds):
@@ -72,14 +128,24 @@ def pareto_mask(time, force):
     return mask.reshape(np.shape(time))
 
 
-def pareto_front(ds: xr.Dataset, *, speed="time_to_target", force="peak_blocked_force") -> dict:
+def pareto_front(ds: xr.Dataset, *, speed="time_to_target", force="blocked_force_at_target") -> dict:
     """Designs on the speed/force Pareto front.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        A sweep result with a target bend angle.
+    speed : str
+        Time metric to minimise [s].
+    force : str
+        Force metric to maximise (magnitude) [N]: ``blocked_force_at_target`` (default: the
+        force when the target angle is reached) or ``peak_blocked_force`` (over the protocol).
 
     Returns
     -------
     dict
         ``table`` (list of dict: design, swept field values in SI, time [s], force [N]),
-        sorted by time; ``n_on_front``; ``n_not_reaching`` (designs excluded because
+        sorted by time; ``speed`` and ``force`` (the metric names), ``force_label``; ``n_on_front``; ``n_not_reaching`` (designs excluded because
         they never reach the target); ``n_invalid``; ``mask`` (bool array over the sweep dims).
     """
     t = _need(ds, speed)
@@ -102,7 +168,8 @@ def pareto_front(ds: xr.Dataset, *, speed="time_to_target", force="peak_blocked_
         row[force] = float(f.values[idx])
         rows.append(row)
     rows.sort(key=lambda r: r[speed])
-    return {"table": rows, "n_on_front": len(rows), "n_not_reaching": n_not,
+    return {"table": rows, "speed": speed, "force": force, "force_label": force_label(force),
+            "n_on_front": len(rows), "n_not_reaching": n_not,
             "n_invalid": int((ds["status"] != 0).sum()), "mask": mask}
 
 
@@ -137,7 +204,7 @@ def best_value(ds: xr.Dataset, field_dim: str, metric: str, *, maximise=True, wh
     m = _need(ds, metric)
     if m.dtype == bool:
         m = m.astype(float)
-    if metric == "peak_blocked_force" or metric.endswith("_force") or metric.endswith("_moment"):
+    if "force" in metric or "moment" in metric:  # signed with the bending direction: compare magnitudes
         m = np.abs(m)
     ok = ds["status"] == 0
     if where is not None:
@@ -155,7 +222,7 @@ def best_value(ds: xr.Dataset, field_dim: str, metric: str, *, maximise=True, wh
     return out
 
 
-def recommend(ds: xr.Dataset, field_dim: str, *, within: float, maximise="peak_blocked_force") -> list[dict]:
+def recommend(ds: xr.Dataset, field_dim: str, *, within: float, maximise="blocked_force_at_target") -> list[dict]:
     """The value of ``field_dim`` that reaches the target angle in under ``within`` with the largest force.
 
     For each combination of the other swept fields: among the designs whose
@@ -163,8 +230,16 @@ def recommend(ds: xr.Dataset, field_dim: str, *, within: float, maximise="peak_b
 
     Parameters
     ----------
+    ds : xarray.Dataset
+        A grid sweep with a target bend angle.
+    field_dim : str
+        The swept dimension to choose a value of.
     within : float
         Time limit [s].
+    maximise : str
+        Metric to maximise among the designs fast enough: ``blocked_force_at_target``
+        (default: the force available when the target angle is reached [N]) or
+        ``peak_blocked_force`` (the largest force over the whole protocol [N]).
 
     Returns
     -------
@@ -196,6 +271,8 @@ def recommend(ds: xr.Dataset, field_dim: str, *, within: float, maximise="peak_b
             point = ds.sel({field_dim: val}).isel(sel) if other else ds.sel({field_dim: val})
             row.update({"recommended": val, "time_to_target": float(point["time_to_target"].values),
                         maximise: float(abs(point[maximise].values))})
+            if maximise != "peak_blocked_force" and "peak_blocked_force" in ds:
+                row["peak_blocked_force"] = float(abs(point["peak_blocked_force"].values))
         rows.append(row)
     return rows
 
@@ -243,7 +320,7 @@ def heatmap(ds: xr.Dataset, metric: str, x: str, y: str, path, *, select=None):
     fig, ax = plt.subplots(figsize=(6, 4.2))
     kx, _ = _display(ds[x])
     ky, _ = _display(ds[y])
-    pc = ax.pcolormesh(ds[x].values * kx, ds[y].values * ky, np.abs(m.values) * k if metric.endswith("force") else m.values * k,
+    pc = ax.pcolormesh(ds[x].values * kx, ds[y].values * ky, np.abs(m.values) * k if "force" in metric else m.values * k,
                        shading="nearest", cmap="viridis")
     fig.colorbar(pc, ax=ax, label=f"{metric} [{du}]")
     ax.set_xlabel(_label(ds, x))
@@ -258,7 +335,7 @@ def heatmap(ds: xr.Dataset, metric: str, x: str, y: str, path, *, select=None):
     return path
 
 
-def pareto_plot(ds: xr.Dataset, path, *, speed="time_to_target", force="peak_blocked_force"):
+def pareto_plot(ds: xr.Dataset, path, *, speed="time_to_target", force="blocked_force_at_target"):
     """All designs (time to target against force) with the Pareto front highlighted."""
     import matplotlib
 
@@ -275,7 +352,7 @@ def pareto_plot(ds: xr.Dataset, path, *, speed="time_to_target", force="peak_blo
     front = sorted(pf["table"], key=lambda r: r[speed])
     ax.plot([r[speed] for r in front], [r[force] * 1e3 for r in front], "o-", c="C3", ms=5, label="Pareto front")
     ax.set_xlabel("time to target angle [s]")
-    ax.set_ylabel("peak blocked force [mN]")
+    ax.set_ylabel(f"{force_label(force)} [mN]")
     ax.set_title(f"{pf['n_on_front']} on the front; {pf['n_not_reaching']} never reach the target (not shown)", fontsize=9)
     ax.legend()
     save_figure(fig, path)
@@ -325,4 +402,4 @@ def swept_fields(ds):
 
 
 __all__ = ["pareto_mask", "pareto_front", "best_value", "recommend", "heatmap", "pareto_plot", "bend_family",
-           "swept_fields"]
+           "swept_fields", "format_quantity", "field_units", "force_label", "FORCE_METRICS", "FORCE_LABELS"]
