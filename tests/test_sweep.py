@@ -249,3 +249,43 @@ def test_format_quantity_readable_units():
     assert tradeoff.format_quantity(3.759e-7, "N") == "0.3759 uN"
     assert tradeoff.format_quantity(math.radians(30), "rad") == "30 deg"
     assert tradeoff.format_quantity("365 nm LED", "") == "365 nm LED"
+
+
+def test_cli_pareto_says_how_many_rows_are_not_printed(tmp_path, capsys):
+    # 16 thicknesses that all reach 10 deg: a thicker film is slower but pushes harder at the target angle
+    # (F = 3 EI theta / (2 L^2) with EI growing as h^3), so every design is on the front (Deb 2001, ch. 2).
+    from actsim.cli import main
+
+    scen = tmp_path / "s.toml"
+    scen.write_text(_text())
+    rc = main(["sweep", str(scen), "--vary", "layers[film].thickness=lin(8 um, 20 um, 16)", "--target-angle", "10 deg",
+               "--pareto", "--scheduler", "inprocess", "--no-progress", "-o", str(tmp_path / "o")])
+    out = capsys.readouterr().out
+    assert rc == 0
+    import json
+
+    pf = json.loads((tmp_path / "o" / "pareto.json").read_text())
+    n = pf["n_on_front"]
+    assert n > 12
+    assert sum(1 for line in out.splitlines() if line.startswith("    layers[film].thickness = ")) == 12
+    assert f"    ... {n - 12} more in pareto.json" in out
+
+
+def test_cli_heatmap_refused_when_it_cannot_be_drawn(tmp_path, capsys):
+    from actsim.cli import main
+
+    scen = tmp_path / "s.toml"
+    scen.write_text(_text())
+    one = ["sweep", str(scen), "--vary", "layers[film].thickness=lin(8 um, 20 um, 3)", "--target-angle", "10 deg",
+           "--scheduler", "inprocess", "--no-progress", "-o", str(tmp_path / "o")]
+    two = one + ["--vary", "protocol[0].light.lamp=20 mW/cm^2,80 mW/cm^2"]
+    for args, expect in ((one + ["--heatmap", "peak_temperature"], "needs two or more swept fields"),
+                         (two + ["--heatmap", "time_to_targt"], "did you mean 'time_to_target'")):
+        assert main(args) == 2
+        err = capsys.readouterr().err.strip()
+        assert err.count("\n") == 0 and expect in err, err
+        if args[-1] == "time_to_targt":
+            assert "valid: final_bend_angle" in err and "efficiency" in err
+    assert not (tmp_path / "o" / "sweep.nc").exists()  # refused before running
+    assert main(two + ["--heatmap", "peak_blocked_force"]) == 0
+    assert (tmp_path / "o" / "figures" / "heatmap_peak_blocked_force.png").is_file()

@@ -93,6 +93,31 @@ def _metrics_csv(ds, path):
         df.to_csv(tmp, index=False, float_format="%.10g")
 
 
+#: Rows of the Pareto front printed; the rest are counted and left to pareto.json.
+PARETO_ROWS_SHOWN = 12
+#: Metrics that exist only when the sweep has a target bend angle.
+TARGET_METRICS = ("time_to_target", "reached_target", "blocked_force_at_target")
+
+
+def _check_heatmap(metric, *, n_dims, sampling, has_target):
+    """One-line error unless a heat map of ``metric`` can be drawn for this sweep."""
+    from ..study.sweep import METRIC_INFO
+
+    if metric not in METRIC_INFO:
+        import difflib
+
+        hint = difflib.get_close_matches(metric, list(METRIC_INFO), n=1)
+        raise ActsimInputError(f"--heatmap: '{metric}' is not a sweep metric" + (f" (did you mean '{hint[0]}'?)" if hint else "")
+                               + f"; valid: {', '.join(METRIC_INFO)}")
+    if metric in TARGET_METRICS and not has_target:
+        raise ActsimInputError(f"--heatmap: '{metric}' needs a target bend angle (--target-angle or [report] "
+                               "target_bend_angle)")
+    if sampling != "grid":
+        raise ActsimInputError(f"--heatmap: needs a grid sweep over two or more fields, not --sample {sampling}")
+    if n_dims < 2:
+        raise ActsimInputError(f"--heatmap: needs two or more swept fields (--vary twice); this sweep varies {n_dims}")
+
+
 def cmd_sweep(args) -> int:
     from ..cautions import with_caution
     from ..scenario import load_scenario
@@ -113,6 +138,9 @@ def cmd_sweep(args) -> int:
     sampling = args.sample or "grid"
     if args.samples is not None and sampling == "grid":
         raise ActsimInputError("--samples: only used with --sample lhs|sobol")
+    if args.heatmap is not None:  # check before running: a heat map asked for is drawn or refused, never skipped
+        _check_heatmap(args.heatmap, n_dims=len(vary), sampling=sampling,
+                       has_target=target is not None or sc.target_bend_angle is not None)
     ds = sweep(sc, vary, sampling=sampling, n_samples=args.samples, seed=args.seed, target_bend_angle=target,
                keep_series=args.series, chunk_size=args.chunk_size, store=out / "chunks", scheduler=args.scheduler,
                progress=not args.no_progress, yes=args.yes, connect_timeout=args.timeout)
@@ -129,9 +157,12 @@ def cmd_sweep(args) -> int:
         n_reach = int(ds["reached_target"].sum())
         print(f"  {n_reach} reach {math.degrees(target if target is not None else ds.attrs['target_bend_angle']):.4g} deg")
     metric = args.heatmap or ("time_to_target" if has_target else "peak_bend_angle")
-    if len(dims) >= 2:
+    if len(dims) >= 2 and sampling == "grid":
         tradeoff.heatmap(ds, metric, dims[0], dims[1], figs / f"heatmap_{metric}.png")
         files.append(f"figures/heatmap_{metric}.png")
+        if len(dims) > 2:
+            print(f"  heat map of {metric} over {dims[0]} and {dims[1]}; "
+                  f"{', '.join(map(str, dims[2:]))} at their first value")
     force = tradeoff.FORCE_METRICS[args.force]
     flabel = tradeoff.force_label(force)
     units = tradeoff.field_units(ds)
@@ -149,9 +180,11 @@ def cmd_sweep(args) -> int:
         files += ["pareto.json", "figures/pareto.png"]
         print(f"  Pareto front (time to target vs {flabel}): {pf['n_on_front']} designs; "
               f"{pf['n_not_reaching']} never reach the target (excluded)")
-        for row in pf["table"][:12]:
+        for row in pf["table"][:PARETO_ROWS_SHOWN]:
             print(f"    {shown(row, ('design', 'time_to_target', force))}: {row['time_to_target']:.3g} s, "
                   f"{tradeoff.format_quantity(row[force], 'N')}")
+        if pf["n_on_front"] > PARETO_ROWS_SHOWN:
+            print(f"    ... {pf['n_on_front'] - PARETO_ROWS_SHOWN} more in pareto.json")
     if args.recommend:
         if within is None:
             raise ActsimInputError("--recommend: give the time limit with --within, e.g. --within \"20 s\"")
