@@ -289,3 +289,42 @@ def test_cli_heatmap_refused_when_it_cannot_be_drawn(tmp_path, capsys):
     assert not (tmp_path / "o" / "sweep.nc").exists()  # refused before running
     assert main(two + ["--heatmap", "peak_blocked_force"]) == 0
     assert (tmp_path / "o" / "figures" / "heatmap_peak_blocked_force.png").is_file()
+
+
+def test_resume_hash_covers_data_file_contents(tmp_path):
+    # A resumed sweep must not mix chunks computed with an old spectrum and chunks computed with an edited one:
+    # the definition hash includes the bytes of every file named by `file = "..."` (resolved against the
+    # scenario's folder). Reference: SHA-256 of the file bytes (hashlib, FIPS 180-4).
+    import hashlib
+    import shutil
+
+    from actsim.scenario import load_scenario
+    from actsim.study.sweep import data_file_digests, plan_sweep
+
+    root = Path(__file__).resolve().parents[1] / "scenarios"
+    shutil.copy(root / "microvalve_spectrum.toml", tmp_path / "valve.toml")
+    shutil.copytree(root / "data", tmp_path / "data")
+    vary = {"layers[1].thickness": "80 um,100 um"}
+    sc = load_scenario(tmp_path / "valve.toml")
+    digests = data_file_digests(sc)
+    spec = tmp_path / "data" / "valve_film_absorptivity.csv"
+    assert set(digests) == {"data/valve_film_absorptivity.csv", "data/led_405_spectrum.csv"}
+    assert digests["data/valve_film_absorptivity.csv"] == hashlib.sha256(spec.read_bytes()).hexdigest()
+    h1 = plan_sweep(sc, vary).hash
+    assert plan_sweep(load_scenario(tmp_path / "valve.toml"), vary).hash == h1  # same files: resumable
+    # edit one absorptivity value; the scenario text is unchanged
+    text = spec.read_text()
+    lines = text.splitlines()
+    i = next(k for k, line in enumerate(lines) if line.startswith("310,"))
+    lines[i] = "310,1200.0"
+    spec.write_text("\n".join(lines) + "\n")
+    sc2 = load_scenario(tmp_path / "valve.toml")
+    assert sc2.text == sc.text
+    assert plan_sweep(sc2, vary).hash != h1
+    # and a store written before the edit is refused instead of being resumed
+    store = tmp_path / "chunks"
+    spec.write_text(text)
+    sweep(load_scenario(tmp_path / "valve.toml"), vary, store=store, scheduler="inprocess", progress=False)
+    spec.write_text("\n".join(lines) + "\n")
+    with pytest.raises(ActsimInputError, match="different sweep.*data file"):
+        sweep(load_scenario(tmp_path / "valve.toml"), vary, store=store, scheduler="inprocess", progress=False)

@@ -6,7 +6,7 @@ sample (Latin hypercube or Sobol, :mod:`scipy.stats.qmc`). Designs run in
 chunks; each chunk goes through the batch kernel (:mod:`actsim.study.batch`) in
 one numba call. With a ``store`` folder every finished chunk is written at once
 (one NetCDF file per chunk, atomic), beside a manifest holding the hash of the
-sweep definition, so an interrupted sweep started again with the same
+sweep definition (including the contents of every data file the scenario names), so an interrupted sweep started again with the same
 definition skips the finished chunks and loses at most the chunks that were
 running.
 
@@ -398,6 +398,53 @@ def _json_value(v):
     return v if isinstance(v, (str, int, float, bool)) else str(v)
 
 
+def _file_names(node, out):
+    """Collect the strings under keys named ``file`` anywhere in a parsed TOML tree."""
+    if isinstance(node, dict):
+        for k, v in node.items():
+            if k == "file" and isinstance(v, str):
+                out.append(v)
+            else:
+                _file_names(v, out)
+    elif isinstance(node, list):
+        for v in node:
+            _file_names(v, out)
+    return out
+
+
+def data_file_digests(scenario, extra_names=()) -> dict:
+    """SHA-256 of every data file a scenario names (``file = "..."`` at any depth of its TOML).
+
+    Parameters
+    ----------
+    scenario : Scenario
+        The base scenario; relative names resolve against its folder (``base_dir``).
+    extra_names : iterable of str
+        Further file names (e.g. swept values of a ``.file`` field).
+
+    Returns
+    -------
+    dict
+        File name as written -> hex digest of its bytes (``"missing"`` when it cannot be read),
+        so that a sweep definition hash changes when a data file's contents change.
+    """
+    import tomllib
+
+    try:
+        tree = tomllib.loads(scenario.text)
+    except Exception:
+        tree = {}
+    base = Path(scenario.base_dir or (Path(scenario.path).parent if scenario.path else Path.cwd()))
+    out = {}
+    for name in _file_names(tree, []) + [str(n) for n in extra_names]:
+        path = Path(name) if Path(name).is_absolute() else base / name
+        try:
+            out[name] = hashlib.sha256(path.read_bytes()).hexdigest()
+        except OSError:
+            out[name] = "missing"
+    return out
+
+
 def plan_sweep(scenario, vary, *, sampling="grid", n_samples=None, seed=0, target_bend_angle=None,
                keep_series=False, chunk_size=None, yes=False) -> SweepPlan:
     """Check a sweep definition and lay out its designs and chunks (nothing runs).
@@ -464,6 +511,10 @@ def plan_sweep(scenario, vary, *, sampling="grid", n_samples=None, seed=0, targe
         "format": STORE_FORMAT,
         "actsim_version": __version__,
         "scenario": scenario.text,
+        # contents of the data files the scenario (or a swept .file field) names: editing a spectrum CSV
+        # is a different sweep, so a resume does not mix chunks of the old and the new data
+        "data_files": data_file_digests(scenario, [v for ax in axes for p, vals in zip(ax.paths, ax.values)
+                                                   if p.endswith(".file") for v in vals if isinstance(v, str)]),
         "sampling": sampling,
         "n_samples": n_samples if sampling != "grid" else None,
         "seed": seed if sampling != "grid" else None,
@@ -596,7 +647,8 @@ def _open_store(store, plan: SweepPlan):
         if old.get("hash") != plan.hash:
             raise ActsimInputError(
                 f"store: {store} holds a different sweep (definition hash {str(old.get('hash'))[:12]}, this one "
-                f"{plan.hash[:12]}); use another output folder or delete it"
+                f"{plan.hash[:12]}: the scenario, a data file it names or the swept values changed); use another "
+                "output folder or delete it"
             )
     else:
         write_json(manifest, {"hash": plan.hash, "n_designs": plan.n_designs, "n_chunks": plan.n_chunks,
