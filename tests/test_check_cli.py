@@ -98,3 +98,20 @@ def test_gripper_hinge_demo_runs_with_check_and_run(tmp_path, capsys):
     assert data["details"]["joint"]["strips"] >= 1
     status, text, err = run(["run", str(demo), "-o", str(tmp_path / "r"), "--no-figures"], capsys)
     assert status == 0, err
+
+
+def test_tip_force_large_enough_fails_yield_exit_1(tmp_path, capsys):
+    # [checks].tip_force is carried at peak bend: its clamp moment M adds the bending stress of dk = M/EI
+    # (6 M/(b h^2) for a homogeneous strip, Gere & Timoshenko, Mechanics of Materials); 10 mN on this 10 mm strip
+    # takes the film past 25 MPa, so the yield check fails and the command exits 1 (it passed before, unchecked).
+    sec = '[checks]\n{tip}[checks.materials.film]\nyield_strength = "25 MPa"\n[safety]\nexposure_distance_factor = 0.01\n'
+    args = ["--no-figures", "--no-elastica"]
+    assert run(["check", str(write(tmp_path, sec.format(tip=""), "a.toml")), "-o", str(tmp_path / "a"), *args],
+               capsys)[0] == 0
+    status, text, _ = run(["check", str(write(tmp_path, sec.format(tip='tip_force = "10 mN"\n'), "b.toml")),
+                           "-o", str(tmp_path / "b"), *args], capsys)
+    assert status == 1 and "tip-loaded state" in text
+    data = json.loads((tmp_path / "b" / "checks.json").read_text())
+    rec = [r for r in data["checks"] if r["check"].startswith("yield strength, layer 1")][0]
+    assert rec["status"] == "fail" and rec["value"] > 25e6
+    assert data["details"]["stress"]["tip_load"]["moment"] == pytest.approx(data["details"]["actuation"]["tip_load"]["largest_moment"])

@@ -362,3 +362,41 @@ def test_plate_with_heat_adds_transverse_thermal_stress():
     r = by_name(res, "yield strength, layer 0 (film)")[0]
     assert r.value == pytest.approx(1e9 * 1e-4 * 20.0, rel=1e-6)
     assert r.passed is False and "E alpha (T - T_ref)" in det["stress"]["state"]
+
+
+# --------------------------------------------------------------------------- tip force in the strength check
+
+
+def test_tip_force_stress_homogeneous_strip_hand_calculation():
+    # A straight homogeneous strip (dark: no eigenstrain, no free stress) carrying a dead tip force F normal to
+    # the clamp: statics gives the clamp moment M = F x_tip exactly (moment of a force about the clamp), M ~ F L
+    # for a small deflection, and the bending stress sigma = M c / I = 6 M / (b h^2) at the faces (Gere & Timoshenko,
+    # Mechanics of Materials, flexure formula). The outermost cell centre sits at c = h/2 - dz/2, so the cell stress
+    # is 6 M / (b h^2) (1 - 1/n) for n cells (hand calculation).
+    b, h, L, n, F = 2e-3, 20e-6, 10e-3, 40, 1e-6
+    text = film_toml(irradiance="0 mW/cm^2", duration="2 s", output="1 s", step="0.1 s", cells=n)
+    d = simulate(parse_scenario(text))
+    assert float(np.abs(d["stress"].values).max()) == 0.0
+    hand = None
+    for ys, ok in (("0.5 MPa", True), ("0.05 MPa", False)):
+        _, res, det = checks(d, f'[checks]\ntip_force = "{F} N"\n[checks.materials.film]\nyield_strength = "{ys}"\n',
+                             text=text)
+        tl = det["actuation"]["tip_load"]
+        m = abs(tl["clamp_moment"])
+        assert m == pytest.approx(F * tl["tip_x"], rel=1e-6)  # statics of the dead tip force
+        assert m == pytest.approx(F * L, rel=0.02)  # small deflection (F L^2 / EI = 0.075)
+        hand = 6.0 * m / (b * h * h) * (1.0 - 1.0 / n)
+        r = by_name(res, "yield strength, layer 0 (film)")[0]
+        assert r.value == pytest.approx(hand, rel=1e-9)
+        assert r.passed is ok and "tip-loaded state" in r.note
+    assert hand == pytest.approx(73.1e3, rel=0.02)  # 6 * 1e-8 N m / (2e-3 m * 4e-10 m^2) * 0.975 = 73.1 kPa
+
+
+def test_tip_force_enters_strength_without_elastica_blocked_force():
+    # --no-elastica skips the blocked force and load line only: the tip-loaded state is still checked
+    # (a skipped load must never read as a pass).
+    text = film_toml(irradiance="0 mW/cm^2", duration="2 s", output="1 s", step="0.1 s", cells=40)
+    d = simulate(parse_scenario(text))
+    _, res, det = checks(d, '[checks]\ntip_force = "1e-6 N"\n[checks.materials.film]\nyield_strength = "0.05 MPa"\n',
+                         text=text, elastica=False)
+    assert "tip_load" in det["actuation"] and by_name(res, "yield strength, layer 0 (film)")[0].passed is False

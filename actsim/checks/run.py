@@ -9,7 +9,10 @@ joint's margin at each angle ...). The checks are:
 1. **Strength**: von Mises stress of every cell at every output time (biaxial
    plane-strain state for ``section = "plate"``, with the transverse stress
    of isotropic thermal strain when heat is modelled), the largest per layer against
-   the layer's yield strength, with the required safety factor.
+   the layer's yield strength, with the required safety factor. With
+   ``[checks].tip_force`` the tip-loaded state at peak bend is one more state of
+   the history (the elastica's bending moment M adds the bending stress of
+   dk = M/EI about the neutral axis), for this check and for fatigue.
 2. **Fatigue**: the stress history at the critical point of each layer
    (largest stress range), counted by rainflow, Basquin life with the
    Goodman, Gerber, Morrow and Smith-Watson-Topper corrections and the
@@ -193,7 +196,7 @@ def _repeat_history(h: np.ndarray) -> np.ndarray:
 
 
 def _actuation(scenario, ds, cs: CheckSettings, *, elastica: bool):
-    from ..elastica import blocked_tip_force, cantilever_shape, load_line
+    from ..elastica import blocked_tip_force, load_line
 
     L = scenario.strip.free_length
     kappa = _free_curvature(ds)
@@ -207,8 +210,11 @@ def _actuation(scenario, ds, cs: CheckSettings, *, elastica: bool):
         "peak_curvature": float(kappa[i_peak]),
         "peak_bend_angle": float(kappa[i_peak] * L),
         "peak_bending_stiffness": float(ei[i_peak]),
+        "peak_index": i_peak,
         "notes": [],
     }
+    if cs.tip_force is not None:  # solved with or without the elastica blocked force: it enters the strength check
+        out["tip_load"] = _tip_load(L, out["peak_curvature"], out["peak_bending_stiffness"], cs, i_peak)
     if not elastica:
         out["notes"].append("large-deflection (elastica) blocked force not computed (elastica=False)")
         return out
@@ -253,39 +259,55 @@ def _actuation(scenario, ds, cs: CheckSettings, *, elastica: bool):
             }
         except ActsimInputError as exc:
             out["notes"].append(f"load line at peak bend not solved ({exc})")
-    if cs.tip_force is not None:
-        sgn = 1.0 if k_peak >= 0 else -1.0
-        def solve(f):
-            return cantilever_shape(length=L, bending_stiffness=e_peak, spontaneous_curvature=k_peak, tip_force=(0.0, -sgn * f))
-
-        try:
-            shape = solve(cs.tip_force)
-        except ActsimInputError as exc:
-            # back off by decades to tell the user the largest load that was solved
-            solved = None
-            f = cs.tip_force
-            for _ in range(8):
-                f /= 10.0
-                try:
-                    solve(f)
-                    solved = f
-                    break
-                except ActsimInputError:
-                    continue
-            largest = f"largest load solved {solved:.3g} N" if solved is not None else "no load down to 1e-8 of it was solved"
-            reason = str(exc).split(": ", 1)[-1]
-            raise ActsimInputError(
-                f"checks.tip_force: {cs.tip_force:g} N is too large for the elastica at peak bend ({largest}; {reason})"
-            ) from None
-        out["tip_load"] = {
-            "tip_force": cs.tip_force,
-            "tip_x": shape.tip_x,
-            "tip_y": shape.tip_y,
-            "tip_angle": shape.tip_angle,
-            "clamp_moment": float(shape.bending_moment[0]),
-            "note": "dead tip force normal to the clamped strip, opposing the bend, at the time of peak bend",
-        }
     return out
+
+
+def _tip_load(L, k_peak, e_peak, cs: CheckSettings, i_peak: int) -> dict:
+    """Large-deflection shape under ``[checks].tip_force`` at peak bend, with the bending moment it adds.
+
+    The moment ``EI (theta' - kappa0)`` of the dead tip force is largest at the
+    clamp while the strip does not curl back past its tip; the largest
+    magnitude along the strip is kept (``largest_moment``) for the strength check.
+    """
+    from ..elastica import cantilever_shape
+
+    sgn = 1.0 if k_peak >= 0 else -1.0
+
+    def solve(f):
+        return cantilever_shape(length=L, bending_stiffness=e_peak, spontaneous_curvature=k_peak, tip_force=(0.0, -sgn * f))
+
+    try:
+        shape = solve(cs.tip_force)
+    except ActsimInputError as exc:
+        # back off by decades to tell the user the largest load that was solved
+        solved = None
+        f = cs.tip_force
+        for _ in range(8):
+            f /= 10.0
+            try:
+                solve(f)
+                solved = f
+                break
+            except ActsimInputError:
+                continue
+        largest = f"largest load solved {solved:.3g} N" if solved is not None else "no load down to 1e-8 of it was solved"
+        reason = str(exc).split(": ", 1)[-1]
+        raise ActsimInputError(
+            f"checks.tip_force: {cs.tip_force:g} N is too large for the elastica at peak bend ({largest}; {reason})"
+        ) from None
+    m = np.asarray(shape.bending_moment, dtype=float)
+    j = int(np.argmax(np.abs(m)))
+    return {
+        "tip_force": cs.tip_force,
+        "tip_x": shape.tip_x,
+        "tip_y": shape.tip_y,
+        "tip_angle": shape.tip_angle,
+        "clamp_moment": float(m[0]),
+        "largest_moment": float(m[j]),
+        "largest_moment_at": float(shape.s[j]),
+        "time_index": int(i_peak),
+        "note": "dead tip force normal to the clamped strip, opposing the bend, at the time of peak bend",
+    }
 
 
 # ---------------------------------------------------------------------------
@@ -395,6 +417,38 @@ def _loaded_stress(scenario, ds, js, jd, act):
         dk = -f * scenario.strip.free_length / ds["bending_stiffness"].values
         how = "strip tips blocked by the lever (clamp moment F_blocked L; conservative)"
     return sigma - E * dk[:, None] * (z[None, :] - zn[:, None]), how
+
+
+def _tip_loaded_stress(scenario, ds, tip: dict):
+    """Stress through the thickness of the free strip carrying ``[checks].tip_force`` at peak bend [Pa].
+
+    The elastica's bending moment M (largest along the strip, the clamp's while the strip does not curl back)
+    changes the curvature by dk = M / EI, EI = ``ds.bending_stiffness`` at that time; bending about the neutral
+    axis z_n = B/A of the section with the current modulus E(z) = ``ds.modulus`` adds
+    sigma = -E(z) dk (z - z_n) to the free stress ``ds.stress`` (homogeneous strip: 6 M/(b h^2) at the faces;
+    Gere and Timoshenko, Mechanics of Materials). Returns ``(row, info)``, or ``(None, reason)`` when it cannot
+    be formed.
+    """
+    i = int(tip["time_index"])
+    E = ds["modulus"].values[i]
+    z = ds["z"].values
+    dz = _cell_dz(scenario)
+    ei = float(ds["bending_stiffness"].values[i])
+    m = float(tip["largest_moment"])
+    a = float(np.sum(E * dz))
+    if not (math.isfinite(ei) and ei > 0 and math.isfinite(a) and a > 0 and math.isfinite(m)):
+        return None, (f"the section at peak bend has no positive bending stiffness (EI = {ei:g} N m^2) "
+                      "to carry the tip force")
+    zn = float(np.sum(E * z * dz)) / a
+    dk_load = m / ei
+    dk = _free_curvature(ds)[i] + dk_load - ds["curvature"].values[i]
+    row = ds["stress"].values[i] - E * dk * (z - zn)
+    if not np.all(np.isfinite(row)):
+        return None, "the tip-loaded stress is not finite"
+    info = {"time": float(ds["time"].values[i]), "tip_force": float(tip["tip_force"]), "moment": m,
+            "moment_at": float(tip["largest_moment_at"]), "curvature_change": dk_load, "neutral_axis": zn,
+            "stress": row}
+    return row, info
 
 
 # ---------------------------------------------------------------------------
@@ -595,6 +649,26 @@ def run_checks(scenario, ds, *, elastica: bool = True):
                  "(sigma_y = nu sigma_x - E alpha (T - T_ref), E = section modulus (1 - nu^2))")
     times = ds["time"].values
     sdet = {"time": times, "state": state, "history": stress_how, "layers": {}}
+    # [checks].tip_force: the tip-loaded state at peak bend joins the history as one more state, right after the
+    # peak-bend sample (the load is carried at peak bend, once per run of the protocol)
+    tip = act.get("tip_load")
+    tip_ins, tip_reason = None, ""
+    sig_c, eig_c, eq_c, times_c = sigma, eig, eq, times
+    if tip is not None:
+        row, info = _tip_loaded_stress(scenario, ds, tip)
+        if row is None:
+            tip_reason = info
+        else:
+            tip_ins = int(tip["time_index"]) + 1
+            sig_c = np.insert(sigma, tip_ins, row, axis=0)
+            eig_c = None if eig is None else np.insert(eig, tip_ins, eig[tip_ins - 1], axis=0)
+            eq_c = _equivalent_signed(sig_c, nu_cell, plate, eig_c)
+            times_c = np.insert(times, tip_ins, times[tip_ins - 1])
+            sdet["tip_load"] = info
+    tip_how = "" if tip_ins is None else (
+        f"with the tip-loaded state at peak bend (tip_force {tip['tip_force']:g} N, bending moment "
+        f"{tip['largest_moment'] * 1e3:.4g} mN m at s = {tip['largest_moment_at'] * 1e3:.3g} mm, "
+        f"dk = M/EI on the free stress)")
     fdet = {}
     for k, layer in enumerate(scenario.layers):
         label = _layer_label(k, scenario)
@@ -603,21 +677,32 @@ def run_checks(scenario, ds, *, elastica: bool = True):
         per_time = sub.max(axis=1)
         sdet["layers"][layer.name] = {"peak_equivalent_stress": per_time, "peak": float(per_time.max()),
                                       "cell_of_peak": int(cells[int(np.argmax(sub.max(axis=0)))])}
+        per_time_c = np.abs(eq_c[:, cells]).max(axis=1)
+        if tip_ins is not None:
+            sdet["layers"][layer.name]["tip_loaded_peak"] = float(per_time_c[tip_ins])
         lim = cs.materials.get(layer.material.name)
         # strength
         if lim is None or lim.yield_strength is None:
             results.append(NotAssessed(f"yield strength, {label}",
                                        f"no yield strength for material '{layer.material.name}' in [checks.materials]"))
         else:
-            r = stress_check(stress_profile=sigma[:, cells], layer_index=np.zeros(cells.size, dtype=np.int64),
+            r = stress_check(stress_profile=sig_c[:, cells], layer_index=np.zeros(cells.size, dtype=np.int64),
                              yield_strength_per_layer=[lim.yield_strength], layer_names=[layer.name],
                              poisson_ratio=[layer.material.poisson_ratio] if plate else None,
                              required_safety_factor=cs.required_safety_factor,
-                             transverse_eigen_stress=None if eig is None else eig[:, cells])[0]
+                             transverse_eigen_stress=None if eig_c is None else eig_c[:, cells])[0]
             t_note = _temperature_notes(lim.yield_strength, ds, cells)
-            note = "; ".join(x for x in (f"{stress_how}; peak at t = {times[int(np.argmax(per_time))]:g} s",
-                                         r.note, t_note) if x)
+            kt = int(np.argmax(per_time_c))
+            at = (f"peak in the tip-loaded state at t = {times_c[kt]:g} s" if tip_ins is not None and kt == tip_ins
+                  else f"peak at t = {times_c[kt]:g} s")
+            if tip_ins is not None:  # the time index of stress_check counts the inserted state
+                r = dataclasses.replace(r, note=r.note.replace("at time index", "at history index"))
+            note = "; ".join(x for x in (f"{stress_how}; {at}", tip_how, r.note, t_note) if x)
             results.append(dataclasses.replace(r, check=f"yield strength, {label}", note=note))
+            if tip_reason:
+                results.append(NotAssessed(f"yield strength under checks.tip_force, {label}",
+                                           f"the tip-loaded stress could not be formed: {tip_reason}",
+                                           source=r.source, validity=r.validity))
         # fatigue
         flabel = f"fatigue, {label}"
         if lim is None or lim.fatigue_strength_coefficient is None:
@@ -626,9 +711,12 @@ def run_checks(scenario, ds, *, elastica: bool = True):
         if cs.target_passes is None:
             results.append(NotAssessed(flabel, "no target_cycles in [checks]"))
             continue
-        rng = eq[:, cells].max(axis=0) - eq[:, cells].min(axis=0)
+        if tip_reason:
+            results.append(NotAssessed(f"fatigue under checks.tip_force, {label}",
+                                       f"the tip-loaded stress could not be formed: {tip_reason}"))
+        rng = eq_c[:, cells].max(axis=0) - eq_c[:, cells].min(axis=0)
         c = int(cells[int(np.argmax(rng))])
-        hist = _repeat_history(eq[:, c])
+        hist = _repeat_history(eq_c[:, c])
         methods = [m for m in cs.mean_stress_methods if lim.ultimate_strength is not None or m not in ("goodman", "gerber")]
         if not methods:
             results.append(NotAssessed(flabel, "Goodman/Gerber need ultimate_strength, which is not given"))
@@ -642,8 +730,9 @@ def run_checks(scenario, ds, *, elastica: bool = True):
         except ActsimInputError as exc:
             raise ActsimInputError(f"checks.materials.{layer.material.name} ({label} fatigue): {exc}") from None
         where = (f"critical point: cell {c} (z = {ds['z'].values[c] * 1e6:.4g} um), largest stress range "
-                 f"{rng.max() / 1e6:.4g} MPa; {stress_how}; {cs.target_cycles:g} actuation cycles = "
-                 f"{cs.target_passes:g} runs of the protocol")
+                 f"{rng.max() / 1e6:.4g} MPa; {stress_how}"
+                 + ("" if tip_ins is None else f"; {tip_how}, once per run")
+                 + f"; {cs.target_cycles:g} actuation cycles = {cs.target_passes:g} runs of the protocol")
         t_note = _temperature_notes(lim.fatigue_strength_coefficient, ds, cells)
         freq = cs.cycles_per_protocol / scenario.duration
         f_rng = lim.fatigue_strength_coefficient.valid_range.get("frequency")

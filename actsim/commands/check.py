@@ -35,7 +35,8 @@ def _actuation_lines(details) -> list[str]:
     if "tip_load" in act:
         tl = act["tip_load"]
         lines.append(f"  under a {tl['tip_force'] * 1e3:.4g} mN tip load at peak bend: tip at ({tl['tip_x'] * 1e3:.4g}, "
-                     f"{tl['tip_y'] * 1e3:.4g}) mm, tip angle {math.degrees(tl['tip_angle']):.4g} deg")
+                     f"{tl['tip_y'] * 1e3:.4g}) mm, tip angle {math.degrees(tl['tip_angle']):.4g} deg, "
+                     f"clamp moment {abs(tl['clamp_moment']) * 1e3:.4g} mN m (in the yield and fatigue checks)")
     for n in act.get("notes", []):
         lines.append(f"  note: {n}")
     jd = details.get("joint")
