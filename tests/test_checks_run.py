@@ -400,3 +400,28 @@ def test_tip_force_enters_strength_without_elastica_blocked_force():
     _, res, det = checks(d, '[checks]\ntip_force = "1e-6 N"\n[checks.materials.film]\nyield_strength = "0.05 MPa"\n',
                          text=text, elastica=False)
     assert "tip_load" in det["actuation"] and by_name(res, "yield strength, layer 0 (film)")[0].passed is False
+
+
+def test_joint_stack_of_strips_plausibility(ds):
+    # n strips of thickness h stacked in parallel are n h thick (geometry); a stack thicker than the hinge is long,
+    # or of more than 1000 strips, is not a set of independent thin strips (common practice, no source): the
+    # joint check fails then. Here h = 20 um film + 20 um substrate = 40 um.
+    d = ds
+    h = 40e-6
+    # a heavy payload: hundreds of strips solved; their stack (> 10 mm) outgrows the 10 mm hinge
+    _, res, det = checks(d, JOINT.format(strips='"solve"', a0="-15 deg", a1="15 deg", m="5 g", r="20 mm"))
+    jd = det["joint"]
+    n = jd["strips"]
+    assert n * h > 10e-3 and jd["stack_thickness"] == pytest.approx(n * h, rel=1e-12)
+    st = by_name(res, f"joint stack of {n} strips (hinge)")[0]
+    assert st.passed is False and st.limit == pytest.approx(10e-3) and "not plausible as a stack of strips" in st.note
+    assert by_name(res, "joint moment")[0].passed is True and any_failed(res)
+    # count limit: with a 100 mm hinge, 1000 strips (40 mm) pass, 1001 fail although thinner than the hinge
+    for strips, ok in ((1000, True), (1001, False)):
+        sec = JOINT.format(strips=strips, a0="-1 deg", a1="1 deg", m="0.01 g", r="5 mm").replace(
+            "[joint]\n", '[joint]\nhinge_length = "100 mm"\n')
+        _, res, det = checks(d, sec)
+        st = by_name(res, f"joint stack of {strips} strips")[0]
+        assert st.value == pytest.approx(strips * h, rel=1e-12) and st.limit == pytest.approx(1000 * h, rel=1e-12)
+        assert st.passed is ok and det["joint"]["plausible"] is ok
+        assert ("more than 1000 strips" in st.note) is (not ok)

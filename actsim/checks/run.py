@@ -24,7 +24,8 @@ joint's margin at each angle ...). The checks are:
    that dead load.
 4. **Joint** (with ``[joint]``): the moment the strips deliver against the
    payload's gravity moment at each angle, the number of strips needed with
-   the safety factor, and the stress of the loaded strips over time (used by
+   the safety factor, the plausibility of that stack (its total thickness
+   against the hinge length or lever arm, at most 1000 strips), and the stress of the loaded strips over time (used by
    checks 1 and 2 instead of the free-strip stress).
 5. **Light at the exposure position** (UV and visible sources): actinic UV,
    UV-A and blue-light hazards of the protocol, repeated over the exposure
@@ -376,6 +377,7 @@ def _joint(scenario, ds, js, cs: CheckSettings, act: dict):
         check=f"joint moment, {n} strip{'s' if n != 1 else ''} ({js.mounting})", value=max(float(m_req[g]), 0.0),
         limit=max(float(avail[g]), 0.0), unit="N m", source=source, validity=validity, required_margin=sf, note=note,
     ))
+    results.append(_stack_check(scenario, js, n, out))
     # loaded strip over time: the link rises from its start stop to the first equilibrium (or the end stop)
     kappa = _free_curvature(ds)
     eis = ds["bending_stiffness"].values
@@ -395,6 +397,44 @@ def _joint(scenario, ds, js, cs: CheckSettings, act: dict):
     else:
         out["loaded_rotation"] = None
     return out, results
+
+
+#: Most strips a joint is taken to be built of before the design is called implausible (common practice, no source).
+_MAX_STRIPS = 1000
+
+
+def _stack_check(scenario, js, n: int, out: dict) -> CheckResult:
+    """Plausibility of n strips stacked in parallel: total thickness against the joint's length scale.
+
+    The moment balance treats the strips as independent, each bending freely; a stack thicker than the hinge
+    is long (hinge mounting) or than the lever arm (lever mounting) is no longer a set of thin strips (their
+    neighbours' clamps, spacing and shear are not modelled), and neither is a stack of more than
+    ``_MAX_STRIPS`` strips (common practice, no source). The check fails there.
+    """
+    h = float(sum(layer.thickness for layer in scenario.layers))
+    stack = n * h
+    length, what = ((js.hinge_length, "hinge length") if js.mounting == "hinge" else (js.lever_arm, "lever arm"))
+    limit = min(length, _MAX_STRIPS * h)
+    out.update(stack_thickness=stack, strip_thickness=h, stack_limit=limit)
+    by = what if length <= _MAX_STRIPS * h else f"{_MAX_STRIPS} strips"
+    note = (f"{n} strip{'s' if n != 1 else ''} x {h * 1e6:.4g} um = {stack * 1e3:.4g} mm of stacked strips; "
+            f"limit the {what} ({length * 1e3:.4g} mm) or {_MAX_STRIPS} strips ({_MAX_STRIPS * h * 1e3:.4g} mm), "
+            f"whichever is smaller ({by})")
+    plausible = stack <= limit
+    out["plausible"] = plausible
+    if not plausible:
+        reasons = []
+        if stack > length:
+            reasons.append(f"the stack is thicker than the {what}")
+        if n > _MAX_STRIPS:
+            reasons.append(f"more than {_MAX_STRIPS} strips")
+        note += (f"; the design is not plausible as a stack of strips ({' and '.join(reasons)}): "
+                 "raise the strips' moment (curvature, thickness, width) or change the joint")
+    return CheckResult.upper_bound(
+        check=f"joint stack of {n} strip{'s' if n != 1 else ''} ({js.mounting}): total thickness", value=stack,
+        limit=limit, unit="m", source="plausibility of a stack of thin strips (common practice, no source)",
+        validity="strips modelled as independent thin strips bending side by side", note=note,
+    )
 
 
 def _loaded_stress(scenario, ds, js, jd, act):

@@ -45,6 +45,10 @@ def _actuation_lines(details) -> list[str]:
             lines.append(f"  joint: {jd['strips']} strips ({jd['mounting']}); {jd['strips_needed']} needed for a factor "
                          f"{jd['safety_factor']:g}; smallest factor {float(min(jd['achieved_factor'])):.3g} at "
                          f"{math.degrees(jd['governing_angle']):.4g} deg")
+            if "stack_thickness" in jd:
+                lines.append(f"  joint: stack of strips {jd['stack_thickness'] * 1e3:.4g} mm thick (limit "
+                             f"{jd['stack_limit'] * 1e3:.4g} mm)"
+                             + ("" if jd.get("plausible", True) else ": NOT plausible as a stack of strips"))
         else:
             lines.append("  joint: no number of strips lifts the payload through the whole angle range")
     for name, fd in details.get("fatigue", {}).items():
