@@ -425,3 +425,34 @@ def test_joint_stack_of_strips_plausibility(ds):
         assert st.value == pytest.approx(strips * h, rel=1e-12) and st.limit == pytest.approx(1000 * h, rel=1e-12)
         assert st.passed is ok and det["joint"]["plausible"] is ok
         assert ("more than 1000 strips" in st.note) is (not ok)
+
+
+# --------------------------------------------------------------------------- fatigue life beyond the fitted range
+
+
+def test_fatigue_life_beyond_fitted_range_is_not_printed_raw(ds):
+    # Basquin constants hold over the life range they were fitted on (Dowling 2013, ch. 9: typically 1e3..1e7
+    # cycles); the packaged glassy-network constants carry cycles = [1e3, 1e7] (illustrative, from memory). A life
+    # computed beyond 1e7 is an extrapolation: the notes say "> 1e7 cycles (...; extrapolated)", never the raw
+    # number, which stays in the details (checks.json).
+    from actsim.checks.run import _life_text
+
+    _, res, det = checks(ds, '[checks]\ntarget_cycles = 1e3\n[checks.materials.film]\nlimits = "generic_glassy_network"\n')
+    fd = det["fatigue"]["film"]
+    assert fd["fitted_cycle_range"] == [1e3, 1e7] and min(fd["life_cycles"].values()) > 1e7
+    for r in by_name(res, "fatigue damage"):
+        assert "modelled life > 1e7 cycles (beyond the fitted range of the constants; extrapolated)" in r.note
+        assert "passes to the damage limit" not in r.note
+    text = format_results(res)
+    for life in fd["life_cycles"].values():
+        assert f"{life:.4g}" not in text and f"{life:.3g}" not in text
+    # within the range (rubbery network, cycles = [1e3, 1e6]) the life is shown as computed
+    _, res, det = checks(ds, '[checks]\ntarget_cycles = 1e3\n[checks.materials.film]\nlimits = "generic_rubbery_network"\n')
+    fd = det["fatigue"]["film"]
+    m = fd["governing_method"]
+    assert 1e3 <= fd["life_cycles"][m] <= 1e6
+    assert f"modelled life {fd['life_cycles'][m]:.3g} cycles" in [r for r in by_name(res, "fatigue damage")
+                                                                   if "most conservative" in r.note][0].note
+    # below the range, and constants without a range of their own (the usual 1e3..1e7 is used and named)
+    assert _life_text(200.0, 1e3, 1e7, True).startswith("200 cycles (below the fitted range of the constants")
+    assert _life_text(3.57e19, 1e3, 1e7, False) == "> 1e7 cycles (beyond the usual fitted range of Basquin constants; extrapolated)"

@@ -181,6 +181,44 @@ def _temperature_notes(limit, ds, cells) -> str:
             f"{lo - 273.15:.0f}..{hi - 273.15:.0f} degC was not checked")
 
 
+#: Life range over which Basquin constants are usually fitted, used when the constants carry no cycle range of
+#: their own (typically 1e3 to 1e7 cycles; common practice, no source).
+_TYPICAL_FIT_CYCLES = (1e3, 1e7)
+
+
+def _fmt_cycles(x: float) -> str:
+    """Cycle count for text: 1e7 rather than 1e+07, 3e5 rather than 300000."""
+    if x <= 0 or not math.isfinite(x):
+        return f"{x:g}"
+    e = math.floor(math.log10(x))
+    m = x / 10.0**e
+    if abs(m - round(m)) < 1e-9:
+        m = round(m)
+    return f"{m:g}e{e}" if abs(e) >= 4 else f"{x:g}"
+
+
+def _cycle_range(lim):
+    """(lo, hi, known) cycle range of validity of a material's Basquin constants."""
+    for x in (lim.fatigue_strength_coefficient, lim.fatigue_strength_exponent):
+        if x is not None and "cycles" in x.valid_range:
+            lo, hi = x.valid_range["cycles"]
+            return float(lo), float(hi), True
+    return _TYPICAL_FIT_CYCLES[0], _TYPICAL_FIT_CYCLES[1], False
+
+
+def _life_text(life: float, lo: float, hi: float, known: bool) -> str:
+    """Modelled life [actuation cycles] as text, never an extrapolated raw number beyond the fitted range."""
+    which = "the fitted range of the constants" if known else "the usual fitted range of Basquin constants"
+    if math.isinf(life):
+        return "no fatigue damage counted (no stress cycle in the history)"
+    if life > hi:
+        return f"> {_fmt_cycles(hi)} cycles (beyond {which}; extrapolated)"
+    if life < lo:
+        return (f"{life:.3g} cycles (below {which}, {_fmt_cycles(lo)}..{_fmt_cycles(hi)}; extrapolated, "
+                "a low-cycle estimate the stress-life method does not cover)")
+    return f"{life:.3g} cycles"
+
+
 def _repeat_history(h: np.ndarray) -> np.ndarray:
     """One pass of a repeated history, started and ended at its largest magnitude.
 
@@ -779,15 +817,28 @@ def run_checks(scenario, ds, *, elastica: bool = True):
         if f_rng is not None and not (f_rng[0] <= freq <= f_rng[1]):
             t_note = "; ".join(x for x in (t_note, f"actuation frequency {freq:.3g} Hz lies outside the constants' range "
                                                     f"of validity {f_rng[0]:g}..{f_rng[1]:g} Hz") if x)
-        for r in fr.checks:
+        lo, hi, known = _cycle_range(lim)
+        life = {m: fr.passes_to_failure[m] * cs.cycles_per_protocol for m in fr.passes_to_failure}
+        life_text = {m: _life_text(life[m], lo, hi, known) for m in life}
+        for m_key, r in zip(methods, fr.checks):
             meth = r.check[r.check.find("(") + 1: r.check.rfind(")")]
+            # the raw life stays in the details (checks.json); the note shows it only within the fitted range
+            raw = f"modelled {fr.passes_to_failure[m_key]:.4g} passes to the damage limit"
+            shown = f"modelled life {life_text[m_key]}"
+            if cs.cycles_per_protocol != 1.0 and life[m_key] <= hi and math.isfinite(life[m_key]):
+                shown += f" ({fr.passes_to_failure[m_key]:.4g} runs of the protocol)"
+            note = r.note.replace(raw, shown) if raw in r.note else "; ".join((r.note, shown))
             results.append(dataclasses.replace(r, check=f"fatigue damage ({meth}), {label}",
-                                               note="; ".join(x for x in (r.note, where, t_note) if x)))
+                                               note="; ".join(x for x in (note, where, t_note) if x)))
         fdet[layer.name] = {
             "critical_cell": c,
             "cycles_per_run": fr.cycles,
             "governing_method": fr.governing_method,
-            "life_cycles": {m: fr.passes_to_failure[m] * cs.cycles_per_protocol for m in fr.passes_to_failure},
+            "life_cycles": life,
+            "life_text": life_text,
+            "fitted_cycle_range": [lo, hi],
+            "fitted_cycle_range_source": "the constants' range of validity" if known else
+                                         "usual fitted range of Basquin constants (common practice, no source)",
             "damage_at_target": {m: fr.damage_per_pass[m] * cs.target_passes for m in fr.damage_per_pass},
         }
     details["stress"] = sdet

@@ -53,8 +53,11 @@ def _actuation_lines(details) -> list[str]:
             lines.append("  joint: no number of strips lifts the payload through the whole angle range")
     for name, fd in details.get("fatigue", {}).items():
         m = fd["governing_method"]
-        life = fd["life_cycles"][m]
-        lines.append(f"  fatigue, {name}: modelled life {life:.3g} actuation cycles by the most conservative method ({m})")
+        life = fd.get("life_text", {}).get(m)  # never a raw number extrapolated beyond the constants' range
+        if life is None:
+            life = f"{fd['life_cycles'][m]:.3g} cycles"
+        lines.append(f"  fatigue, {name}: modelled life {life} by the most conservative method ({m}); "
+                     "raw value in checks.json")
     light = details.get("light", {})
     if light.get("assessed"):
         lines.append(f"  light at the exposure position: risk group of the most intense step {light['risk_group']} "
