@@ -68,7 +68,6 @@ def test_strict_not_assessed_exit_1(tmp_path, capsys):
 @pytest.mark.parametrize(
     "sections, match",
     [
-        (FATIGUE.format(n=1e3, ys="1 MPa", su="1 MPa", b=-0.1), "ultimate"),  # mean stress beyond ultimate
         (FATIGUE.format(n=1e3, ys="25 MPa", su="30 MPa", b=0.1), "fatigue_strength_exponent"),  # b >= 0
         ('[checks]\n[checks.materials.flim]\nyield_strength = "20 MPa"\n', "did you mean 'film'"),  # unknown material
         ('[checks]\ntip_force = "5 kN"\n', "largest load solved"),  # load too large for the elastica
@@ -82,6 +81,17 @@ def test_bad_input_one_line_exit_2_nothing_written(tmp_path, capsys, sections, m
     lines = err.strip().splitlines()
     assert len(lines) == 1 and lines[0].startswith("actsim: error: ") and match in lines[0]
     assert not out.exists()
+
+
+def test_stress_beyond_ultimate_is_a_failing_check_not_bad_input(tmp_path, capsys):
+    # A simulated stress at or beyond the ultimate strength is a static failure of the design (exit 1), not an
+    # input error: no fatigue life is computed for it (Dowling, Mechanical Behavior of Materials, ch. 9: the
+    # mean-stress corrections hold only below the ultimate).
+    out = tmp_path / "out"
+    status, text, err = run(["check", str(write(tmp_path, FATIGUE.format(n=1e3, ys="1 MPa", su="1 MPa", b=-0.1))),
+                             "-o", str(out), "--no-figures", "--no-elastica"], capsys)
+    assert status == 1 and "static failure" in text
+    assert (out / "checks.json").is_file()
 
 
 def test_help_has_example():

@@ -799,6 +799,18 @@ def run_checks(scenario, ds, *, elastica: bool = True):
         if not methods:
             results.append(NotAssessed(flabel, "Goodman/Gerber need ultimate_strength, which is not given"))
             continue
+        u_lim = lim.ultimate_strength
+        u_val = getattr(u_lim, "value", u_lim)
+        peak = float(np.max(np.abs(hist)))
+        if u_val is not None and peak >= u_val:
+            # the simulated stress itself reaches the ultimate strength: the design fails statically,
+            # before any fatigue (a failing check, not bad input)
+            results.append(CheckResult.upper_bound(
+                check=f"{flabel}: static failure", value=peak, limit=float(u_val), unit="Pa",
+                source=getattr(u_lim, "source", "material limits"), validity=getattr(u_lim, "validity", ""),
+                note=f"the cyclic stress at {label} reaches the ultimate strength; no fatigue life is computed",
+            ))
+            continue
         try:
             fr = fatigue_life(hist, fatigue_strength_coefficient=lim.fatigue_strength_coefficient,
                               fatigue_strength_exponent=lim.fatigue_strength_exponent,
