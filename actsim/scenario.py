@@ -353,36 +353,14 @@ def _parse_temperature_modulus(t: "_Table", base_dir: Path):
 
 
 def _read_modulus_table(path: Path, field_name: str):
-    """Read a DMA-style CSV: temperature [unit], modulus [unit] (storage modulus)."""
-    import csv as _csv
+    """Read a DMA-style CSV (temperature [unit], modulus [unit]) with :func:`actsim.tables.read_xy_csv`."""
+    from .tables import read_xy_csv
 
-    from .units import Q_
-
-    if not path.is_file():
-        raise ActsimInputError(f"{field_name}: modulus table '{path}' does not exist")
-    rows, header = [], None
-    with open(path, newline="") as fh:
-        for lineno, row in enumerate(_csv.reader(fh), start=1):
-            if not row or row[0].strip().startswith("#"):
-                continue
-            if header is None:
-                header = [c.strip() for c in row]
-                continue
-            try:
-                rows.append((float(row[0]), float(row[1])))
-            except (ValueError, IndexError):
-                raise ActsimInputError(f"{field_name}: '{path.name}' line {lineno} is not two numbers") from None
-    units = [c[c.index("[") + 1 : -1] if "[" in c and c.endswith("]") else None for c in (header or [])[:2]]
-    if len(rows) < 2 or len(units) < 2 or None in units:
-        raise ActsimInputError(f"{field_name}: '{path.name}' needs a header 'temperature [degC], modulus [MPa]' and >= 2 rows")
-    data = np.array(rows)
     try:
-        temps = Q_(data[:, 0], units[0]).to("K").magnitude
-        moduli = Q_(data[:, 1], units[1]).to("Pa").magnitude
-    except Exception:
-        raise ActsimInputError(f"{field_name}: '{path.name}' header units [{units[0]}], [{units[1]}] must be a temperature and a pressure") from None
-    if not (np.all(np.isfinite(temps)) and np.all(np.isfinite(moduli))):
-        raise ActsimInputError(f"{field_name}: '{path.name}' has a non-finite temperature or modulus (nan/inf)")
+        data = read_xy_csv(path, x_kind="temperature", y_kind="modulus")
+    except ActsimInputError as exc:
+        raise ActsimInputError(f"{field_name}: {exc}") from None
+    temps, moduli = data.x, data.y
     if np.any(np.diff(temps) <= 0) or np.any(moduli <= 0):
         raise ActsimInputError(f"{field_name}: '{path.name}' temperatures must increase strictly and moduli be > 0")
     return temps, moduli

@@ -185,3 +185,14 @@ def test_plate_thermal_strain_carries_one_plus_poisson():
     dT = float(beam.temperature.values[-1].mean()) - 293.15
     assert float(beam.axial_strain[-1]) == pytest.approx(1e-4 * dT, rel=1e-6)
     assert float(plate.axial_strain[-1]) == pytest.approx(1.4e-4 * dT, rel=1e-6)
+
+
+def test_tabulated_modulus_table_enters_the_solver(tmp_path, monkeypatch):
+    # A DMA-style table (temperature, storage modulus) is interpolated linearly in ln E (common practice, no
+    # source); with a uniform strip at the ambient temperature the section modulus is the table value there.
+    (tmp_path / "dma.csv").write_text("# synthetic\ntemperature [degC],storage modulus [MPa]\n10,2000\n30,20\n")
+    monkeypatch.chdir(tmp_path)
+    sc = heated(modulus_line="", extra_mat='[materials.m.modulus_table]\nfile = "dma.csv"', irradiance="0 mW/cm^2")
+    ds = actsim.simulate(sc)
+    expected = math.exp(math.log(2e9) + (20.0 - 10.0) / 20.0 * (math.log(20e6) - math.log(2e9)))
+    np.testing.assert_allclose(ds.modulus.values[0], expected, rtol=1e-12)
