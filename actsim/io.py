@@ -62,10 +62,43 @@ def _json_default(o):
     raise TypeError(f"not JSON serialisable: {type(o).__name__}")
 
 
+#: Fill value written for entries that do not exist by definition (CF conventions, sec. 2.5.1).
+MISSING_FILL = -9.0e30
+
+#: Attribute a variable must carry to be allowed missing entries; its text says what they mean.
+MISSING_ATTR = "missing_means"
+
+
 def write_netcdf(ds, path):
-    """Write an xarray Dataset to NetCDF atomically."""
+    """Write an xarray Dataset to NetCDF atomically; no NaN or inf reaches the file.
+
+    A variable may have entries that do not exist by definition (a target angle never reached, a
+    temperature where heat is not modelled) only if it says so in a ``missing_means`` attribute; those
+    entries are written as the CF ``_FillValue`` :data:`MISSING_FILL`. Any other non-finite value is an
+    error: nothing is written.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        The data [SI units in each variable's ``units``].
+    path : str or pathlib.Path
+        Target file.
+    """
+    from .errors import ActsimSimulationError
+
+    encoding = {}
+    for name, var in ds.variables.items():
+        if var.dtype.kind != "f":
+            continue
+        values = np.asarray(var.values)
+        if np.isinf(values).any():
+            raise ActsimSimulationError(f"{path}: variable '{name}' has infinite values; nothing was written")
+        if np.isnan(values).any():
+            if MISSING_ATTR not in var.attrs:
+                raise ActsimSimulationError(f"{path}: variable '{name}' has NaN values; nothing was written")
+            encoding[name] = {"_FillValue": MISSING_FILL}
     with atomic_path(path) as tmp:
-        ds.to_netcdf(tmp)
+        ds.to_netcdf(tmp, encoding=encoding)
 
 
 def write_timeseries_csv(ds, path):

@@ -195,3 +195,22 @@ def test_demo_copy(tmp_path, capsys):
     assert (dest / "vent_flap.toml").is_file() and (dest / "data").is_dir()
     assert main(["run", str(dest / "microvalve_spectrum.toml"), "-o", str(tmp_path / "o"), "--no-figures"]) == 0
     assert main(["demo", "--copy", str(dest)]) == 2
+
+
+def test_no_nan_reaches_a_netcdf_file(tmp_path):
+    # Entries that do not exist by definition are written as the CF fill value with a `missing_means`
+    # attribute (CF conventions 1.8, sec. 2.5.1); any other NaN stops the write.
+    from actsim.errors import ActsimSimulationError
+    from actsim.io import MISSING_FILL, write_netcdf
+
+    ok = xr.Dataset({"t": ("d", np.array([1.0, np.nan]), {"units": "s", "missing_means": "never reached"})})
+    write_netcdf(ok, tmp_path / "ok.nc")
+    import netCDF4
+
+    with netCDF4.Dataset(tmp_path / "ok.nc") as nc:
+        nc.set_auto_mask(False)
+        assert nc["t"][:].tolist() == [1.0, MISSING_FILL]
+    bad = xr.Dataset({"t": ("d", np.array([1.0, np.nan]), {"units": "s"})})
+    with pytest.raises(ActsimSimulationError, match="NaN"):
+        write_netcdf(bad, tmp_path / "bad.nc")
+    assert not (tmp_path / "bad.nc").exists()

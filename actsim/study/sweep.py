@@ -60,14 +60,14 @@ METRIC_INFO = {
     "final_bend_angle": ("rad", "bend angle at the end of the protocol"),
     "peak_bend_angle": ("rad", "bend angle of largest magnitude"),
     "time_of_peak_bend": ("s", "time of the peak bend angle"),
-    "time_to_target": ("s", "first time the bend angle reaches the target (NaN: never)"),
+    "time_to_target": ("s", "first time the bend angle reaches the target (missing: never)"),
     "reached_target": ("1", "the target bend angle is reached"),
-    "blocked_force_at_target": ("N", "blocked tip force when the target angle is reached (NaN: never)"),
+    "blocked_force_at_target": ("N", "blocked tip force when the target angle is reached (missing: never)"),
     "peak_blocked_force": ("N", "blocked tip force of largest magnitude (free rotation, small deflection)"),
     "time_of_peak_force": ("s", "time of the peak blocked force"),
     "peak_blocked_moment": ("N m", "blocked moment of largest magnitude"),
     "peak_tip_deflection": ("m", "tip travel of largest magnitude"),
-    "peak_temperature": ("K", "highest cell temperature (NaN: heat not modelled)"),
+    "peak_temperature": ("K", "highest cell temperature (missing: heat not modelled)"),
     "optical_dose": ("J m-2", "incident radiant exposure over the protocol"),
     "optical_energy": ("J", "incident optical energy on the strip area over the protocol"),
     "peak_optical_power": ("W", "largest incident optical power on the strip area (protocol step)"),
@@ -86,7 +86,7 @@ SERIES_INFO = {
     "blocked_force": ("N", "tip force that holds the tip in place"),
     "blocked_moment": ("N m", "moment that holds the strip flat"),
     "tip_deflection": ("m", "tip travel normal to the clamped tangent"),
-    "peak_temperature": ("K", "highest cell temperature (NaN: heat not modelled)"),
+    "peak_temperature": ("K", "highest cell temperature (missing: heat not modelled)"),
 }
 
 STATUS_INFO = "0 finished, 1 non-finite state, 2 invalid design (see attribute design_errors)"
@@ -608,18 +608,36 @@ def run_chunk(base_text, base_path, overrides, design_ids, target, keep_series, 
             "times": times, "errors": errors}
 
 
+#: What a missing (fill-valued) entry of a metric means; any other metric is missing only for designs
+#: that did not finish (``status`` != 0).
+MISSING_MEANING = {
+    "time_to_target": "the target bend angle is never reached (or the design did not finish: see status)",
+    "blocked_force_at_target": "the target bend angle is never reached (or the design did not finish: see status)",
+    "peak_temperature": "heat is not modelled in this design (or the design did not finish: see status)",
+}
+
+
+def _attrs(u, ln, name, arr):
+    from ..io import MISSING_ATTR
+
+    attrs = {"units": u, "long_name": ln}
+    if arr.dtype.kind == "f" and np.isnan(arr).any():
+        attrs[MISSING_ATTR] = MISSING_MEANING.get(name, "the design did not finish (see status)")
+    return attrs
+
+
 def _chunk_dataset(res) -> xr.Dataset:
     dv = {"status": xr.Variable(("design",), res["status"], attrs={"units": "1", "long_name": STATUS_INFO})}
     for name, arr in res["metrics"].items():
         u, ln = METRIC_INFO[name]
         dv[name] = xr.Variable(("design",), arr.astype(np.int8) if arr.dtype == bool else arr,
-                               attrs={"units": u, "long_name": ln})
+                               attrs=_attrs(u, ln, name, arr))
     coords = {"design": xr.Variable(("design",), res["design"], attrs={"long_name": "design number"})}
     if res["series"] is not None:
         coords["time"] = xr.Variable(("time",), res["times"], attrs={"units": "s", "long_name": "time since the start of the protocol"})
         for name, arr in res["series"].items():
             u, ln = SERIES_INFO[name]
-            dv[f"series_{name}"] = xr.Variable(("design", "time"), arr, attrs={"units": u, "long_name": ln})
+            dv[f"series_{name}"] = xr.Variable(("design", "time"), arr, attrs=_attrs(u, ln, name, arr))
     ds = xr.Dataset(dv, coords=coords)
     ds.attrs["design_errors"] = json.dumps(res["errors"])
     return ds
@@ -769,6 +787,10 @@ def assemble(plan: SweepPlan, chunks) -> xr.Dataset:
     ds = xr.concat(chunks, dim="design", data_vars="all", coords="minimal", compat="override",
                    combine_attrs="drop") if len(chunks) > 1 else chunks[0].copy()
     ds = ds.sortby("design")
+    for name in list(ds.data_vars):
+        var = ds[name]
+        key = name[len("series_"):] if name.startswith("series_") else name
+        var.attrs.update(_attrs(var.attrs.get("units", ""), var.attrs.get("long_name", ""), key, var.values))
     errors = []
     for c in chunks:
         errors.extend(json.loads(c.attrs.get("design_errors", "[]")))
