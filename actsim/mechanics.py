@@ -28,6 +28,30 @@ References
 from __future__ import annotations
 
 import numpy as np
+from numba import njit
+
+#: Mechanical conditions of a protocol step, as the kernel codes them.
+HOLD_FREE = 0
+HOLD_STRETCH = 1
+HOLD_BEND = 2
+HOLD_FLAT = 3
+#: Scenario hold names -> codes ("release" is a free step).
+HOLD_CODES = {"free": HOLD_FREE, "release": HOLD_FREE, "stretch": HOLD_STRETCH, "bend": HOLD_BEND, "flat": HOLD_FLAT}
+#: Codes -> the hold names :func:`held_strip_response` takes.
+HOLD_NAMES = {HOLD_FREE: "free", HOLD_STRETCH: "stretch", HOLD_BEND: "bend", HOLD_FLAT: "flat"}
+
+
+def _cell_weights(z_edges):
+    """Exact per-cell weights of int 1, z, z^2 dz; with a design axis, shaped to broadcast as (design, 1, cell)."""
+    z0, z1 = z_edges[..., :-1], z_edges[..., 1:]
+    return z1 - z0, 0.5 * (z1**2 - z0**2), (z1**3 - z0**3) / 3.0
+
+
+def _weighted_sum(values, weights):
+    """Sum over cells of values (..., n_cell) times weights (n_cell,) or (n_design, n_cell)."""
+    if weights.ndim == 1:
+        return values @ weights
+    return np.matmul(values, weights[..., None])[..., 0]
 
 
 def section_integrals(*, z_edges, modulus, eigenstrain):
@@ -35,8 +59,9 @@ def section_integrals(*, z_edges, modulus, eigenstrain):
 
     Parameters
     ----------
-    z_edges : numpy.ndarray, shape (n_cell + 1,)
-        Cell faces from the bottom face z = 0 [m].
+    z_edges : numpy.ndarray, shape (n_cell + 1,) or (n_design, n_cell + 1)
+        Cell faces from the bottom face z = 0 [m]; with a design axis, ``modulus``
+        and ``eigenstrain`` are (n_design, n_time, n_cell).
     modulus : numpy.ndarray, shape (..., n_cell)
         Section modulus of each cell [Pa].
     eigenstrain : numpy.ndarray, shape (..., n_cell)
@@ -47,17 +72,14 @@ def section_integrals(*, z_edges, modulus, eigenstrain):
     dict of numpy.ndarray, shape (...)
         ``A`` [N m-1], ``B`` [N], ``D`` [N m], ``N_star`` [N m-1], ``M_star`` [N].
     """
-    z0, z1 = z_edges[:-1], z_edges[1:]
-    w1 = z1 - z0
-    w2 = 0.5 * (z1**2 - z0**2)
-    w3 = (z1**3 - z0**3) / 3.0
+    w1, w2, w3 = _cell_weights(np.asarray(z_edges))
     e_star = modulus * eigenstrain
     return {
-        "A": modulus @ w1,
-        "B": modulus @ w2,
-        "D": modulus @ w3,
-        "N_star": e_star @ w1,
-        "M_star": e_star @ w2,
+        "A": _weighted_sum(modulus, w1),
+        "B": _weighted_sum(modulus, w2),
+        "D": _weighted_sum(modulus, w3),
+        "N_star": _weighted_sum(e_star, w1),
+        "M_star": _weighted_sum(e_star, w2),
     }
 
 
@@ -70,8 +92,8 @@ def free_strip_response(*, z_edges, modulus, eigenstrain):
 
     Parameters
     ----------
-    z_edges : numpy.ndarray, shape (n_cell + 1,)
-        [m].
+    z_edges : numpy.ndarray, shape (n_cell + 1,) or (n_design, n_cell + 1)
+        [m] (see :func:`section_integrals`).
     modulus : numpy.ndarray, shape (..., n_cell)
         [Pa].
     eigenstrain : numpy.ndarray, shape (..., n_cell)
@@ -220,3 +242,58 @@ def held_strip_response(*, z_edges, modulus, eigenstrain, hold, value=0.0):
     else:
         e0, kappa, _ = free_strip_response(z_edges=z_edges, modulus=modulus, eigenstrain=eigenstrain)
     return e0, kappa, A * e0 - B * kappa - Ns, B * e0 - D * kappa - Ms
+
+
+@njit(cache=True)
+def section_solve(z_edges, E, Ee, hold, value):
+    """Kernel step of :func:`held_strip_response`: strain at z = 0 and curvature under a hold code.
+
+    Parameters
+    ----------
+    z_edges : numpy.ndarray, shape (n_cell + 1,)
+        Cell faces [m].
+    E, Ee : numpy.ndarray, shape (n_cell,)
+        Section modulus [Pa] and modulus times eigenstrain [Pa].
+    hold : int
+        HOLD_FREE, HOLD_STRETCH, HOLD_BEND or HOLD_FLAT.
+    value : float
+        Strain [1] (stretch) or curvature [m-1] (bend).
+
+    Returns
+    -------
+    (e0, kappa, N, M) : float
+        [1], [m-1], and the section's force [N m-1] and moment about z = 0 [N]
+        per unit width (zero for a free strip).
+    """
+    A = 0.0
+    B = 0.0
+    D = 0.0
+    Ns = 0.0
+    Ms = 0.0
+    for i in range(E.size):
+        z0 = z_edges[i]
+        z1 = z_edges[i + 1]
+        w1 = z1 - z0
+        w2 = 0.5 * (z1 * z1 - z0 * z0)
+        w3 = (z1 * z1 * z1 - z0 * z0 * z0) / 3.0
+        A += E[i] * w1
+        B += E[i] * w2
+        D += E[i] * w3
+        Ns += Ee[i] * w1
+        Ms += Ee[i] * w2
+    if hold == HOLD_STRETCH:
+        kappa = 0.0
+        e0 = value
+    elif hold == HOLD_BEND:
+        kappa = value
+        e0 = (Ns + B * kappa) / A
+    elif hold == HOLD_FLAT:
+        kappa = 0.0
+        e0 = Ns / A
+    else:
+        det = A * D - B * B
+        e0 = (D * Ns - B * Ms) / det
+        kappa = (B * Ns - A * Ms) / det
+    N = A * e0 - B * kappa - Ns
+    M = B * e0 - D * kappa - Ms
+    return e0, kappa, N, M

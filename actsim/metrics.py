@@ -10,6 +10,39 @@ from __future__ import annotations
 import numpy as np
 
 
+def first_crossing_times(times, values, levels):
+    """First times at which ``|values|`` reaches ``|levels|``, linearly interpolated, per row; NaN where never.
+
+    Parameters
+    ----------
+    times : numpy.ndarray, shape (n_row, n_time)
+        [s].
+    values : numpy.ndarray, shape (n_row, n_time)
+        Signals (any unit); compared by magnitude.
+    levels : numpy.ndarray, shape (n_row,)
+        Levels in the unit of ``values``.
+
+    Returns
+    -------
+    numpy.ndarray, shape (n_row,)
+        [s]; NaN where the level is never reached.
+    """
+    v = np.abs(np.asarray(values, float))
+    lv = np.abs(np.asarray(levels, float))[:, None]
+    hit = v >= lv
+    any_hit = hit.any(axis=1)
+    i = np.argmax(hit, axis=1)
+    rows = np.arange(v.shape[0])
+    im = np.maximum(i - 1, 0)
+    t0, t1 = times[rows, im], times[rows, i]
+    v0, v1 = v[rows, im], v[rows, i]
+    lvl = lv[:, 0]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        interp = np.where(v1 != v0, t0 + (lvl - v0) * (t1 - t0) / (v1 - v0), t1)
+    out = np.where(i == 0, times[rows, 0], interp)
+    return np.where(any_hit, out, np.nan)
+
+
 def first_crossing_time(times, values, level):
     """First time at which ``|values|`` reaches ``|level|``, linearly interpolated, or None.
 
@@ -22,16 +55,8 @@ def first_crossing_time(times, values, level):
     level : float
         Level in the unit of ``values``.
     """
-    v = np.abs(np.asarray(values, float))
-    lv = abs(level)
-    hit = np.nonzero(v >= lv)[0]
-    if hit.size == 0:
-        return None
-    i = int(hit[0])
-    if i == 0:
-        return float(times[0])
-    t0, t1, v0, v1 = times[i - 1], times[i], v[i - 1], v[i]
-    return float(t0 + (lv - v0) * (t1 - t0) / (v1 - v0)) if v1 != v0 else float(t1)
+    t = first_crossing_times(np.asarray(times, float)[None], np.asarray(values, float)[None], [level])[0]
+    return None if np.isnan(t) else float(t)
 
 
 def conversion_front_depth(*, z, conversion, thickness, from_top=True, active=None, dz=None):

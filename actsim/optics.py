@@ -23,10 +23,158 @@ References
 from __future__ import annotations
 
 import math
+from typing import NamedTuple
 
 import numpy as np
+from numba import njit
+
+from .errors import ActsimInputError
 
 LN10 = math.log(10.0)
+
+
+class LightParams(NamedTuple):
+    """What the optics stage needs of one design, SI. Beams are (source, band) pairs.
+
+    Attributes
+    ----------
+    c0 : numpy.ndarray, shape (n_cell,)
+        Chromophore concentration [mol m-3] (0 in passive layers).
+    eps_a, eps_b : numpy.ndarray, shape (n_cell, n_beam)
+        Decadic molar absorptivities of reactant and product at each beam's wavelength [m2 mol-1].
+    alpha_bg : numpy.ndarray, shape (n_cell, n_beam)
+        Background (matrix) absorption coefficient, natural-log [m-1].
+    from_top : numpy.ndarray of bool, shape (n_beam,)
+        Entry face of each beam.
+    entry : numpy.ndarray, shape (n_beam,)
+        1 - R at the entry face [1].
+    beam_emol : numpy.ndarray, shape (n_beam,)
+        Energy of a mole of photons of each beam [J mol-1].
+    beam_source : numpy.ndarray of int64, shape (n_beam,)
+        Index of the source each beam belongs to.
+    beam_wavelength : numpy.ndarray, shape (n_beam,)
+        [m].
+    beam_fraction : numpy.ndarray, shape (n_beam,)
+        Fraction of its source's irradiance the beam carries [1].
+    """
+
+    c0: np.ndarray
+    eps_a: np.ndarray
+    eps_b: np.ndarray
+    alpha_bg: np.ndarray
+    from_top: np.ndarray
+    entry: np.ndarray
+    beam_emol: np.ndarray
+    beam_source: np.ndarray
+    beam_wavelength: np.ndarray
+    beam_fraction: np.ndarray
+
+
+def light_params(scenario, grid) -> LightParams:
+    """Beams and per-cell absorptivities of a scenario.
+
+    Also refuses a grid on which a cell's optical depth could exceed
+    ``optics.max_cell_optical_depth`` at any conversion (alpha is linear in
+    conversion, so x = 0 and x = 1 bound it).
+
+    Parameters
+    ----------
+    scenario : actsim.scenario.Scenario
+        The validated scenario (SI).
+    grid : actsim.grid.Grid
+        The cell grid.
+    """
+    from .spectra import molar_photon_energy
+
+    layers = scenario.layers
+    beams = [(si, wl, fr) for si, src in enumerate(scenario.sources)
+             for wl, fr in zip(src.band_wavelength, src.band_fraction)]
+    beam_source = np.array([b[0] for b in beams], np.int64)
+    beam_wl = np.array([b[1] for b in beams], float)
+    beam_frac = np.array([b[2] for b in beams], float)
+    n_beam, n_cell = beam_wl.size, grid.dz.size
+    from_top = np.array([scenario.sources[s].face == "top" for s in beam_source], dtype=np.bool_)
+    entry = np.ones(n_beam)
+    if scenario.optics.front_reflection and n_beam:
+        n0 = scenario.optics.ambient_refractive_index
+        r_top = fresnel_reflectance(n_outside=n0, n_inside=layers[-1].material.refractive_index)
+        r_bot = fresnel_reflectance(n_outside=n0, n_inside=layers[0].material.refractive_index)
+        entry = np.where(from_top, 1.0 - r_top, 1.0 - r_bot)
+    c0 = np.zeros(n_cell)
+    eps_a = np.zeros((n_cell, n_beam))
+    eps_b = np.zeros((n_cell, n_beam))
+    alpha_bg = np.zeros((n_cell, n_beam))
+    max_tau = scenario.optics.max_cell_optical_depth
+    for li, layer in enumerate(layers):
+        m = layer.material
+        sel = grid.layer_index == li
+        if not n_beam:
+            continue
+        alpha_bg[sel] = m.background_absorption(beam_wl)
+        if m.is_active:
+            c0[sel] = m.chromophore_concentration
+            eps_a[sel] = m.reactant_absorptivity(beam_wl)
+            eps_b[sel] = m.product_absorptivity(beam_wl)
+        dzl = layer.thickness / layer.cells
+        alpha_hi = LN10 * c0[sel][0] * np.maximum(eps_a[sel][0], eps_b[sel][0]) + alpha_bg[sel][0]
+        tau = alpha_hi * dzl
+        if not np.all(np.isfinite(tau)):
+            raise ActsimInputError(f"layers[{li}]: absorption coefficient is not finite (check absorptivity and concentration)")
+        worst = int(np.argmax(tau))
+        if tau[worst] > max_tau:
+            need = int(math.ceil(alpha_hi[worst] * layer.thickness / max_tau))
+            src = scenario.sources[beam_source[worst]].name
+            raise ActsimInputError(
+                f"layers[{li}].cells: {layer.cells} cells give an optical depth of {tau[worst]:.3g} per cell at "
+                f"{beam_wl[worst] * 1e9:.4g} nm (source '{src}'), above optics.max_cell_optical_depth = {max_tau:g}; "
+                f"use cells >= {need}"
+            )
+    return LightParams(c0=c0, eps_a=eps_a, eps_b=eps_b, alpha_bg=alpha_bg, from_top=from_top, entry=entry,
+                       beam_emol=molar_photon_energy(beam_wl) if n_beam else np.zeros(0), beam_source=beam_source,
+                       beam_wavelength=beam_wl, beam_fraction=beam_frac)
+
+
+@njit(cache=True)
+def light_pass(x, dz, light, q_surface, mean_flux, absorbed):
+    """Kernel step of :func:`light_field`: fill ``mean_flux`` and ``absorbed`` (n_cell, n_beam) in place.
+
+    Parameters
+    ----------
+    x : numpy.ndarray, shape (n_cell,)
+        Conversion [1].
+    dz : numpy.ndarray, shape (n_cell,)
+        Cell widths [m].
+    light : actsim.optics.LightParams
+        The design's optics parameters.
+    q_surface : numpy.ndarray, shape (n_beam,)
+        Incident photon flux of each beam before reflection [mol m-2 s-1].
+    mean_flux, absorbed : numpy.ndarray, shape (n_cell, n_beam)
+        Outputs [mol m-2 s-1].
+
+    Returns
+    -------
+    float
+        Photon flux leaving through the far faces, summed over beams [mol m-2 s-1].
+    """
+    n_cell, n_beam = light.eps_a.shape
+    transmitted = 0.0
+    for b in range(n_beam):
+        q = q_surface[b] * light.entry[b]
+        for j in range(n_cell):
+            i = n_cell - 1 - j if light.from_top[b] else j
+            alpha = (LN10 * light.c0[i] * (light.eps_a[i, b] * (1.0 - x[i]) + light.eps_b[i, b] * x[i])
+                     + light.alpha_bg[i, b])
+            tau = alpha * dz[i]
+            if tau > 1e-12:
+                a = -q * math.expm1(-tau)
+                mean_flux[i, b] = a / tau
+            else:
+                a = q * tau
+                mean_flux[i, b] = q
+            absorbed[i, b] = a
+            q -= a
+        transmitted += q
+    return transmitted
 
 
 def fresnel_reflectance(*, n_outside, n_inside):

@@ -1,4 +1,4 @@
-r"""Heat conduction across the strip's thickness and temperature-dependent material laws.
+r"""Heat stage: conduction across the strip's thickness, with the absorbed light as source.
 
 The strip is cut into cells ``i = 0 .. n-1`` from the bottom face (z = 0) to the top face (z = h),
 with widths ``dz[i]`` (non-uniform allowed, so each layer can have its own cells). Each cell carries
@@ -23,9 +23,9 @@ Conventions
   [W/m^2]. A flux ``q0`` [W/m^2] prescribed on a face is, in this discretisation, *exactly* the same as
   a source ``q0/dz`` in the cell next to that face.
 * Face losses are positive when heat leaves the strip (strip to ambient), in W/m^2.
-* The numba kernels (``thomas_solve``, ``face_conductances``, ``theta_step``, ``crank_nicolson_step``,
+* The numba kernels (``thomas_solve``, ``face_conductances``, ``theta_step``,
   ``trbdf2_step``, ``steady_temperature``, ``face_heat_loss``, ``face_temperatures`` and the ``*_nb``
-  material laws) take float64 arrays and floats only, do not check their inputs and do not allocate, so
+  radiation coefficient) take float64 arrays and floats only, do not check their inputs and do not allocate, so
   the solver kernel can call them every step. Check inputs once with :func:`check_conduction_inputs`.
   The readable path (:func:`theta_step_reference`, :func:`march_conduction`) is for tests and scripts.
 
@@ -59,15 +59,15 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import NamedTuple
 
 import numpy as np
 from numba import njit
-from scipy.constants import R as _GAS_CONSTANT
 from scipy.constants import Stefan_Boltzmann as _SIGMA_SB
 from scipy.linalg import solve_banded
 
 from .errors import ActsimInputError
-from .units import check_range
+from .units import check_range, finite_array, scalar_or_array
 
 __all__ = [
     "WORK_ROWS",
@@ -84,25 +84,110 @@ __all__ = [
     "theta_step_reference",
     "ConductionResult",
     "march_conduction",
-    "glass_transition_modulus",
-    "glass_transition_modulus_nb",
-    "tabulated_modulus",
-    "tabulated_modulus_nb",
-    "arrhenius_rate",
-    "arrhenius_rate_nb",
     "linearised_radiation_coefficient",
     "linearised_radiation_coefficient_nb",
 ]
 
 #: Rows of the scratch array every stepper accepts (``work.shape == (WORK_ROWS, n)``).
-#: ``theta_step``/``crank_nicolson_step`` use rows 0-3, ``steady_temperature`` rows 0-4, ``trbdf2_step`` rows 0-5.
+#: ``theta_step`` uses rows 0-3, ``steady_temperature`` rows 0-4, ``trbdf2_step`` rows 0-5.
 WORK_ROWS = 6
 
 #: TR-BDF2 stage fraction gamma = 2 - sqrt(2) (Hosea & Shampine 1996): both stages then share one matrix.
 TRBDF2_GAMMA = 2.0 - math.sqrt(2.0)
 
 _STEFAN_BOLTZMANN = float(_SIGMA_SB)
-_R = float(_GAS_CONSTANT)
+
+
+HEAT_OFF = 0
+HEAT_CN = 1
+HEAT_TRBDF2 = 2
+
+
+class HeatParams(NamedTuple):
+    """What the heat stage needs of one design, SI.
+
+    Attributes
+    ----------
+    mode : int
+        HEAT_OFF, HEAT_CN (Crank–Nicolson) or HEAT_TRBDF2.
+    k_cond : numpy.ndarray, shape (n_cell,)
+        Conductivity [W m-1 K-1].
+    rho_c : numpy.ndarray, shape (n_cell,)
+        Volumetric heat capacity [J m-3 K-1].
+    heat_frac : numpy.ndarray, shape (n_cell,)
+        Fraction of the absorbed light turned into heat [1].
+    T_ref : float
+        Reference temperature of thermal strain and back-reaction rate [K] (the ambient without heat).
+    T0 : numpy.ndarray, shape (n_cell,)
+        Initial temperature [K].
+    """
+
+    mode: int
+    k_cond: np.ndarray
+    rho_c: np.ndarray
+    heat_frac: np.ndarray
+    T_ref: float
+    T0: np.ndarray
+
+
+def heat_params(scenario, grid, schedule) -> HeatParams:
+    """Heat parameters of a scenario.
+
+    Refuses Crank–Nicolson steps longer than 50 cell diffusion times (the
+    scheme rings there; TR-BDF2 is L-stable).
+
+    Parameters
+    ----------
+    scenario : actsim.scenario.Scenario
+        The validated scenario (SI).
+    grid : actsim.grid.Grid
+        The cell grid.
+    schedule : actsim.schedule.Schedule
+        The segments (their time steps).
+    """
+    heat = scenario.heat
+    k_cond = np.array([layer.material.conductivity for layer in scenario.layers])[grid.layer_index]
+    rho_c = np.array([layer.material.density * layer.material.specific_heat for layer in scenario.layers])[grid.layer_index]
+    heat_frac = np.array([layer.material.heat_fraction for layer in scenario.layers])[grid.layer_index]
+    mode = HEAT_OFF if not heat.enabled else (HEAT_CN if heat.scheme == "crank-nicolson" else HEAT_TRBDF2)
+    T_ref = heat.reference_temperature if heat.enabled else heat.ambient_temperature
+    T0 = np.full(grid.dz.size, scenario.protocol[0].ambient_top if heat.enabled else T_ref)
+    if mode == HEAT_CN:
+        rate = np.max(k_cond / (rho_c * grid.dz**2))
+        fourier = float(schedule.seg_dt.max() * rate)
+        if fourier > 50.0:
+            raise ActsimInputError(
+                f"time.step: {schedule.seg_dt.max():g} s is {fourier:.3g} cell diffusion times, too long for heat.scheme = "
+                f"'crank-nicolson' (allowed <= 50, i.e. step <= {50.0 / float(rate):.3g} s); use heat.scheme = 'tr-bdf2' (L-stable)"
+            )
+    return HeatParams(mode=mode, k_cond=k_cond, rho_c=rho_c, heat_frac=heat_frac, T_ref=float(T_ref), T0=T0)
+
+
+@njit(cache=True)
+def heat_source(absorbed, beam_emol, dz, heat_frac, out):
+    """Absorbed optical power turned into heat, per unit volume, into ``out`` [W m-3].
+
+    .. math:: q_i = f_{heat,i} \\sum_b a_{i,b} E_{mol,b} / \\Delta z_i
+
+    Parameters
+    ----------
+    absorbed : numpy.ndarray, shape (n_cell, n_beam)
+        Photon flux absorbed per cell [mol m-2 s-1].
+    beam_emol : numpy.ndarray, shape (n_beam,)
+        Molar photon energy of each beam [J mol-1].
+    dz : numpy.ndarray, shape (n_cell,)
+        Cell widths [m].
+    heat_frac : numpy.ndarray, shape (n_cell,)
+        Fraction turned into heat [1].
+    out : numpy.ndarray, shape (n_cell,)
+        Output [W m-3].
+    """
+    n_cell, n_beam = absorbed.shape
+    for i in range(n_cell):
+        p = 0.0
+        for b in range(n_beam):
+            p += absorbed[i, b] * beam_emol[b]
+        out[i] = heat_frac[i] * p / dz[i]
 
 
 def make_work(n: int) -> np.ndarray:
@@ -422,13 +507,33 @@ def solve_factored(fac, rhs, out):
 
 @njit(cache=True)
 def conduction_theta_factored(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, Tb, Tt, theta, fac, rhs, out):
-    """:func:`conduction_theta` with the matrix already factored for ``theta * dt`` (``fac``); ``rhs`` is scratch.
+    r"""Theta-method heat step with precomputed conductances and the matrix factored for ``theta * dt``.
+
+    .. math:: (C + \theta\Delta t A)\,T^{n+1} = (C - (1-\theta)\Delta t A)\,T^n
+       + \Delta t\,[\theta b^{n+1} + (1-\theta) b^n]
 
     Parameters
     ----------
-    T, cap, dz, g_int, gb, gt, q_old, q_new, dt, Tb, Tt, theta, out : see :func:`conduction_theta`
-        [K], [J/(m^2 K)], [m], [W/(m^2 K)], [W/(m^2 K)], [W/(m^2 K)], [W/m^3], [W/m^3], [s], [K], [K],
-        [dimensionless], [K].
+    T : ndarray, shape (n,)
+        Temperatures at the start of the step [K].
+    cap : ndarray, shape (n,)
+        Heat capacity per unit area of each cell, rho c dz [J/(m^2 K)].
+    dz : ndarray, shape (n,)
+        Cell widths [m].
+    g_int : ndarray, shape (n-1,)
+        Interior conductances (:func:`interior_conductances`) [W/(m^2 K)].
+    gb, gt : float
+        Face conductances (:func:`face_conductance`) [W/(m^2 K)].
+    q_old, q_new : ndarray, shape (n,)
+        Heat source at the start and end of the step [W/m^3].
+    dt : float
+        Step [s].
+    Tb, Tt : float
+        Ambient temperatures below and above [K].
+    theta : float
+        Implicitness, 0.5 Crank–Nicolson, 1 backward Euler [dimensionless].
+    out : ndarray, shape (n,)
+        Receives the new temperatures; may be ``T`` [K].
     fac : ndarray, shape (3, n)
         :func:`factor_conduction` of coef = theta * dt [dimensionless].
     rhs : ndarray, shape (n,)
@@ -462,57 +567,12 @@ def conduction_theta_factored(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, Tb, T
 
 
 @njit(cache=True)
-def conduction_theta(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, Tb, Tt, theta, work, out):
-    r"""Theta-method heat step with precomputed conductances (the core of :func:`theta_step`).
-
-    .. math:: (C + \theta\Delta t A)\,T^{n+1} = (C - (1-\theta)\Delta t A)\,T^n
-       + \Delta t\,[\theta b^{n+1} + (1-\theta) b^n]
-
-    Parameters
-    ----------
-    T : ndarray, shape (n,)
-        Temperatures at the start of the step [K].
-    cap : ndarray, shape (n,)
-        Heat capacity per unit area of each cell, rho c dz [J/(m^2 K)].
-    dz : ndarray, shape (n,)
-        Cell widths [m].
-    g_int : ndarray, shape (n-1,)
-        Interior conductances (:func:`interior_conductances`) [W/(m^2 K)].
-    gb, gt : float
-        Face conductances (:func:`face_conductance`) [W/(m^2 K)].
-    q_old, q_new : ndarray, shape (n,)
-        Heat source at the start and end of the step [W/m^3].
-    dt : float
-        Step [s].
-    Tb, Tt : float
-        Ambient temperatures below and above [K].
-    theta : float
-        Implicitness, 0.5 Crank–Nicolson, 1 backward Euler [dimensionless].
-    work : ndarray, shape (6, n)
-        Scratch [dimensionless].
-    out : ndarray, shape (n,)
-        Receives the new temperatures; may be ``T`` [K].
-
-    Returns
-    -------
-    (loss_bottom, loss_top) : float
-        Heat lost through each face over the step, with the scheme's own quadrature [J/m^2].
-    """
-    factor_conduction(cap, g_int, gb, gt, theta * dt, work[0:3])
-    return conduction_theta_factored(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, Tb, Tt, theta, work[0:3], work[3], out)
-
-
-#: TR-BDF2 stage fraction gamma = 2 - sqrt(2): both stages then share the matrix C + (gamma dt / 2) A.
-TRBDF2_GAMMA = 2.0 - math.sqrt(2.0)
-
-
-@njit(cache=True)
 def conduction_trbdf2_factored(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, Tb, Tt, fac, work, out):
-    """:func:`conduction_trbdf2` with the shared matrix already factored for gamma dt / 2 (``fac``).
+    """TR-BDF2 heat step (:func:`trbdf2_step`) with the shared matrix already factored for gamma dt / 2 (``fac``).
 
     Parameters
     ----------
-    T, cap, dz, g_int, gb, gt, q_old, q_new, dt, Tb, Tt, out : see :func:`conduction_trbdf2`
+    T, cap, dz, g_int, gb, gt, q_old, q_new, dt, Tb, Tt, out : see :func:`conduction_theta_factored`
         [K], [J/(m^2 K)], [m], [W/(m^2 K)], [W/(m^2 K)], [W/(m^2 K)], [W/m^3], [W/m^3], [s], [K], [K], [K].
     fac : ndarray, shape (3, n)
         :func:`factor_conduction` of coef = gamma dt / 2 [dimensionless].
@@ -543,45 +603,6 @@ def conduction_trbdf2_factored(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, Tb, 
     lb1 = gb * (out[0] - Tb)
     lt1 = gt * (out[n - 1] - Tt)
     return a_g * eb1 + d * dt * lb1, a_g * et1 + d * dt * lt1
-
-
-@njit(cache=True)
-def conduction_trbdf2(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, Tb, Tt, work, out):
-    r"""TR-BDF2 heat step (gamma = 2 - sqrt 2) with precomputed conductances (the core of :func:`trbdf2_step`).
-
-    A trapezoid stage to :math:`t + \gamma\Delta t`, then a BDF2 stage to :math:`t + \Delta t`;
-    L-stable and second order (Hosea and Shampine, Appl. Numer. Math. 20 (1996) 21).
-
-    Parameters
-    ----------
-    T : ndarray, shape (n,)
-        Temperatures at the start of the step [K].
-    cap : ndarray, shape (n,)
-        rho c dz of each cell [J/(m^2 K)].
-    dz : ndarray, shape (n,)
-        Cell widths [m].
-    g_int : ndarray, shape (n-1,)
-        Interior conductances [W/(m^2 K)].
-    gb, gt : float
-        Face conductances [W/(m^2 K)].
-    q_old, q_new : ndarray, shape (n,)
-        Heat source at the start and end of the step [W/m^3].
-    dt : float
-        Step [s].
-    Tb, Tt : float
-        Ambient temperatures below and above [K].
-    work : ndarray, shape (6, n)
-        Scratch [dimensionless].
-    out : ndarray, shape (n,)
-        Receives the new temperatures [K].
-
-    Returns
-    -------
-    (loss_bottom, loss_top) : float
-        Heat lost through each face over the step [J/m^2].
-    """
-    factor_conduction(cap, g_int, gb, gt, 0.5 * TRBDF2_GAMMA * dt, work[0:3])
-    return conduction_trbdf2_factored(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, Tb, Tt, work[0:3], work, out)
 
 
 @njit(cache=True)
@@ -641,7 +662,9 @@ def theta_step(T, dz, k, rho_c, q_old, q_new, dt, h_bottom, T_amb_bottom, h_top,
     interior_conductances(dz, k, g_int)
     gb = face_conductance(h_bottom, dz[0], k[0])
     gt = face_conductance(h_top, dz[n - 1], k[n - 1])
-    return conduction_theta(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, T_amb_bottom, T_amb_top, theta, work, out)
+    factor_conduction(cap, g_int, gb, gt, theta * dt, work[0:3])
+    return conduction_theta_factored(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, T_amb_bottom, T_amb_top, theta,
+                                     work[0:3], work[3], out)
 
 
 @njit(cache=True)
@@ -767,7 +790,9 @@ def trbdf2_step(T, dz, k, rho_c, q_old, q_new, dt, h_bottom, T_amb_bottom, h_top
     interior_conductances(dz, k, g_int)
     gb = face_conductance(h_bottom, dz[0], k[0])
     gt = face_conductance(h_top, dz[n - 1], k[n - 1])
-    return conduction_trbdf2(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, T_amb_bottom, T_amb_top, work, out)
+    factor_conduction(cap, g_int, gb, gt, 0.5 * TRBDF2_GAMMA * dt, work[0:3])
+    return conduction_trbdf2_factored(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, T_amb_bottom, T_amb_top,
+                                      work[0:3], work, out)
 
 
 @njit(cache=True)
@@ -1128,229 +1153,6 @@ def march_conduction(
     return ConductionResult(time=t, temperature=T, absorbed=absorbed, stored=stored, lost_bottom=e_b, lost_top=e_t)
 
 
-# ----------------------------------------------------------------------------------------------
-# material laws
-# ----------------------------------------------------------------------------------------------
-
-
-def _finite_array(value, *, field, unit, lo=None, lo_open=False):
-    arr = np.asarray(value, dtype=np.float64)
-    flat = arr.reshape(-1)
-    bad = ~np.isfinite(flat)
-    if bad.any():
-        i = int(np.flatnonzero(bad)[0])
-        raise ActsimInputError(f"{field}: {flat[i]!r} is not finite (unit {unit})")
-    if lo is not None and flat.size:
-        viol = flat <= lo if lo_open else flat < lo
-        if viol.any():
-            i = int(np.flatnonzero(viol)[0])
-            check_range(float(flat[i]), field=field, unit=unit, lo=lo, lo_open=lo_open)
-    return arr
-
-
-def _scalar_out(arr):
-    return float(arr) if np.ndim(arr) == 0 else arr
-
-
-@njit(cache=True)
-def glass_transition_modulus_nb(temperature, glassy_modulus, rubbery_modulus, glass_transition_temperature, transition_width):
-    """Scalar numba version of :func:`glass_transition_modulus` (no checks) [Pa].
-
-    Parameters
-    ----------
-    temperature : float
-        [K].
-    glassy_modulus, rubbery_modulus : float
-        Plateaus below and above the transition, > 0 [Pa].
-    glass_transition_temperature : float
-        Midpoint of the step [K].
-    transition_width : float
-        Width w, > 0 [K].
-    """
-    s = 0.5 * (1.0 - math.tanh(0.5 * (temperature - glass_transition_temperature) / transition_width))
-    return rubbery_modulus * math.exp(s * math.log(glassy_modulus / rubbery_modulus))
-
-
-def glass_transition_modulus(
-    *, temperature, glassy_modulus, rubbery_modulus, glass_transition_temperature, transition_width
-):
-    r"""Modulus through the glass transition: a smooth step in :math:`\ln E` between glassy and rubbery.
-
-    .. math::
-
-       \ln E(T) = \ln E_r + \frac{\ln E_g - \ln E_r}{1 + \exp\left((T - T_g)/w\right)},
-       \qquad\text{i.e.}\qquad E = E_r\,(E_g/E_r)^{s(T)},\; s = \tfrac12\left[1 - \tanh\tfrac{T-T_g}{2w}\right]
-
-    Parameters
-    ----------
-    temperature : float or array_like
-        [K].
-    glassy_modulus : float
-        Plateau below the transition, > 0 [Pa].
-    rubbery_modulus : float
-        Plateau above the transition, > 0 [Pa].
-    glass_transition_temperature : float
-        Midpoint of the step, > 0 [K].
-    transition_width : float
-        Width w, > 0; E moves from 73 % to 27 % of the way (in log) over :math:`T_g \pm w`, and is within
-        about 1 % of each plateau (in log) 4.6 w away from :math:`T_g` [K].
-
-    Returns
-    -------
-    float or ndarray
-        Modulus [Pa]; :math:`\sqrt{E_g E_r}` at :math:`T = T_g`.
-
-    Notes
-    -----
-    Common practice, no source: a logistic step is the usual smooth fit to a DMA storage-modulus curve.
-    The step is taken in :math:`\ln E` (not in E) because the modulus falls by two to three decades through
-    the transition and DMA curves look symmetric on a log axis; a step in E would leave E several times the
-    rubbery plateau well above :math:`T_g`. The form is a fit, not a viscoelastic model: it has no rate or
-    frequency dependence.
-
-    References
-    ----------
-    J. D. Ferry, *Viscoelastic Properties of Polymers*, 3rd ed., Wiley, 1980 (shape of modulus vs
-    temperature curves; the formula itself is common practice, no source).
-    """
-    for name, v, unit in (
-        ("transition_width", transition_width, "K"),
-        ("glassy_modulus", glassy_modulus, "Pa"),
-        ("rubbery_modulus", rubbery_modulus, "Pa"),
-        ("glass_transition_temperature", glass_transition_temperature, "K"),
-    ):
-        if not math.isfinite(float(v)):
-            raise ActsimInputError(f"{name}: {v!r} is not finite ({unit}, > 0)")
-        check_range(float(v), field=name, unit=unit, lo=0.0, lo_open=True)
-    T = _finite_array(temperature, field="temperature", unit="K", lo=0.0, lo_open=True)
-    s = 0.5 * (1.0 - np.tanh(0.5 * (T - glass_transition_temperature) / transition_width))
-    return _scalar_out(rubbery_modulus * np.exp(s * math.log(glassy_modulus / rubbery_modulus)))
-
-
-@njit(cache=True)
-def tabulated_modulus_nb(temperature, table_T, log_table_E):
-    """Scalar numba version of :func:`tabulated_modulus`; takes ``log(table_E)`` (precompute it) [Pa].
-
-    Parameters
-    ----------
-    temperature : float
-        [K].
-    table_T : ndarray, shape (m,)
-        Strictly increasing table temperatures [K].
-    log_table_E : ndarray, shape (m,)
-        Natural logarithm of the moduli at ``table_T``, ln(E / 1 Pa) [1].
-    """
-    m = table_T.shape[0]
-    if temperature <= table_T[0]:
-        return math.exp(log_table_E[0])
-    if temperature >= table_T[m - 1]:
-        return math.exp(log_table_E[m - 1])
-    lo = 0
-    hi = m - 1
-    while hi - lo > 1:  # bisection for table_T[lo] <= T < table_T[hi]
-        mid = (lo + hi) // 2
-        if table_T[mid] <= temperature:
-            lo = mid
-        else:
-            hi = mid
-    f = (temperature - table_T[lo]) / (table_T[hi] - table_T[lo])
-    return math.exp(log_table_E[lo] + f * (log_table_E[hi] - log_table_E[lo]))
-
-
-def tabulated_modulus(*, temperature, table_T, table_E):
-    r"""Modulus from a DMA-style table, interpolated linearly in :math:`\ln E`, clamped at the ends.
-
-    .. math::
-
-       \ln E(T) = \ln E_j + \frac{T - T_j}{T_{j+1} - T_j}\,(\ln E_{j+1} - \ln E_j),\qquad T_j \le T \le T_{j+1}
-
-    Parameters
-    ----------
-    temperature : float or array_like
-        [K].
-    table_T : array_like, shape (m,)
-        Strictly increasing table temperatures, m >= 1 [K].
-    table_E : array_like, shape (m,)
-        Moduli at ``table_T``, > 0 [Pa].
-
-    Returns
-    -------
-    float or ndarray
-        Modulus [Pa]. Below ``table_T[0]`` it is ``table_E[0]``, above ``table_T[-1]`` it is
-        ``table_E[-1]``: the table is not extrapolated (check that it spans the temperatures reached).
-
-    Notes
-    -----
-    Interpolating in :math:`\ln E` keeps E positive and follows the near-exponential fall of the modulus
-    between table points through the transition (common practice, no source).
-
-    References
-    ----------
-    Common practice, no source.
-    """
-    tT = _finite_array(table_T, field="table_T", unit="K", lo=0.0, lo_open=True).reshape(-1)
-    tE = _finite_array(table_E, field="table_E", unit="Pa", lo=0.0, lo_open=True).reshape(-1)
-    if tT.size == 0:
-        raise ActsimInputError("table_T: the table is empty; give at least one temperature in K")
-    if tE.size != tT.size:
-        raise ActsimInputError(f"table_E: has {tE.size} values but table_T has {tT.size}; give one modulus in Pa per temperature")
-    if tT.size > 1 and np.any(np.diff(tT) <= 0):
-        i = int(np.flatnonzero(np.diff(tT) <= 0)[0]) + 1
-        raise ActsimInputError(f"table_T[{i}]: {tT[i]:g} K is not above table_T[{i - 1}] = {tT[i - 1]:g} K (must increase)")
-    T = _finite_array(temperature, field="temperature", unit="K", lo=0.0, lo_open=True)
-    return _scalar_out(np.exp(np.interp(T, tT, np.log(tE))))
-
-
-@njit(cache=True)
-def arrhenius_rate_nb(temperature, pre_factor, activation_energy):
-    """Scalar numba version of :func:`arrhenius_rate` (no checks) [unit of pre_factor].
-
-    Parameters
-    ----------
-    temperature : float
-        > 0 [K].
-    pre_factor : float
-        A [1/s] (or any rate unit; the result has the same).
-    activation_energy : float
-        E_a [J/mol].
-    """
-    return pre_factor * math.exp(-activation_energy / (_R * temperature))
-
-
-def arrhenius_rate(*, temperature, pre_factor, activation_energy):
-    r"""Arrhenius rate constant.
-
-    .. math::
-
-       k(T) = A\,\exp\left(-\frac{E_a}{R\,T}\right)
-
-    Parameters
-    ----------
-    temperature : float or array_like
-        > 0 [K].
-    pre_factor : float
-        A, >= 0, in the unit of the rate (1/s for a first-order step) [1/s].
-    activation_energy : float
-        E_a, >= 0 [J/mol].
-
-    Returns
-    -------
-    float or ndarray
-        Rate constant [1/s] (the unit of ``pre_factor``).
-
-    References
-    ----------
-    S. Arrhenius, "Über die Reaktionsgeschwindigkeit bei der Inversion von Rohrzucker durch Säuren",
-    Z. Phys. Chem. 4, 226-248, 1889. R from CODATA 2018 via ``scipy.constants.R``.
-    """
-    for name, v, unit in (("pre_factor", pre_factor, "1/s"), ("activation_energy", activation_energy, "J/mol")):
-        if not math.isfinite(float(v)):
-            raise ActsimInputError(f"{name}: {v!r} is not finite ({unit}, >= 0)")
-        check_range(float(v), field=name, unit=unit, lo=0.0)
-    T = _finite_array(temperature, field="temperature", unit="K", lo=0.0, lo_open=True)
-    return _scalar_out(pre_factor * np.exp(-activation_energy / (_R * T)))
-
-
 @njit(cache=True)
 def linearised_radiation_coefficient_nb(emissivity, ambient_temperature):
     """Scalar numba version of :func:`linearised_radiation_coefficient` (no checks) [W/(m^2 K)].
@@ -1399,8 +1201,8 @@ def linearised_radiation_coefficient(*, emissivity, ambient_temperature):
     (radiation heat transfer coefficient; from memory). sigma from CODATA via
     ``scipy.constants.Stefan_Boltzmann``.
     """
-    eps = _finite_array(emissivity, field="emissivity", unit="1", lo=0.0)
+    eps = finite_array(emissivity, field="emissivity", unit="1", lo=0.0)
     if np.any(eps > 1.0):
         check_range(float(np.max(eps)), field="emissivity", unit="1", lo=0.0, hi=1.0)
-    Ta = _finite_array(ambient_temperature, field="ambient_temperature", unit="K", lo=0.0, lo_open=True)
-    return _scalar_out(4.0 * eps * _STEFAN_BOLTZMANN * Ta**3)
+    Ta = finite_array(ambient_temperature, field="ambient_temperature", unit="K", lo=0.0, lo_open=True)
+    return scalar_or_array(4.0 * eps * _STEFAN_BOLTZMANN * Ta**3)

@@ -11,6 +11,7 @@ import functools
 import math
 import re
 
+import numpy as np
 import pint
 
 from .errors import ActsimInputError
@@ -168,3 +169,38 @@ def check_range(value: float, *, field: str, unit: str, lo=None, hi=None, lo_ope
         unit_txt = "" if unit in ("", "1") else f" {unit}"
         raise ActsimInputError(f"{field}: {shown_value} is outside the allowed range ({allowed}{unit_txt})")
     return value
+
+
+def finite_array(value, *, field, unit, lo=None, lo_open=False):
+    """``value`` as a float64 array, refusing non-finite entries and (optionally) entries below ``lo``.
+
+    Parameters
+    ----------
+    value : float or array_like
+        In SI units.
+    field : str
+        Name shown in the one-line error.
+    unit : str
+        SI unit shown in the error.
+    lo : float, optional
+        Lowest allowed value (excluded when ``lo_open``).
+    lo_open : bool
+        Whether ``lo`` itself is refused.
+    """
+    arr = np.asarray(value, dtype=np.float64)
+    flat = arr.reshape(-1)
+    bad = ~np.isfinite(flat)
+    if bad.any():
+        i = int(np.flatnonzero(bad)[0])
+        raise ActsimInputError(f"{field}: {flat[i]!r} is not finite (unit {unit})")
+    if lo is not None and flat.size:
+        viol = flat <= lo if lo_open else flat < lo
+        if viol.any():
+            i = int(np.flatnonzero(viol)[0])
+            check_range(float(flat[i]), field=field, unit=unit, lo=lo, lo_open=lo_open)
+    return arr
+
+
+def scalar_or_array(arr):
+    """A Python float for a 0-d result, else the array unchanged."""
+    return float(arr) if np.ndim(arr) == 0 else arr

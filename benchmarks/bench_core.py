@@ -80,7 +80,7 @@ def main():
     actsim.simulate(sc)
     t_kernel = best_of(lambda: run_kernel(p))
     t_sim = best_of(lambda: actsim.simulate(sc))
-    x = run_kernel(p)["x"]
+    x = run_kernel(p).x
     exact = closed_form_cell_average(T_END)
     err_kernel = float(np.max(np.abs((1 - x[-1]) - exact)))
     print(f"design: {CELLS} cells, {STEPS} steps, one 365 nm line, bleaching front")

@@ -50,8 +50,8 @@ def test_raw_outputs_bitwise_equal_single_kernel(designs):
     assert (o["bad"] == -1).all()
     for k, p in enumerate(problems):
         ref = run_kernel(p)
-        for name, arr in ref.items():
-            assert np.array_equal(o[name][k], arr), name  # bitwise
+        for name, arr in ref._asdict().items():
+            assert np.array_equal(getattr(o["out"], name)[k], arr), name  # bitwise
 
 
 def test_metrics_equal_simulate(designs):

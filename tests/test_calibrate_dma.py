@@ -23,7 +23,7 @@ def test_smooth_step_limits_and_midpoint():
 
 def test_log_step_matches_thermal_module():
     # The simulator's glass-transition model (actsim.thermal) must mean the same parameters.
-    from actsim.thermal import glass_transition_modulus
+    from actsim.material import glass_transition_modulus
 
     ref = glass_transition_modulus(temperature=T, glassy_modulus=2e9, rubbery_modulus=5e6,
                                    glass_transition_temperature=340.0, transition_width=6.0)

@@ -27,7 +27,10 @@ MODULES = (
     "actsim.optics",
     "actsim.kinetics",
     "actsim.mechanics",
-    "actsim.network",
+    "actsim.material",
+    "actsim.grid",
+    "actsim.schedule",
+    "actsim.reference",
     "actsim.spectra",
     "actsim.thermal",
     "actsim.elastica",
@@ -43,10 +46,13 @@ ALLOWED = {
     ("actsim.shape_memory", "shape_memory_cycles", "protocol"): "a sequence of Step dataclasses, SI by construction",
     ("actsim.metrics", "first_crossing_time", "values"): "unit-generic signal: any unit, compared by magnitude",
     ("actsim.metrics", "first_crossing_time", "level"): "unit-generic: in the unit of `values`",
+    ("actsim.metrics", "first_crossing_times", "values"): "unit-generic signal: any unit, compared by magnitude",
+    ("actsim.metrics", "first_crossing_times", "levels"): "unit-generic: in the unit of `values`",
 }
 
 _UNIT = re.compile(r"(?<![\w\]])\[[^\[\]]+\]")  # "[m]", "[W/(m^2 K)]"; not an index such as "x[i]"
 _NOT_PHYSICAL = re.compile(r"\b(bool|str|int|dimensionless|unitless)\b", re.I)
+_PROJECT_OBJECT = re.compile(r"^(actsim\.[\w.]+|Schedule|callable|numpy dtype)$")
 _ENTRY = re.compile(r"^(\*{0,2}[A-Za-z_]\w*(?:\s*,\s*\*{0,2}[A-Za-z_]\w*)*)\s*(?::\s*(.*))?$")
 
 
@@ -130,6 +136,8 @@ def _offenders():
             text = f"{typ} {desc}"
             if _UNIT.search(text) or _NOT_PHYSICAL.search(typ) or _NOT_PHYSICAL.search(desc):
                 continue
+            if _PROJECT_OBJECT.match(typ.strip()):
+                continue  # a project object (scenario, grid, a stage's parameters): its fields carry their units
             for n in names:
                 bad.append((modname, name, n))
     return bad

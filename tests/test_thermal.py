@@ -24,6 +24,8 @@ from scipy.optimize import brentq
 from scipy.special import erfc
 
 from actsim import thermal as th
+from actsim.kinetics import arrhenius_rate_nb
+from actsim.material import glass_transition_modulus_nb
 from actsim.errors import ActsimInputError
 
 # An invented polymer: k = 0.2 W/(m K), rho*c = 1.5e6 J/(m^3 K) (typical of polymers, from memory).
@@ -141,7 +143,7 @@ def _kernel_loop(T, dz, k, rc, q, dt, nsteps, hb, tb, ht, tt, use_trbdf2):
         lost += eb + et
         T[:] = out
     lb, lt = th.face_heat_loss(T, dz, k, hb, tb, ht, tt)
-    e = th.arrhenius_rate_nb(T[0], 1e3, 5e4) + th.glass_transition_modulus_nb(T[0], 2e9, 2e6, 330.0, 4.0)
+    e = arrhenius_rate_nb(T[0], 1e3, 5e4) + glass_transition_modulus_nb(T[0], 2e9, 2e6, 330.0, 4.0)
     return lost, lb + lt, e
 
 
@@ -461,77 +463,6 @@ def test_crank_nicolson_rings_trbdf2_does_not():
 # ------------------------------------------------------------------------------------------------
 # material laws
 # ------------------------------------------------------------------------------------------------
-
-
-def test_arrhenius_ratio_and_gas_constant():
-    A, Ea = 1.0e9, 80e3
-    T1, T2 = 300.0, 330.0
-    k1 = th.arrhenius_rate(temperature=T1, pre_factor=A, activation_energy=Ea)
-    k2 = th.arrhenius_rate(temperature=T2, pre_factor=A, activation_energy=Ea)
-    # [Arr]: k2/k1 = exp(-Ea/R (1/T2 - 1/T1))
-    assert k2 / k1 == pytest.approx(math.exp(-Ea / R * (1 / T2 - 1 / T1)), rel=1e-13)
-    assert R == pytest.approx(8.314462618, rel=1e-10)  # CODATA 2018 exact value of R (from memory)
-    assert th.arrhenius_rate_nb(T2, A, Ea) == pytest.approx(k2, rel=1e-14)
-    arr = th.arrhenius_rate(temperature=np.array([T1, T2]), pre_factor=A, activation_energy=Ea)
-    np.testing.assert_allclose(arr, [k1, k2], rtol=1e-15)
-    with pytest.raises(ActsimInputError, match="^temperature"):
-        th.arrhenius_rate(temperature=-5.0, pre_factor=A, activation_energy=Ea)
-
-
-def test_glass_transition_step_limits_and_midpoint():
-    Eg, Er, Tg, w = 2.5e9, 3.0e6, 340.0, 5.0
-    kw = dict(glassy_modulus=Eg, rubbery_modulus=Er, glass_transition_temperature=Tg, transition_width=w)
-    # Properties of the chosen smooth step in ln E (common practice, no source): plateaus far from Tg,
-    # geometric mean at Tg, symmetric in ln E about Tg, monotone.
-    assert th.glass_transition_modulus(temperature=Tg - 40 * w, **kw) == pytest.approx(Eg, rel=1e-12)
-    assert th.glass_transition_modulus(temperature=Tg + 40 * w, **kw) == pytest.approx(Er, rel=1e-12)
-    assert th.glass_transition_modulus(temperature=Tg, **kw) == pytest.approx(math.sqrt(Eg * Er), rel=1e-14)
-    lo = th.glass_transition_modulus(temperature=Tg - 7.0, **kw)
-    hi = th.glass_transition_modulus(temperature=Tg + 7.0, **kw)
-    assert lo * hi == pytest.approx(Eg * Er, rel=1e-12)
-    T = np.linspace(250, 450, 201)
-    E = th.glass_transition_modulus(temperature=T, **kw)
-    assert np.all(np.diff(E) < 0)
-    # the logistic form quoted in the docstring
-    np.testing.assert_allclose(np.log(E), np.log(Er) + (np.log(Eg) - np.log(Er)) / (1 + np.exp((T - Tg) / w)), rtol=1e-14)
-    assert th.glass_transition_modulus_nb(Tg + 3.0, Eg, Er, Tg, w) == pytest.approx(
-        th.glass_transition_modulus(temperature=Tg + 3.0, **kw), rel=1e-14
-    )
-
-
-@pytest.mark.parametrize("width", [0.0, -2.0])
-def test_glass_transition_width_must_be_positive(width):
-    with pytest.raises(ActsimInputError) as info:
-        th.glass_transition_modulus(
-            temperature=300.0, glassy_modulus=2e9, rubbery_modulus=2e6, glass_transition_temperature=330.0,
-            transition_width=width,
-        )
-    msg = str(info.value)
-    assert msg.startswith("transition_width") and "\n" not in msg and "K" in msg
-
-
-def test_tabulated_modulus_log_linear_and_clamped():
-    table_T = np.array([280.0, 310.0, 330.0, 350.0, 380.0])
-    table_E = np.array([2.8e9, 2.2e9, 4.0e8, 2.0e7, 1.2e7])
-    T = np.linspace(260, 400, 57)
-    E = th.tabulated_modulus(temperature=T, table_T=table_T, table_E=table_E)
-    # reference library: scipy interp1d on ln E, constant beyond the ends
-    ref = np.exp(interp1d(table_T, np.log(table_E), bounds_error=False, fill_value=(np.log(2.8e9), np.log(1.2e7)))(T))
-    np.testing.assert_allclose(E, ref, rtol=1e-13)
-    np.testing.assert_allclose(th.tabulated_modulus(temperature=table_T, table_T=table_T, table_E=table_E), table_E, rtol=1e-14)
-    # midway between two points: geometric mean
-    assert th.tabulated_modulus(temperature=340.0, table_T=table_T, table_E=table_E) == pytest.approx(
-        math.sqrt(4.0e8 * 2.0e7), rel=1e-13
-    )
-    log_E = np.log(table_E)
-    for Ti in (250.0, 280.0, 300.0, 349.0, 380.0, 500.0):
-        assert th.tabulated_modulus_nb(Ti, table_T, log_E) == pytest.approx(
-            th.tabulated_modulus(temperature=Ti, table_T=table_T, table_E=table_E), rel=1e-13
-        )
-    with pytest.raises(ActsimInputError, match=r"^table_T\[2\]"):
-        th.tabulated_modulus(temperature=300.0, table_T=[280.0, 310.0, 305.0], table_E=[1e9, 1e8, 1e7])
-    with pytest.raises(ActsimInputError, match="^table_E"):
-        th.tabulated_modulus(temperature=300.0, table_T=[280.0, 310.0], table_E=[1e9, -1e8])
 
 
 def test_linearised_radiation_coefficient():

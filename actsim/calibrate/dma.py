@@ -96,7 +96,7 @@ def smooth_step_log_modulus(temperature, *, glassy_modulus, rubbery_modulus, gla
 
         \\ln E(T) = \\ln E_r + \\frac{\\ln E_g - \\ln E_r}{1 + \\exp\\left((T - T_g)/w\\right)}
 
-    Same formula as :func:`actsim.thermal.glass_transition_modulus` (checked in the tests), so
+    Same formula as :func:`actsim.material.glass_transition_modulus` (checked in the tests), so
     parameters fitted with ``step="log"`` can go straight into a scenario.
 
     References
@@ -207,7 +207,7 @@ def fit_dma(data, *, step="log", temperature_unit=None, modulus_unit=None, initi
         modulus [Pa] unless units are given).
     step : {"log", "linear"}
         ``"log"`` (default): :func:`smooth_step_log_modulus`, the step in log E that
-        :func:`actsim.thermal.glass_transition_modulus` uses, so the fitted parameters mean the
+        :func:`actsim.material.glass_transition_modulus` uses, so the fitted parameters mean the
         same in the simulator. ``"linear"``: :func:`smooth_step_modulus`, the step in E itself.
         The two give different Tg and width for the same data.
     temperature_unit, modulus_unit : str, optional

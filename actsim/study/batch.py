@@ -8,9 +8,9 @@ of a group through :func:`actsim._kernels.run_design` inside ONE
 single-design kernel itself, so a design computed in a batch is bitwise the
 design computed alone.
 
-:func:`batch_metrics` then reduces the raw outputs of a group with numpy,
-vectorised over designs, using the same section integrals and formulas as
-:func:`actsim.solver.assemble_dataset` (:mod:`actsim.mechanics`):
+:func:`batch_metrics` then reduces the raw outputs of a group with the same
+:mod:`actsim.mechanics`, :mod:`actsim.metrics` and :mod:`actsim.schedule`
+functions as :func:`actsim.solver.assemble_dataset`, vectorised over designs:
 
 .. math:: A = \\int E\\,dz,\\; B = \\int E z\\,dz,\\; D = \\int E z^2\\,dz,\\;
    \\kappa_{free} = \\frac{B N^* - A M^*}{A D - B^2},\\;
@@ -39,66 +39,43 @@ import numba
 import numpy as np
 from numba import njit, prange
 
-from .._kernels import run_design
+from .. import mechanics
+from .._kernels import RawOutput, allocate_output, design_slice, output_slice, run_design
 from ..errors import ActsimSimulationError
-from ..solver import FIELDS, Problem, _allocate
-
-#: Problem fields in the order of the arguments of :func:`actsim._kernels.run_design`.
-KERNEL_ARGS = (
-    "z_edges", "dz", "c0", "eps_a", "eps_b", "alpha_bg", "phi_f", "phi_b", "k_th", "e_act", "beam_from_top",
-    "beam_entry", "beam_emol", "heat_mode", "k_cond", "rho_c", "heat_frac", "T_ref",
-    "mod_kind", "mod_base", "mod_ratio", "sec_fac", "gl", "tab_idx", "tab_T", "tab_logE", "network_mod",
-    "photo_strain", "alpha_th", "step_flux", "step_hold", "step_value", "step_env", "seg_step", "seg_dt",
-    "seg_n", "x0", "T0",
-)
-
-#: Output arrays of :func:`actsim._kernels.run_design`, in the order of its arguments
-#: (as :func:`actsim.solver.run_kernel` passes them).
-OUTPUT_ORDER = ("x", "T", "S", "E", "Ee", "mech", "irr", "pabs", "budget", "energy")
+from ..metrics import first_crossing_times
+from ..schedule import incident_dose
+from ..solver import Problem
 
 #: Raw output fields kept for every design (the others go to per-thread scratch unless ``full``).
-KEPT_FIELDS = ("E", "Ee", "T")
+KEPT_FIELDS = ("E", "Ee", "T", "mech", "budget", "energy")
 
 
 @njit(parallel=True, cache=True)
-def batch_kernel(z_edges, dz, c0, eps_a, eps_b, alpha_bg, phi_f, phi_b, k_ref, e_act, from_top, entry, beam_emol,
-                 heat_mode, k_cond, rho_c, heat_frac, T_ref,
-                 mod_kind, mod_base, mod_ratio, sec_fac, gl, tab_idx, tab_T, tab_logE, network_mod, photo_strain,
-                 alpha_th, step_flux, step_hold, step_value, step_env, seg_step, seg_dt, seg_n, x0, T0,
-                 out_x, out_T, out_S, out_E, out_Ee, out_mech, out_irr, out_pabs, out_budget, out_energy, bad):
+def batch_kernel(grid, light, photo, heat, mat, protocol, out, bad):
     """March every design of a stacked group through its protocol, in parallel over designs.
 
-    Every input has a leading design axis (``heat_mode`` and ``T_ref`` are
-    arrays of one value per design). An output whose leading axis is shorter
-    than the number of designs is per-thread scratch: design ``d`` writes into
-    slot ``numba.get_thread_id()`` (overwritten by the next design on that
+    Every field of every parameter object has a leading design axis (scalars
+    such as ``heat.mode`` become arrays of one value per design). An output
+    field whose leading axis is shorter than the number of designs is
+    per-thread scratch: design ``d`` writes into row
+    ``numba.get_thread_id()`` (overwritten by the next design on that
     thread). ``bad[d]`` receives the return value of ``run_design``.
+
+    (The schedule is named ``protocol`` here: numba's parallel loop lowering
+    uses the name ``sched`` for its own iteration schedule.)
     """
-    n_design = z_edges.shape[0]
-    for d in prange(n_design):
+    n = bad.size
+    for d in prange(n):
         di = np.int64(d)
         tid = np.int64(numba.get_thread_id())
-        ix = di if out_x.shape[0] == n_design else tid
-        iT = di if out_T.shape[0] == n_design else tid
-        iS = di if out_S.shape[0] == n_design else tid
-        iE = di if out_E.shape[0] == n_design else tid
-        iEe = di if out_Ee.shape[0] == n_design else tid
-        ii = di if out_irr.shape[0] == n_design else tid
-        ip = di if out_pabs.shape[0] == n_design else tid
-        bad[d] = run_design(
-            z_edges[d], dz[d], c0[d], eps_a[d], eps_b[d], alpha_bg[d], phi_f[d], phi_b[d], k_ref[d], e_act[d],
-            from_top[d], entry[d], beam_emol[d], heat_mode[d], k_cond[d], rho_c[d], heat_frac[d], T_ref[d],
-            mod_kind[d], mod_base[d], mod_ratio[d], sec_fac[d], gl[d], tab_idx[d], tab_T[d], tab_logE[d],
-            network_mod[d], photo_strain[d], alpha_th[d], step_flux[d], step_hold[d], step_value[d], step_env[d],
-            seg_step[d], seg_dt[d], seg_n[d], x0[d], T0[d],
-            out_x[ix], out_T[iT], out_S[iS], out_E[iE], out_Ee[iEe], out_mech[d], out_irr[ii], out_pabs[ip],
-            out_budget[d], out_energy[d],
-        )
+        bad[di] = run_design(design_slice(grid, di), design_slice(light, di), design_slice(photo, di),
+                             design_slice(heat, di), design_slice(mat, di), design_slice(protocol, di),
+                             output_slice(out, di, tid, n))
 
 
 def shape_key(p: Problem) -> tuple:
     """Designs with equal keys stack into one group (same shape of every kernel array)."""
-    return tuple(np.shape(getattr(p, name)) for name in KERNEL_ARGS) + (p.times.shape,)
+    return tuple(np.shape(v) for params in p.kernel_inputs() for v in params)
 
 
 def group_problems(problems) -> list[list[int]]:
@@ -109,18 +86,14 @@ def group_problems(problems) -> list[list[int]]:
     return list(groups.values())
 
 
-def stack_problems(problems) -> dict:
-    """Stacked kernel inputs (leading design axis) of problems of one shape group."""
-    out = {}
-    for name in KERNEL_ARGS:
-        vals = [getattr(p, name) for p in problems]
-        if name == "heat_mode":
-            out[name] = np.array(vals, np.int64)
-        elif name == "T_ref":
-            out[name] = np.array(vals, float)
-        else:
-            out[name] = np.ascontiguousarray(np.stack(vals))
-    return out
+def stack_problems(problems) -> tuple:
+    """The kernel inputs of problems of one shape group, every field stacked along a leading design axis."""
+    stacked = []
+    for k, first in enumerate(problems[0].kernel_inputs()):
+        fields = [np.ascontiguousarray(np.stack([np.asarray(p.kernel_inputs()[k][f]) for p in problems]))
+                  for f in range(len(first))]
+        stacked.append(type(first)(*fields))
+    return tuple(stacked)
 
 
 def run_group(problems, *, full=False) -> dict:
@@ -133,56 +106,25 @@ def run_group(problems, *, full=False) -> dict:
     full : bool
         Keep every raw field for every design (as :func:`actsim.solver.run_kernel`
         returns them); otherwise ``x``, ``S``, ``irr`` and ``pabs`` go to
-        per-thread scratch and only ``E``, ``Ee``, ``T``, ``mech``, ``budget`` are kept.
+        per-thread scratch and only :data:`KEPT_FIELDS` are kept.
 
     Returns
     -------
     dict
-        Raw outputs with a leading design axis, and ``bad`` (n_design,): -1 for
-        a finite design, else the first segment that went non-finite.
+        ``out`` (:class:`actsim._kernels.RawOutput` with a leading design axis),
+        ``bad`` (n_design,): -1 for a finite design, else the first segment
+        that went non-finite, and ``stacked`` (the stacked kernel inputs).
     """
-    s = stack_problems(problems)
+    stacked = stack_problems(problems)
     n_design = len(problems)
-    n_out, n_cell = problems[0].times.size, problems[0].dz.size
     n_scratch = numba.get_num_threads()
-    o = {}
-    for name in FIELDS:
-        lead = n_design if (full or name in KEPT_FIELDS) else n_scratch
-        o[name] = np.zeros((lead, n_out, n_cell))
-    single = _allocate(problems[0])
-    missing = set(single) ^ set(OUTPUT_ORDER)
-    if missing:
-        raise RuntimeError(f"actsim.study.batch is out of step with actsim.solver._allocate (outputs {sorted(missing)})")
-    for name in OUTPUT_ORDER:
-        if name not in FIELDS:
-            o[name] = np.zeros((n_design,) + single[name].shape)
+    lead = {name: n_design if (full or name in KEPT_FIELDS) else n_scratch for name in RawOutput._fields}
+    out = allocate_output(problems[0].times.size, problems[0].grid.dz.size, lead)
     bad = np.full(n_design, -1, np.int64)
-    batch_kernel(*(s[name] for name in KERNEL_ARGS), *(o[name] for name in OUTPUT_ORDER), bad)
+    batch_kernel(*stacked, out, bad)
     if not full:
-        for name in FIELDS:
-            if name not in KEPT_FIELDS:
-                del o[name]
-    o["bad"] = bad
-    o["stacked"] = s
-    return o
-
-
-def _first_crossing(times, values, level):
-    """Vectorised :func:`actsim.metrics.first_crossing_time` over a leading design axis (NaN: not reached)."""
-    v = np.abs(values)
-    lv = np.abs(level)[:, None]
-    hit = v >= lv
-    any_hit = hit.any(axis=1)
-    i = np.argmax(hit, axis=1)
-    rows = np.arange(v.shape[0])
-    im = np.maximum(i - 1, 0)
-    t0, t1 = times[rows, im], times[rows, i]
-    v0, v1 = v[rows, im], v[rows, i]
-    lvl = lv[:, 0]
-    with np.errstate(invalid="ignore", divide="ignore"):
-        interp = np.where(v1 != v0, t0 + (lvl - v0) * (t1 - t0) / (v1 - v0), t1)
-    out = np.where(i == 0, times[rows, 0], interp)
-    return np.where(any_hit, out, np.nan)
+        out = out._replace(**{name: None for name in RawOutput._fields if lead[name] != n_design})
+    return {"out": out, "bad": bad, "stacked": stacked}
 
 
 def _at_peak(values):
@@ -235,41 +177,22 @@ def batch_metrics(problems, o, *, free_length, width, target_bend_angle=None, he
     -------
     (metrics, series) : dict of numpy.ndarray (n_design,), dict of numpy.ndarray (n_design, n_time) or None
     """
-    from .. import mechanics
-
     n = len(problems)
     L = np.asarray(free_length, float).reshape(n)
     b = np.asarray(width, float).reshape(n)
-    s = o["stacked"]
-    z_edges = s["z_edges"]
+    out = o["out"]
+    z_edges = o["stacked"][0].z_edges
     times = np.stack([p.times for p in problems])
-    E, Ee = o["E"], o["Ee"]
-    e_star = Ee / E
-    # section integrals exactly as mechanics.section_integrals, stacked over designs
-    z0, z1 = z_edges[:, :-1], z_edges[:, 1:]
-    w1 = (z1 - z0)[..., None]
-    w2 = (0.5 * (z1**2 - z0**2))[..., None]
-    w3 = ((z1**3 - z0**3) / 3.0)[..., None]
-    est = E * e_star
-    A = np.matmul(E, w1)[..., 0]
-    B = np.matmul(E, w2)[..., 0]
-    D = np.matmul(E, w3)[..., 0]
-    Ns = np.matmul(est, w1)[..., 0]
-    Ms = np.matmul(est, w2)[..., 0]
-    det = A * D - B**2
-    kappa_free = (B * Ns - A * Ms) / det
-    d_eff = det / A
-    kappa = o["mech"][:, :, 1]
+    E = out.E
+    _, kappa_free, d_eff = mechanics.free_strip_response(z_edges=z_edges, modulus=E, eigenstrain=out.Ee / E)
+    kappa = out.mech[:, :, 1]
     theta = kappa * L[:, None]
     m_block = mechanics.blocked_moment(bending_stiffness=d_eff, curvature=kappa_free, width=b[:, None])
-    f_block = 1.5 * (b[:, None] * d_eff) * kappa_free / L[:, None]
+    f_block = mechanics.blocked_tip_force(bending_stiffness=d_eff, curvature=kappa_free, width=b[:, None],
+                                          free_length=L[:, None])
     _, y_tip = mechanics.arc_tip_position(curvature=kappa, free_length=L[:, None])
     _, y_free = mechanics.arc_tip_position(curvature=kappa_free, free_length=L[:, None])
-    # incident radiant exposure, as assemble_dataset (piecewise-constant power per segment)
-    dose = np.zeros_like(theta)
-    for k, p in enumerate(problems):
-        seg_power = p.step_irradiance.sum(axis=1)[p.seg_step]
-        dose[k] = np.concatenate([[0.0], np.cumsum(seg_power * np.diff(p.times))])
+    dose = np.stack([incident_dose(p.schedule) for p in problems])
     rows = np.arange(n)
     peak_theta, ipk = _at_peak(theta)
     peak_force, ifk = _at_peak(f_block)
@@ -280,7 +203,7 @@ def batch_metrics(problems, o, *, free_length, width, target_bend_angle=None, he
     with np.errstate(invalid="ignore", divide="ignore"):
         eff = np.where(energy_at_peak > 0, work / energy_at_peak, 0.0)
     heat = np.zeros(n, bool) if heat is None else np.asarray(heat, bool).reshape(n)
-    t_max = o["T"].max(axis=2)
+    t_max = out.T.max(axis=2)
     peak_T = np.where(heat, t_max.max(axis=1), np.nan)
     m = {
         "final_bend_angle": theta[:, -1],
@@ -293,13 +216,13 @@ def batch_metrics(problems, o, *, free_length, width, target_bend_angle=None, he
         "peak_temperature": peak_T,
         "optical_dose": dose[:, -1],
         "optical_energy": dose[:, -1] * L * b,
-        "peak_optical_power": np.array([p.step_irradiance.sum(axis=1).max() for p in problems]) * L * b,
+        "peak_optical_power": np.array([p.schedule.step_irradiance.sum(axis=1).max() for p in problems]) * L * b,
         "mechanical_work": work,
         "efficiency": eff,
     }
     if target_bend_angle is not None:
         tgt = np.broadcast_to(np.asarray(target_bend_angle, float), (n,))
-        tt = _first_crossing(times, theta, tgt)
+        tt = first_crossing_times(times, theta, tgt)
         m["time_to_target"] = tt
         m["reached_target"] = np.isfinite(tt)
         f_at = np.full(n, np.nan)
@@ -367,7 +290,7 @@ def run_batch(problems, *, free_length, width, target_bend_angle=None, heat=None
             p = grp[k]
             seg = int(o["bad"][k])
             raise ActsimSimulationError(
-                f"design {idx[k]}: non-finite state at t = {p.times[seg + 1]:g} s (step {p.seg_step[seg] + 1})"
+                f"design {idx[k]}: non-finite state at t = {p.times[seg + 1]:g} s (step {p.schedule.seg_step[seg] + 1})"
             )
         m, ser = batch_metrics(grp, o, free_length=L[idx], width=b[idx],
                                target_bend_angle=None if tgt is None else tgt[idx], heat=heat_arr[idx],
@@ -437,5 +360,5 @@ step = "0.25 s"
     return time.perf_counter() - t0
 
 
-__all__ = ["KERNEL_ARGS", "batch_kernel", "batch_metrics", "group_problems", "run_batch", "run_group",
+__all__ = ["batch_kernel", "batch_metrics", "group_problems", "run_batch", "run_group",
            "shape_key", "stack_problems", "warm_up"]

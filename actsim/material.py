@@ -1,0 +1,526 @@
+"""Material-state stage: modulus E(z) and eigenstrain e*(z) of each cell.
+
+This module owns the material laws (modulus against conversion and
+temperature: linear in conversion, glass transition, DMA table), the
+two-network model of a light-formed network, the stage's parameters
+(:class:`MaterialParams`) and its kernel steps.
+
+The modulus is linear in conversion between the reactant and product moduli,
+and the photo-induced eigenstrain is proportional to conversion:
+
+.. math:: E = E_A + (E_B - E_A)\\,x, \\qquad e^* = \\varepsilon_{ph}\\, x
+
+For the wide-plate section (plane strain across the width) the plane-strain
+modulus :math:`E/(1-\\nu^2)` is used; the eigenstrain acts along the strip's
+length only (an aligned, uniaxial photo-strain). For an in-plane isotropic
+eigenstrain under plane strain, multiply the photo-strain by :math:`1+\\nu`; the
+solver does this for the (isotropic) thermal strain.
+
+References
+----------
+.. [1] Timoshenko, S. and Woinowsky-Krieger, S. Theory of Plates and Shells,
+   2nd ed., McGraw-Hill 1959, ch. 1 (cylindrical bending, plane-strain modulus).
+"""
+
+from __future__ import annotations
+
+import math
+from typing import NamedTuple
+
+import numpy as np
+from numba import njit
+
+from .errors import ActsimInputError
+from .units import check_range, finite_array, scalar_or_array
+
+MODULUS_CONSTANT = 0
+MODULUS_GLASS = 1
+MODULUS_TABLE = 2
+
+
+class MaterialParams(NamedTuple):
+    """What the material-state stage needs of one design, SI.
+
+    Attributes
+    ----------
+    mod_kind : numpy.ndarray of int64, shape (n_cell,)
+        Modulus law of each cell: MODULUS_CONSTANT, MODULUS_GLASS or MODULUS_TABLE.
+    mod_base : numpy.ndarray, shape (n_cell,)
+        Reactant-form modulus of a constant law [Pa].
+    mod_ratio : numpy.ndarray, shape (n_cell,)
+        E_B / E_A, product over reactant modulus [1].
+    sec_fac : numpy.ndarray, shape (n_cell,)
+        1 (beam) or 1/(1 - nu^2) (plate) [1].
+    gl : numpy.ndarray, shape (n_cell, 4)
+        Glass-transition law: glassy [Pa], rubbery [Pa], Tg [K], width [K].
+    tab_idx : numpy.ndarray of int64, shape (n_cell,)
+        Row of the modulus table of each cell.
+    tab_T, tab_logE : numpy.ndarray, shape (n_table, m)
+        Table temperatures [K] and ln(E / 1 Pa), padded to one length (the lookup clamps at the ends).
+    network_mod : numpy.ndarray, shape (n_cell,)
+        Section modulus of the fully formed light network [Pa] (0: none).
+    photo_strain : numpy.ndarray, shape (n_cell,)
+        Eigenstrain at full conversion [1].
+    alpha_th : numpy.ndarray, shape (n_cell,)
+        Thermal expansion along the strip, (1 + nu) alpha for the plate [K-1] (0 without heat).
+    """
+
+    mod_kind: np.ndarray
+    mod_base: np.ndarray
+    mod_ratio: np.ndarray
+    sec_fac: np.ndarray
+    gl: np.ndarray
+    tab_idx: np.ndarray
+    tab_T: np.ndarray
+    tab_logE: np.ndarray
+    network_mod: np.ndarray
+    photo_strain: np.ndarray
+    alpha_th: np.ndarray
+
+
+def material_params(scenario, grid) -> MaterialParams:
+    """Modulus laws, section factors, photo-strain, network modulus and thermal expansion of every cell.
+
+    Parameters
+    ----------
+    scenario : actsim.scenario.Scenario
+        The validated scenario (SI).
+    grid : actsim.grid.Grid
+        The cell grid.
+    """
+    n_cell = grid.dz.size
+    heat_on = scenario.heat.enabled
+    strain = np.zeros(n_cell)
+    alpha_th = np.zeros(n_cell)
+    mod_kind = np.zeros(n_cell, np.int64)
+    mod_base = np.zeros(n_cell)
+    mod_ratio = np.ones(n_cell)
+    sec_fac = np.ones(n_cell)
+    gl = np.ones((n_cell, 4))
+    tab_idx = np.zeros(n_cell, np.int64)
+    tables = []
+    network_mod = np.zeros(n_cell)
+    for li, layer in enumerate(scenario.layers):
+        m = layer.material
+        sel = grid.layer_index == li
+        if m.is_active:
+            strain[sel] = m.photo_strain
+        sec_fac[sel] = section_modulus(modulus=1.0, poisson_ratio=m.poisson_ratio, section=scenario.strip.section)
+        mod_ratio[sel] = m.product_modulus_ratio
+        law = m.temperature_modulus
+        if law is None:
+            mod_base[sel] = m.modulus
+        elif law[0] == "glass":
+            mod_kind[sel] = MODULUS_GLASS
+            gl[sel] = law[1:5]
+        else:
+            mod_kind[sel] = MODULUS_TABLE
+            tab_idx[sel] = len(tables)
+            tables.append((law[1], law[2]))
+        network_mod[sel] = sec_fac[sel] * m.network_modulus
+        # thermal strain is isotropic: under plane strain across the width (plate) it acts as (1 + nu) alpha dT
+        # along the strip with the plane-strain modulus (Timoshenko and Woinowsky-Krieger 1959, sec. 14)
+        plate_factor = (1.0 + m.poisson_ratio) if scenario.strip.section == "plate" else 1.0
+        alpha_th[sel] = plate_factor * m.thermal_expansion if heat_on else 0.0
+    # DMA-style tables, padded to one length by repeating the last point (the lookup clamps at the ends)
+    m_len = max([len(t[0]) for t in tables], default=1)
+    tab_T = np.zeros((max(len(tables), 1), m_len))
+    tab_logE = np.zeros((max(len(tables), 1), m_len))
+    for j, (tt, ee) in enumerate(tables):
+        pad = m_len - len(tt)
+        tab_T[j] = np.concatenate([tt, tt[-1] + np.arange(1, pad + 1)])
+        tab_logE[j] = np.log(np.concatenate([ee, np.full(pad, ee[-1])]))
+    return MaterialParams(mod_kind=mod_kind, mod_base=mod_base, mod_ratio=mod_ratio, sec_fac=sec_fac, gl=gl,
+                          tab_idx=tab_idx, tab_T=tab_T, tab_logE=tab_logE, network_mod=network_mod,
+                          photo_strain=strain, alpha_th=alpha_th)
+
+
+def primary_modulus(*, params: MaterialParams, conversion, temperature):
+    """Section modulus E_p of the primary network of every cell from the readable material laws [Pa].
+
+    .. math:: E_p = f_{sec}\\, E_A(T)\\,(1 + (E_B/E_A - 1)\\, x)
+
+    Parameters
+    ----------
+    params : actsim.material.MaterialParams
+        The design's material parameters.
+    conversion : numpy.ndarray, shape (n_cell,)
+        x [1].
+    temperature : numpy.ndarray, shape (n_cell,)
+        T [K].
+    """
+    p = params
+    base = p.mod_base.copy()
+    for i in np.nonzero(p.mod_kind == MODULUS_GLASS)[0]:
+        base[i] = glass_transition_modulus(
+            temperature=temperature[i], glassy_modulus=p.gl[i, 0], rubbery_modulus=p.gl[i, 1],
+            glass_transition_temperature=p.gl[i, 2], transition_width=p.gl[i, 3],
+        )
+    for i in np.nonzero(p.mod_kind == MODULUS_TABLE)[0]:
+        j = p.tab_idx[i]
+        base[i] = tabulated_modulus(temperature=temperature[i], table_T=p.tab_T[j], table_E=np.exp(p.tab_logE[j]))
+    return p.sec_fac * conversion_modulus(conversion=conversion, reactant_modulus=base, product_modulus=base * p.mod_ratio)
+
+
+def conversion_modulus(*, conversion, reactant_modulus, product_modulus):
+    """Young's modulus linear in conversion, E = E_A + (E_B - E_A) x.
+
+    Parameters
+    ----------
+    conversion : array_like
+        [1].
+    reactant_modulus, product_modulus : array_like
+        Moduli of the unconverted and fully converted material [Pa].
+
+    Returns
+    -------
+    numpy.ndarray
+        Modulus [Pa].
+    """
+    return reactant_modulus + (product_modulus - reactant_modulus) * np.asarray(conversion)
+
+
+def section_modulus(*, modulus, poisson_ratio, section):
+    """Modulus entering the beam solve: E (beam, plane stress) or E/(1 - nu^2) (plate, plane strain) [Pa].
+
+    Parameters
+    ----------
+    modulus : float or numpy.ndarray
+        Young's modulus E [Pa].
+    poisson_ratio : float or numpy.ndarray
+        Poisson's ratio nu, 0 <= nu < 0.5 [1].
+    section : str
+        ``"beam"`` (narrow strip, plane stress) or ``"plate"`` (wide strip, plane strain).
+
+    References
+    ----------
+    .. [1] Timoshenko, S. and Woinowsky-Krieger, S. Theory of Plates and Shells,
+       2nd ed., McGraw-Hill 1959, ch. 1.
+    """
+    if section == "plate":
+        return modulus / (1.0 - np.asarray(poisson_ratio) ** 2)
+    return modulus
+
+
+def photo_eigenstrain(*, conversion, photo_strain):
+    """Photo-induced eigenstrain e* = photo_strain * x [1] (negative: contraction).
+
+    Parameters
+    ----------
+    conversion : float or numpy.ndarray
+        Conversion x [1].
+    photo_strain : float or numpy.ndarray
+        Eigenstrain at full conversion [1].
+    """
+    return np.asarray(photo_strain) * np.asarray(conversion)
+
+
+def two_network_state(*, conversion, temperature, network_strain, primary_modulus, network_modulus, photo_strain,
+                      thermal_expansion, reference_temperature):
+    """Effective modulus and eigenstrain of the two-network model, per cell.
+
+    The primary network carries the photo-strain and the thermal strain; the
+    light-formed network of density n = x (its modulus at full conversion
+    :math:`E_n`) is stress-free at the strain it formed at, kept as the
+    network-weighted strain :math:`S` (forming dn at mechanical strain
+    :math:`e - e_{th}` adds :math:`(e - e_{th})\\,dn`, so new network is stress-free;
+    cleavage removes the same fraction of S). With
+    :math:`e_{th} = \\alpha_{th}(T - T_{ref})`,
+
+    .. math:: \\sigma = E_p (e - \\varepsilon_{ph} x - e_{th}) + E_n (x (e - e_{th}) - S)
+       = E (e - e^*),
+
+    .. math:: E = E_p + E_n x, \\qquad E e^* = E_p(\\varepsilon_{ph} x + e_{th}) + E_n (x e_{th} + S)
+
+    Parameters
+    ----------
+    conversion, temperature, network_strain : numpy.ndarray
+        x [1], T [K], S [1].
+    primary_modulus : numpy.ndarray
+        E_p, section modulus of the primary network at x and T [Pa].
+    network_modulus : numpy.ndarray
+        E_n, section modulus of the fully formed light network [Pa] (0: none).
+    photo_strain, thermal_expansion : numpy.ndarray
+        [1], [K-1].
+    reference_temperature : float
+        Zero of the thermal strain [K].
+
+    Returns
+    -------
+    (modulus, modulus_times_eigenstrain) : numpy.ndarray
+        E [Pa] and E e* [Pa].
+
+    References
+    ----------
+    .. [1] Long, K. N., Scott, T. F., Qi, H. J., Bowman, C. N. and Dunn, M. L.
+       "Photomechanics of light-activated polymers." J. Mech. Phys. Solids 57
+       (2009) 1103–1121.
+    .. [2] Lendlein, A., Jiang, H., Jünger, O. and Langer, R. "Light-induced
+       shape-memory polymers." Nature 434 (2005) 879–882.
+    """
+    x = np.asarray(conversion)
+    e_th = np.asarray(thermal_expansion) * (np.asarray(temperature) - reference_temperature)
+    modulus = primary_modulus + network_modulus * x
+    ee = primary_modulus * (photo_strain * x + e_th) + network_modulus * (x * e_th + network_strain)
+    return modulus, ee
+
+
+def update_network_strain(*, network_strain, conversion_old, conversion_new, strain):
+    """Network-weighted formation strain after one step.
+
+    Forming (dn > 0) at strain e adds e dn; cleaving (dn < 0) removes the
+    same fraction of S as of the network: S <- S x_new / x_old.
+
+    Parameters
+    ----------
+    network_strain : numpy.ndarray
+        S before the step [1].
+    conversion_old, conversion_new : numpy.ndarray
+        Network density (conversion) before and after [1].
+    strain : numpy.ndarray
+        Strain at which the new network forms (the step's midpoint strain) [1].
+    """
+    dn = conversion_new - conversion_old
+    safe = np.where(conversion_old > 0, conversion_old, 1.0)
+    cleaved = np.where(conversion_old > 0, network_strain * conversion_new / safe, network_strain)
+    return np.where(dn >= 0, network_strain + strain * dn, cleaved)
+
+
+@njit(cache=True)
+def glass_transition_modulus_nb(temperature, glassy_modulus, rubbery_modulus, glass_transition_temperature, transition_width):
+    """Scalar numba version of :func:`glass_transition_modulus` (no checks) [Pa].
+
+    Parameters
+    ----------
+    temperature : float
+        [K].
+    glassy_modulus, rubbery_modulus : float
+        Plateaus below and above the transition, > 0 [Pa].
+    glass_transition_temperature : float
+        Midpoint of the step [K].
+    transition_width : float
+        Width w, > 0 [K].
+    """
+    s = 0.5 * (1.0 - math.tanh(0.5 * (temperature - glass_transition_temperature) / transition_width))
+    return rubbery_modulus * math.exp(s * math.log(glassy_modulus / rubbery_modulus))
+
+
+def glass_transition_modulus(
+    *, temperature, glassy_modulus, rubbery_modulus, glass_transition_temperature, transition_width
+):
+    r"""Modulus through the glass transition: a smooth step in :math:`\ln E` between glassy and rubbery.
+
+    .. math::
+
+       \ln E(T) = \ln E_r + \frac{\ln E_g - \ln E_r}{1 + \exp\left((T - T_g)/w\right)},
+       \qquad\text{i.e.}\qquad E = E_r\,(E_g/E_r)^{s(T)},\; s = \tfrac12\left[1 - \tanh\tfrac{T-T_g}{2w}\right]
+
+    Parameters
+    ----------
+    temperature : float or array_like
+        [K].
+    glassy_modulus : float
+        Plateau below the transition, > 0 [Pa].
+    rubbery_modulus : float
+        Plateau above the transition, > 0 [Pa].
+    glass_transition_temperature : float
+        Midpoint of the step, > 0 [K].
+    transition_width : float
+        Width w, > 0; E moves from 73 % to 27 % of the way (in log) over :math:`T_g \pm w`, and is within
+        about 1 % of each plateau (in log) 4.6 w away from :math:`T_g` [K].
+
+    Returns
+    -------
+    float or ndarray
+        Modulus [Pa]; :math:`\sqrt{E_g E_r}` at :math:`T = T_g`.
+
+    Notes
+    -----
+    Common practice, no source: a logistic step is the usual smooth fit to a DMA storage-modulus curve.
+    The step is taken in :math:`\ln E` (not in E) because the modulus falls by two to three decades through
+    the transition and DMA curves look symmetric on a log axis; a step in E would leave E several times the
+    rubbery plateau well above :math:`T_g`. The form is a fit, not a viscoelastic model: it has no rate or
+    frequency dependence.
+
+    References
+    ----------
+    J. D. Ferry, *Viscoelastic Properties of Polymers*, 3rd ed., Wiley, 1980 (shape of modulus vs
+    temperature curves; the formula itself is common practice, no source).
+    """
+    for name, v, unit in (
+        ("transition_width", transition_width, "K"),
+        ("glassy_modulus", glassy_modulus, "Pa"),
+        ("rubbery_modulus", rubbery_modulus, "Pa"),
+        ("glass_transition_temperature", glass_transition_temperature, "K"),
+    ):
+        if not math.isfinite(float(v)):
+            raise ActsimInputError(f"{name}: {v!r} is not finite ({unit}, > 0)")
+        check_range(float(v), field=name, unit=unit, lo=0.0, lo_open=True)
+    T = finite_array(temperature, field="temperature", unit="K", lo=0.0, lo_open=True)
+    s = 0.5 * (1.0 - np.tanh(0.5 * (T - glass_transition_temperature) / transition_width))
+    return scalar_or_array(rubbery_modulus * np.exp(s * math.log(glassy_modulus / rubbery_modulus)))
+
+
+@njit(cache=True)
+def tabulated_modulus_nb(temperature, table_T, log_table_E):
+    """Scalar numba version of :func:`tabulated_modulus`; takes ``log(table_E)`` (precompute it) [Pa].
+
+    Parameters
+    ----------
+    temperature : float
+        [K].
+    table_T : ndarray, shape (m,)
+        Strictly increasing table temperatures [K].
+    log_table_E : ndarray, shape (m,)
+        Natural logarithm of the moduli at ``table_T``, ln(E / 1 Pa) [1].
+    """
+    m = table_T.shape[0]
+    if temperature <= table_T[0]:
+        return math.exp(log_table_E[0])
+    if temperature >= table_T[m - 1]:
+        return math.exp(log_table_E[m - 1])
+    lo = 0
+    hi = m - 1
+    while hi - lo > 1:  # bisection for table_T[lo] <= T < table_T[hi]
+        mid = (lo + hi) // 2
+        if table_T[mid] <= temperature:
+            lo = mid
+        else:
+            hi = mid
+    f = (temperature - table_T[lo]) / (table_T[hi] - table_T[lo])
+    return math.exp(log_table_E[lo] + f * (log_table_E[hi] - log_table_E[lo]))
+
+
+def tabulated_modulus(*, temperature, table_T, table_E):
+    r"""Modulus from a DMA-style table, interpolated linearly in :math:`\ln E`, clamped at the ends.
+
+    .. math::
+
+       \ln E(T) = \ln E_j + \frac{T - T_j}{T_{j+1} - T_j}\,(\ln E_{j+1} - \ln E_j),\qquad T_j \le T \le T_{j+1}
+
+    Parameters
+    ----------
+    temperature : float or array_like
+        [K].
+    table_T : array_like, shape (m,)
+        Strictly increasing table temperatures, m >= 1 [K].
+    table_E : array_like, shape (m,)
+        Moduli at ``table_T``, > 0 [Pa].
+
+    Returns
+    -------
+    float or ndarray
+        Modulus [Pa]. Below ``table_T[0]`` it is ``table_E[0]``, above ``table_T[-1]`` it is
+        ``table_E[-1]``: the table is not extrapolated (check that it spans the temperatures reached).
+
+    Notes
+    -----
+    Interpolating in :math:`\ln E` keeps E positive and follows the near-exponential fall of the modulus
+    between table points through the transition (common practice, no source).
+
+    References
+    ----------
+    Common practice, no source.
+    """
+    tT = finite_array(table_T, field="table_T", unit="K", lo=0.0, lo_open=True).reshape(-1)
+    tE = finite_array(table_E, field="table_E", unit="Pa", lo=0.0, lo_open=True).reshape(-1)
+    if tT.size == 0:
+        raise ActsimInputError("table_T: the table is empty; give at least one temperature in K")
+    if tE.size != tT.size:
+        raise ActsimInputError(f"table_E: has {tE.size} values but table_T has {tT.size}; give one modulus in Pa per temperature")
+    if tT.size > 1 and np.any(np.diff(tT) <= 0):
+        i = int(np.flatnonzero(np.diff(tT) <= 0)[0]) + 1
+        raise ActsimInputError(f"table_T[{i}]: {tT[i]:g} K is not above table_T[{i - 1}] = {tT[i - 1]:g} K (must increase)")
+    T = finite_array(temperature, field="temperature", unit="K", lo=0.0, lo_open=True)
+    return scalar_or_array(np.exp(np.interp(T, tT, np.log(tE))))
+
+
+@njit(cache=True)
+def material_state(x, T, S, mat, T_ref, E_out, Ee_out):
+    """Kernel step of :func:`two_network_state` with :func:`primary_modulus`: E and E e* of each cell in place.
+
+    .. math:: E = E_p + E_n x, \\qquad E e^* = E_p (\\varepsilon_{ph} x + e_{th}) + E_n (x e_{th} + S)
+
+    Parameters
+    ----------
+    x, T, S : numpy.ndarray, shape (n_cell,)
+        Conversion [1], temperature [K], network-weighted formation strain [1].
+    mat : actsim.material.MaterialParams
+        The design's material parameters.
+    T_ref : float
+        Zero of the thermal strain [K].
+    E_out, Ee_out : numpy.ndarray, shape (n_cell,)
+        Outputs: E [Pa] and E e* [Pa].
+    """
+    for i in range(x.size):
+        kind = mat.mod_kind[i]
+        if kind == MODULUS_CONSTANT:
+            base = mat.mod_base[i]
+        elif kind == MODULUS_GLASS:
+            base = glass_transition_modulus_nb(T[i], mat.gl[i, 0], mat.gl[i, 1], mat.gl[i, 2], mat.gl[i, 3])
+        else:
+            j = mat.tab_idx[i]
+            base = tabulated_modulus_nb(T[i], mat.tab_T[j], mat.tab_logE[j])
+        e_p = mat.sec_fac[i] * base * (1.0 + (mat.mod_ratio[i] - 1.0) * x[i])
+        e_th = mat.alpha_th[i] * (T[i] - T_ref)
+        e_n = mat.network_mod[i]
+        E_out[i] = e_p + e_n * x[i]
+        Ee_out[i] = e_p * (mat.photo_strain[i] * x[i] + e_th) + e_n * (x[i] * e_th + S[i])
+
+
+@njit(cache=True)
+def mechanical_strain(z_edges, e0, kappa, alpha_th, T, T_ref, out):
+    """Strain at each cell centre less the thermal strain: what a network formed now remembers [1].
+
+    .. math:: e_{mech,i} = e_0 - \\kappa z_i - \\alpha_{th,i} (T_i - T_{ref})
+
+    Parameters
+    ----------
+    z_edges : numpy.ndarray, shape (n_cell + 1,)
+        Cell faces [m].
+    e0 : float
+        Strain at z = 0 [1].
+    kappa : float
+        Curvature [m-1].
+    alpha_th : numpy.ndarray, shape (n_cell,)
+        Thermal expansion along the strip [K-1].
+    T : numpy.ndarray, shape (n_cell,)
+        Temperature [K].
+    T_ref : float
+        Zero of the thermal strain [K].
+    out : numpy.ndarray, shape (n_cell,)
+        Output [1].
+    """
+    for i in range(out.size):
+        out[i] = e0 - kappa * 0.5 * (z_edges[i] + z_edges[i + 1]) - alpha_th[i] * (T[i] - T_ref)
+
+
+@njit(cache=True)
+def network_strain_update(S, x_old, x_new, strain, network_mod, out):
+    """Kernel step of :func:`update_network_strain` for the cells that carry a light network.
+
+    Forming (dn >= 0) at strain e adds e dn; cleaving removes the same fraction
+    of S as of the network. Cells without a network keep S.
+
+    Parameters
+    ----------
+    S : numpy.ndarray, shape (n_cell,)
+        Network-weighted formation strain before the step [1].
+    x_old, x_new : numpy.ndarray, shape (n_cell,)
+        Network density (conversion) before and after [1].
+    strain : numpy.ndarray, shape (n_cell,)
+        Mechanical strain at which new network forms [1].
+    network_mod : numpy.ndarray, shape (n_cell,)
+        Network modulus; cells with 0 are left alone [Pa].
+    out : numpy.ndarray, shape (n_cell,)
+        S after the step [1] (may be ``S`` itself).
+    """
+    for i in range(S.size):
+        s = S[i]
+        if network_mod[i] > 0.0:
+            dn = x_new[i] - x_old[i]
+            if dn >= 0.0:
+                s = S[i] + strain[i] * dn
+            elif x_old[i] > 0.0:
+                s = S[i] * (x_new[i] / x_old[i])
+        out[i] = s

@@ -1,0 +1,142 @@
+"""The readable time loop: the same scheme as the numba kernel, written with the stages' numpy functions.
+
+Slow; for tests (``tests/test_kernels.py`` compares it with
+:func:`actsim._kernels.run_design`) and for reading. Light by
+:func:`actsim.optics.light_field`, rates by
+:func:`actsim.kinetics.photoreaction_rates` and
+:func:`actsim.kinetics.arrhenius_shift`, the exact update by
+:func:`actsim.kinetics.exact_first_order_update`, heat by
+:func:`actsim.thermal.theta_step_reference` (Crank–Nicolson) or
+:func:`actsim.thermal.trbdf2_step`, the material state by
+:func:`actsim.material.primary_modulus` and
+:func:`actsim.material.two_network_state`, the section by
+:func:`actsim.mechanics.held_strip_response`.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from . import kinetics, material, mechanics, optics, thermal
+from .grid import cell_centres
+
+
+def run_reference(p):
+    """Run one design through its protocol with the readable stage functions.
+
+    Parameters
+    ----------
+    p : actsim.solver.Problem
+        The design.
+
+    Returns
+    -------
+    actsim._kernels.RawOutput
+    """
+    grid, light, photo, heat, mat, sched = p.kernel_inputs()
+    dz = grid.dz
+    o = p.allocate_output()
+
+    def light_at(x, q):
+        _, _, alpha = optics.absorption_coefficients(
+            conversion=x, concentration=light.c0, epsilon10_reactant=light.eps_a, epsilon10_product=light.eps_b,
+            background=light.alpha_bg,
+        )
+        return optics.light_field(alpha=alpha, dz=dz, surface_flux=q, entry_transmission=light.entry,
+                                  from_top=light.from_top)
+
+    def rate(mf, T):
+        k_th = kinetics.arrhenius_shift(rate_at_reference=photo.k_ref, activation_energy=photo.e_act, temperature=T,
+                                        reference_temperature=heat.T_ref)
+        return kinetics.photoreaction_rates(
+            mean_flux=mf, epsilon10_reactant=light.eps_a, epsilon10_product=light.eps_b, forward_yield=photo.phi_f,
+            backward_yield=photo.phi_b, thermal_rate=k_th,
+        )
+
+    def state(x, T, S):
+        return material.two_network_state(
+            conversion=x, temperature=T, network_strain=S,
+            primary_modulus=material.primary_modulus(params=mat, conversion=x, temperature=T),
+            network_modulus=mat.network_mod, photo_strain=mat.photo_strain, thermal_expansion=mat.alpha_th,
+            reference_temperature=heat.T_ref,
+        )
+
+    def mech(x, T, S, step):
+        E, Ee = state(x, T, S)
+        r = mechanics.held_strip_response(z_edges=grid.z_edges, modulus=E, eigenstrain=Ee / E,
+                                          hold=mechanics.HOLD_NAMES[int(sched.step_hold[step])],
+                                          value=sched.step_value[step])
+        return E, Ee, r
+
+    zc = cell_centres(grid.z_edges)
+
+    def heat_power(ab):
+        return heat.heat_frac * (ab @ light.beam_emol) / dz
+
+    def store(slot, x, T, S, step):
+        q = sched.step_flux[step]
+        mf, ab, tr = light_at(x, q)
+        E, Ee, r = mech(x, T, S, step)
+        for name, val in (("x", x), ("T", T), ("S", S), ("E", E), ("Ee", Ee)):
+            getattr(o, name)[slot] = val
+        o.irr[slot] = mf @ light.beam_emol
+        o.pabs[slot] = (ab @ light.beam_emol) / dz
+        o.mech[slot] = r
+        o.budget[slot] = [q.sum(), (q * (1 - light.entry)).sum(), ab.sum(), tr.sum()]
+
+    def mechanical_strain(r, T):
+        return r[0] - r[1] * zc - mat.alpha_th * (T - heat.T_ref)  # network formed now is stress-free
+
+    has_network = bool(np.any(mat.network_mod > 0))
+    on = mat.network_mod > 0
+    energy = np.zeros(3)  # heat absorbed, lost bottom, lost top [J m-2]
+    x, T, S = photo.x0.copy(), heat.T0.copy(), np.zeros_like(photo.x0)
+    store(0, x, T, S, sched.seg_step[0])
+    work = thermal.make_work(dz.size)
+    for s in range(sched.seg_step.size):
+        st = sched.seg_step[s]
+        q = sched.step_flux[st]
+        tb, hb, tt, ht = sched.step_env[st]
+        dt = sched.seg_dt[s]
+        if has_network:
+            _, _, r = mech(x, T, S, st)
+            e_start = mechanical_strain(r, T)
+        for _ in range(sched.seg_n[s]):
+            mf, ab, _ = light_at(x, q)
+            kf0, kb0 = rate(mf, T)
+            xp = kinetics.exact_first_order_update(conversion=x, k_forward=kf0, k_backward=kb0, dt=dt)
+            mf1, ab1, _ = light_at(xp, q)
+            if heat.mode == thermal.HEAT_CN:
+                Tn = thermal.theta_step_reference(
+                    temperature=T, dz=dz, conductivity=heat.k_cond, volumetric_heat_capacity=heat.rho_c,
+                    source_old=heat_power(ab), source_new=heat_power(ab1), dt=dt, h_bottom=hb, ambient_bottom=tb,
+                    h_top=ht, ambient_top=tt, theta=0.5,
+                )
+                # Crank–Nicolson's own quadrature of the face losses is the trapezoid rule
+                l0 = thermal.face_heat_loss(T, dz, heat.k_cond, hb, tb, ht, tt)
+                l1 = thermal.face_heat_loss(Tn, dz, heat.k_cond, hb, tb, ht, tt)
+                energy[1:] += 0.5 * dt * (np.array(l0) + np.array(l1))
+            elif heat.mode == thermal.HEAT_TRBDF2:
+                Tn = np.empty_like(T)
+                energy[1:] += thermal.trbdf2_step(T, dz, heat.k_cond, heat.rho_c, heat_power(ab), heat_power(ab1), dt,
+                                                  hb, tb, ht, tt, work, Tn)
+            else:
+                Tn = T
+            if heat.mode != thermal.HEAT_OFF:
+                energy[0] += 0.5 * dt * np.sum((heat_power(ab) + heat_power(ab1)) * dz)
+            kf1, kb1 = rate(mf1, Tn)
+            xn = kinetics.exact_first_order_update(conversion=x, k_forward=0.5 * (kf0 + kf1),
+                                                   k_backward=0.5 * (kb0 + kb1), dt=dt)
+            if has_network:
+                Sp = np.where(on, material.update_network_strain(network_strain=S, conversion_old=x, conversion_new=xn,
+                                                                 strain=e_start), S)
+                _, _, r = mech(xn, Tn, Sp, st)
+                e_end = mechanical_strain(r, Tn)
+                S = np.where(on, material.update_network_strain(network_strain=S, conversion_old=x, conversion_new=xn,
+                                                                strain=0.5 * (e_start + e_end)), S)
+                _, _, r = mech(xn, Tn, S, st)
+                e_start = mechanical_strain(r, Tn)
+            x, T = xn, Tn
+        store(s + 1, x, T, S, st)
+        o.energy[s + 1] = energy
+    return o
