@@ -24,7 +24,8 @@ from actsim.errors import ActsimInputError
 from actsim.metrics import summarize
 from actsim.scenario import apply_overrides, parse_scenario
 from actsim.study import tradeoff
-from actsim.study.sweep import lin, log, parse_values, sweep
+from actsim.study.sweep import sweep
+from actsim.study.values import lin, log, parse_values
 
 from conftest import film_toml
 
@@ -299,7 +300,7 @@ def test_resume_hash_covers_data_file_contents(tmp_path):
     import shutil
 
     from actsim.scenario import load_scenario
-    from actsim.study.sweep import data_file_digests, plan_sweep
+    from actsim.study.plan import data_file_digests, plan_sweep
 
     root = Path(__file__).resolve().parents[1] / "scenarios"
     shutil.copy(root / "microvalve_spectrum.toml", tmp_path / "valve.toml")

@@ -40,7 +40,7 @@ class _AxisAction(argparse.Action):
 
 def build_vary(items) -> dict:
     """The ``vary`` dict of :func:`actsim.study.sweep.sweep` from (--vary|--link, text) pairs."""
-    from ..study.sweep import parse_vary_option
+    from ..study.values import parse_vary_option
 
     vary: dict = {}
     last = None
@@ -70,7 +70,7 @@ def _quantity(text, option, kind):
 
 
 def _resolve_dim(ds, name, option):
-    from ..study.sweep import dim_name
+    from ..study.values import dim_name
 
     for cand in (name, dim_name(name)):
         if cand in ds.dims:
@@ -101,7 +101,7 @@ TARGET_METRICS = ("time_to_target", "reached_target", "blocked_force_at_target")
 
 def _check_heatmap(metric, *, n_dims, sampling, has_target):
     """One-line error unless a heat map of ``metric`` can be drawn for this sweep."""
-    from ..study.sweep import METRIC_INFO
+    from ..study.store import METRIC_INFO
 
     if metric not in METRIC_INFO:
         import difflib

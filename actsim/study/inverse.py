@@ -38,7 +38,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import ActsimError, ActsimInputError
-from .sweep import _format_value, _split_number_unit, si_of
+from .values import format_value, si_of, split_number_unit
 
 OBJECTIVES = ("power", "force")
 
@@ -53,7 +53,7 @@ class FreeField:
 
     def value(self, u):
         v = 10.0**u if self.log else u
-        return _format_value(min(max(v, self.lo), self.hi), self.unit)
+        return format_value(min(max(v, self.lo), self.hi), self.unit)
 
     @property
     def bounds(self):
@@ -72,8 +72,8 @@ def _free_fields(free) -> list[FreeField]:
             b = parts
         if len(b) != 2:
             raise ActsimInputError(f"free.{path}: bounds must be (low, high)")
-        lo, unit = _split_number_unit(b[0], path)
-        hi_v, hi_unit = _split_number_unit(b[1], path)
+        lo, unit = split_number_unit(b[0], path)
+        hi_v, hi_unit = split_number_unit(b[1], path)
         if unit or hi_unit:
             from ..units import Q_
 
@@ -233,7 +233,7 @@ def inverse_design(scenario, free, *, objective="power", target_bend_angle=None,
     # check the corners
     for ff in fields:
         for v in (ff.lo, ff.hi):
-            build_problem(apply_overrides(scenario, {ff.path: _format_value(v, ff.unit)}))
+            build_problem(apply_overrides(scenario, {ff.path: format_value(v, ff.unit)}))
 
     cache: dict = {}
     state = {"scale": None, "n": 0}
