@@ -112,12 +112,15 @@ def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set
     from .results import write_result_folder
     from .solver import simulate
 
+    from .patterned import mask_settings
+
     sc = load_with_overrides(scenario_path, set_items)
+    mask = mask_settings(sc)  # a bad [mask] is refused before the run
     ds = simulate(sc, engine=engine)
     summary = write_result_folder(ds, sc, out_dir, figures=figures)
     print(f"{sc.title}")
     print(summary_table(summary))
-    if "mask" in sc.extras:
+    if mask is not None:
         from .patterned import simulate_patterned, write_patterned
 
         pat = write_patterned(simulate_patterned(sc, engine=engine), out_dir, figures=figures)
@@ -139,11 +142,14 @@ def cmd_run(args):
     out = args.output or str(Path("actsim-out") / Path(args.scenario).stem)
     if args.uncertainty and args.uncertainty < 2:
         raise ActsimInputError(f"--uncertainty: {args.uncertainty} draws is too few (allowed >= 2)")
-    if args.uncertainty and "calibration" not in load_with_overrides(args.scenario, args.set).extras:
-        raise ActsimInputError(
-            "--uncertainty: the scenario has no [calibration] section to draw from; fit one with `actsim fit bend` "
-            "(see docs/calibration.md)"
-        )
+    if args.uncertainty:
+        from .calibrate.settings import calibration_settings
+
+        if calibration_settings(load_with_overrides(args.scenario, args.set)) is None:
+            raise ActsimInputError(
+                "--uncertainty: the scenario has no [calibration] section to draw from; fit one with `actsim fit bend` "
+                "(see docs/calibration.md)"
+            )
     status = _run_and_write(args.scenario, out, figures=not args.no_figures, engine=args.engine, set_items=args.set)
     if args.uncertainty:
         from .calibrate.uncertainty import run_uncertainty

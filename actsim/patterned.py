@@ -34,7 +34,7 @@ import xarray as xr
 
 from .errors import ActsimInputError
 
-__all__ = ["MaskRegion", "Mask", "parse_mask", "mask_segments", "piecewise_arc_shape", "simulate_patterned"]
+__all__ = ["MaskRegion", "Mask", "parse_mask", "mask_settings", "mask_segments", "piecewise_arc_shape", "simulate_patterned"]
 
 
 @dataclass(frozen=True)
@@ -74,17 +74,17 @@ def parse_mask(data, *, field: str = "mask", base_dir=None, scenario_info=None) 
     -------
     Mask
     """
-    from .scenario import _Table
+    from .schema import Table
 
     info = scenario_info or {}
     L = info.get("free_length")
-    t = _Table(data, field)
+    t = Table(data, field)
     raw = t.raw("regions")
     if not isinstance(raw, list) or not raw:
         raise ActsimInputError(f"{field}.regions: must be a non-empty list of {{ start, end, transmission }} tables")
     regions = []
     for i, d in enumerate(raw):
-        rt = _Table(d, f"{field}.regions[{i}]")
+        rt = Table(d, f"{field}.regions[{i}]")
         a = rt.quantity("start", "length", lo=0.0)
         hi = L if L is not None else None
         b = rt.quantity("end", "length", lo=0.0, hi=hi)
@@ -102,6 +102,28 @@ def parse_mask(data, *, field: str = "mask", base_dir=None, scenario_info=None) 
     out = t.number("outside_transmission", default=0.0, lo=0.0, hi=1.0)
     t.finish()
     return Mask(regions=tuple(regions), outside_transmission=out)
+
+
+def mask_settings(scenario) -> Mask | None:
+    """The scenario's ``[mask]`` section parsed by :func:`parse_mask`, or None without one.
+
+    Parameters
+    ----------
+    scenario : actsim.scenario.Scenario
+
+    Returns
+    -------
+    Mask or None
+        Parsed once per scenario object.
+
+    Raises
+    ------
+    ActsimInputError
+        A bad field of the section (one line), e.g. a region beyond the free length.
+    """
+    from .scenario import section_settings
+
+    return section_settings(scenario, "mask", parse_mask)
 
 
 def mask_segments(mask: Mask, *, free_length: float):
@@ -189,8 +211,8 @@ def piecewise_arc_shape(*, s_edges, curvature, s):
 
 def _scaled(scenario, level: float):
     steps = tuple(dataclasses.replace(st, irradiance=tuple(level * e for e in st.irradiance)) for st in scenario.protocol)
-    extras = {k: v for k, v in scenario.extras.items() if k != "mask"}
-    return scenario.replace(protocol=steps, extras=extras)
+    sections = {k: v for k, v in scenario.sections.items() if k != "mask"}
+    return scenario.replace(protocol=steps, sections=sections)
 
 
 def simulate_patterned(scenario, *, engine: str = "kernel", n_points: int = 201) -> xr.Dataset:
@@ -199,7 +221,7 @@ def simulate_patterned(scenario, *, engine: str = "kernel", n_points: int = 201)
     Parameters
     ----------
     scenario : actsim.scenario.Scenario
-        With a ``[mask]`` section (``scenario.extras["mask"]``).
+        With a ``[mask]`` section (read with :func:`mask_settings`).
     engine : {"kernel", "reference"}
         Passed to :func:`actsim.simulate`.
     n_points : int
@@ -233,7 +255,7 @@ def simulate_patterned(scenario, *, engine: str = "kernel", n_points: int = 201)
     """
     from .solver import simulate
 
-    mask = scenario.extras.get("mask")
+    mask = mask_settings(scenario)
     if mask is None:
         raise ActsimInputError("mask: the scenario has no [mask] section; add one with regions = [ { start, end, transmission } ]")
     if isinstance(n_points, bool) or not isinstance(n_points, (int, np.integer)) or n_points < 2:

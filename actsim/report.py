@@ -487,9 +487,9 @@ def _figures_section(out: Path) -> tuple[str, int]:
 
 def _fmt_check_quantity(x, unit) -> str:
     try:
-        from .checks.verdict import _fmt_quantity
+        from .checks.verdict import format_quantity
 
-        return _fmt_quantity(float(x), str(unit))
+        return format_quantity(float(x), str(unit))
     except Exception:  # formatting must never stop a report
         return f"{_num(x)} {unit}".strip()
 

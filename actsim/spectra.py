@@ -23,7 +23,6 @@ References
 
 from __future__ import annotations
 
-import csv
 import math
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -247,12 +246,12 @@ def tabulated_bands(*, wavelength, spectral_irradiance, n_bands, field_name="spe
     return np.array(centres), powers / powers.sum()
 
 
-def read_table_csv(path, *, field_name, value_unit_kind=None, default_value_unit=None):
+def read_table_csv(path, *, field_name, value_unit_kind=None):
     """Read a two-column CSV table (wavelength, value) with units in the header.
 
     The header names the units in brackets, e.g. ``wavelength [nm], epsilon10 [L/(mol*cm)]``.
     Lines starting with ``#`` are comments. Wavelengths must be strictly
-    increasing and values non-negative.
+    increasing and values non-negative. The file is read by :func:`actsim.tables.read_xy_csv`.
 
     Parameters
     ----------
@@ -261,84 +260,32 @@ def read_table_csv(path, *, field_name, value_unit_kind=None, default_value_unit
     field_name : str
         Scenario field that named the file (for error messages).
     value_unit_kind : str or None
-        Physical kind of the value column (a key of :data:`actsim.units.SI_UNITS`),
-        or None for a dimensionless column.
-    default_value_unit : str or None
-        Unit assumed for the value column when the header gives none
-        (only allowed for dimensionless or relative columns).
+        Physical kind of the value column (a key of :data:`actsim.units.SI_UNITS`:
+        ``"molar_absorptivity"``, ``"absorption_coefficient"``), or None for a dimensionless
+        column (unit ``[1]``, ``[%]``, ``[relative]``, ``[a.u.]`` or none).
 
     Returns
     -------
     (numpy.ndarray, numpy.ndarray)
         Wavelengths [m] and values in SI.
     """
-    from .units import Q_, SI_UNITS
+    from .tables import read_csv_table, read_xy_csv
+    from .units import SI_UNITS
 
     path = Path(path)
     if not path.is_file():
         raise ActsimInputError(f"{field_name}: spectrum file '{path}' does not exist")
-    rows = []
-    header = None
-    with open(path, newline="") as fh:
-        for lineno, row in enumerate(csv.reader(fh), start=1):
-            if not row or row[0].strip().startswith("#") or all(not c.strip() for c in row):
-                continue
-            if header is None:
-                header = [c.strip() for c in row]
-                continue
-            if len(row) < 2:
-                raise ActsimInputError(f"{field_name}: '{path.name}' line {lineno} has {len(row)} column(s), 2 needed")
-            try:
-                rows.append((float(row[0]), float(row[1])))
-            except ValueError:
-                raise ActsimInputError(
-                    f"{field_name}: '{path.name}' line {lineno} is not numeric: {','.join(row)!r}"
-                ) from None
-    if header is None or len(rows) < 2:
-        raise ActsimInputError(f"{field_name}: '{path.name}' needs a header line and at least 2 data rows")
-
-    def unit_of(col):
-        if "[" in col and col.endswith("]"):
-            return col[col.index("[") + 1 : -1].strip()
-        return None
-
-    lam_unit = unit_of(header[0])
-    if lam_unit is None:
-        raise ActsimInputError(
-            f"{field_name}: '{path.name}' header '{header[0]}' gives no unit; write e.g. 'wavelength [nm]'"
-        )
-    val_unit = unit_of(header[1]) if len(header) > 1 else None
-    data = np.array(rows)
     try:
-        lam = Q_(data[:, 0], lam_unit).to("m").magnitude
-    except Exception:
-        raise ActsimInputError(f"{field_name}: '{path.name}' wavelength unit [{lam_unit}] is not a length") from None
-    if value_unit_kind is None:
-        if val_unit not in (None, "", "1", "relative", "a.u."):
-            try:
-                values = Q_(data[:, 1], val_unit).to("dimensionless").magnitude
-            except Exception:
-                raise ActsimInputError(
-                    f"{field_name}: '{path.name}' value unit [{val_unit}] must be dimensionless"
-                ) from None
-        else:
-            values = data[:, 1]
-    else:
-        si_unit, example = SI_UNITS[value_unit_kind]
-        unit = val_unit or default_value_unit
-        if unit is None:
-            raise ActsimInputError(
-                f"{field_name}: '{path.name}' header '{header[1]}' gives no unit; write e.g. 'value [{example.split(' ', 1)[1]}]'"
-            )
-        try:
-            values = Q_(data[:, 1], unit).to(si_unit).magnitude
-        except Exception:
-            raise ActsimInputError(
-                f"{field_name}: '{path.name}' value unit [{unit}] is not a {value_unit_kind.replace('_', ' ')}"
-            ) from None
-    if not np.all(np.isfinite(lam)):
-        i = int(np.argmax(~np.isfinite(lam)))
-        raise ActsimInputError(f"{field_name}: '{path.name}' has a non-finite wavelength on data row {i + 1} (nan/inf)")
+        table = read_csv_table(path)
+        if table.units[0] is None:
+            raise ActsimInputError(f"'{path.name}' header '{table.header[0]}' gives no unit; write e.g. 'wavelength [nm]'")
+        if value_unit_kind is not None and len(table.header) > 1 and table.units[1] is None:
+            example = SI_UNITS[value_unit_kind][1].split(" ", 1)[1]
+            raise ActsimInputError(f"'{path.name}' header '{table.header[1]}' gives no unit; write e.g. 'value [{example}]'")
+        data = read_xy_csv(table, x_kind="wavelength", y_kind=value_unit_kind or "relative")
+    except ActsimInputError as exc:
+        raise ActsimInputError(f"{field_name}: {exc}") from None
+    lam, values = data.x, data.y  # finite: the reader refuses nan and inf, naming the line
     if np.any(np.diff(lam) <= 0):
         i = int(np.argmax(np.diff(lam) <= 0))
         raise ActsimInputError(
@@ -347,6 +294,6 @@ def read_table_csv(path, *, field_name, value_unit_kind=None, default_value_unit
     if np.any(values < 0) or not np.all(np.isfinite(values)):
         i = int(np.argmax((values < 0) | ~np.isfinite(values)))
         raise ActsimInputError(
-            f"{field_name}: '{path.name}' has a negative or non-finite value {data[i, 1]:g} at {lam[i] * 1e9:g} nm (allowed >= 0)"
+            f"{field_name}: '{path.name}' has a negative or non-finite value {values[i]:g} at {lam[i] * 1e9:g} nm (allowed >= 0)"
         )
     return lam, values

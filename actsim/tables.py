@@ -1,4 +1,8 @@
-"""Read measured x–y data (CSV with a header) into SI arrays.
+"""The project's CSV reader: tables with a header that names each column's unit, read into SI arrays.
+
+:func:`read_csv_table` reads any such table (comments, header, rows with their line numbers);
+:func:`read_xy_csv` takes two of its columns into SI (measured data, spectra, modulus tables);
+:meth:`CSVTable.column` takes one column in a unit the caller names (packaged limit tables).
 
 File format
 -----------
@@ -34,7 +38,7 @@ import pint
 from .errors import ActsimInputError
 from .units import Q_, SI_UNITS, ureg
 
-__all__ = ["XYData", "KINDS", "read_xy_csv", "as_xy"]
+__all__ = ["XYData", "KINDS", "CSVTable", "read_csv_table", "read_xy_csv", "as_xy"]
 
 #: Physical kind of a column -> key of :data:`actsim.units.SI_UNITS`, or None for dimensionless.
 KINDS = {
@@ -53,11 +57,15 @@ KINDS = {
     "force": "force",
     "irradiance": "irradiance",
     "curvature": "curvature",
+    "molar_absorptivity": "molar_absorptivity",
+    "absorption_coefficient": "absorption_coefficient",
+    "relative": None,
 }
 
 _UNIT_ALIASES = {"%": "percent", "1": "dimensionless", "-": "dimensionless", "": "dimensionless",
+                 "relative": "dimensionless", "a.u.": "dimensionless",
                  "°C": "degC", "ºC": "degC", "°": "deg", "°F": "degF", "µm": "um", "μm": "um"}
-_HEADER_RE = re.compile(r"^\s*(?P<name>.*?)\s*(?:[\[(](?P<unit>[^\])]*)[\])])?\s*$")
+_HEADER_RE = re.compile(r"^\s*(?P<name>.*?)\s*(?:\[(?P<unit>[^\]]*)\]|\((?P<round>[^)]*)\))?\s*$")
 
 
 @dataclass
@@ -114,13 +122,182 @@ def _to_si(values, unit: str, kind: str, *, where: str):
         raise ActsimInputError(f"{where}: unit {unit!r} is not a unit of {kind} (expected e.g. {ex})") from None
 
 
+@dataclass
+class CSVTable:
+    """A CSV table as written: header, units, rows of text cells with their line numbers.
+
+    Attributes
+    ----------
+    header : list of str
+        The header cells as written (``"stress [MPa]"``).
+    names : list of str
+        Column names without units.
+    units : list of str or None
+        The unit of each column as written in brackets, None where the header gives none.
+    rows : list of (int, list of str)
+        Line number (1-based) and cells of each data line.
+    source : str
+        File name, used in every message.
+    comments : list of str
+        Comment lines without the leading ``#``.
+    """
+
+    header: list
+    names: list
+    units: list
+    rows: list
+    source: str = ""
+    comments: list = field(default_factory=list)
+
+    @property
+    def synthetic(self) -> bool:
+        """True if a comment says "synthetic" (invented data)."""
+        return any("synthetic" in c.lower() for c in self.comments)
+
+    def index(self, col, label: str = "column") -> int:
+        """Index of a column given by index or by name (without unit, case-insensitive)."""
+        if isinstance(col, (int, np.integer)):
+            if not (0 <= col < len(self.header)):
+                raise ActsimInputError(f"{self.source}: {label} {col} is outside the {len(self.header)} header columns")
+            return int(col)
+        low = [n.lower() for n in self.names]
+        if str(col).lower() in low:
+            return low.index(str(col).lower())
+        raise ActsimInputError(f"{self.source}: no column named {col!r} in the header ({', '.join(self.names)})")
+
+    def numbers(self, indices, *, allow_infinite: bool = False) -> np.ndarray:
+        """The numbers of some columns, as written, shape (rows, len(indices)).
+
+        Parameters
+        ----------
+        indices : sequence of int
+            Column indices (:meth:`index`).
+        allow_infinite : bool
+            Accept ``inf`` (e.g. an open upper end of a band); NaN is always refused.
+
+        Returns
+        -------
+        numpy.ndarray
+            Values in the units of the header [as written].
+        """
+        need = max(indices) + 1
+        out = []
+        for no, cells in self.rows:
+            if len(cells) < need:
+                raise ActsimInputError(f"{self.source} line {no}: {len(cells)} columns, expected at least {need} as in the header")
+            vals = []
+            for i in indices:
+                try:
+                    v = float(cells[i])
+                except ValueError:
+                    raise ActsimInputError(
+                        f"{self.source} line {no}: column '{self.header[i]}' value {cells[i]!r} is not a number "
+                        "(use '.' as decimal point and ',' between columns)"
+                    ) from None
+                if not (np.isfinite(v) or (allow_infinite and np.isinf(v))):
+                    raise ActsimInputError(f"{self.source} line {no}: column '{self.header[i]}' value {cells[i]!r} is not finite")
+                vals.append(v)
+            out.append(vals)
+        return np.array(out, dtype=float).reshape(len(out), len(indices))
+
+    def column(self, col, *, unit: str, allow_infinite: bool = False) -> np.ndarray:
+        """One column converted from the unit its header gives to ``unit``.
+
+        Parameters
+        ----------
+        col : int or str
+            Column index or name (without unit).
+        unit : str
+            The unit wanted (``"s"``, ``"degC"``, ``"1"``); the header must give a unit of the
+            same dimension.
+        allow_infinite : bool
+            Accept ``inf`` values.
+
+        Returns
+        -------
+        numpy.ndarray
+            The values [unit]; unchanged when the header's unit is ``unit``.
+        """
+        i = self.index(col)
+        given = self.units[i]
+        if given is None:
+            raise ActsimInputError(f"{self.source}: column '{self.header[i]}' has no unit; write it in the header, "
+                                   f"e.g. '{self.names[i]} [{unit}]'")
+        values = self.numbers((i,), allow_infinite=allow_infinite)[:, 0]
+        if given == unit:
+            return values
+        want = _parse_unit(unit, where=f"{self.source} column '{self.header[i]}'")
+        try:
+            return np.asarray(Q_(values, _parse_unit(given, where=f"{self.source} column '{self.header[i]}'")).to(want).magnitude,
+                              dtype=float)
+        except pint.DimensionalityError:
+            raise ActsimInputError(f"{self.source}: column '{self.header[i]}' unit {given!r} cannot be converted to "
+                                   f"{unit!r}") from None
+
+
+def read_csv_table(path) -> CSVTable:
+    """Read a CSV file with a header line: comments, header (names and units), data rows.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        The file. Lines starting with ``#`` are comments; empty lines are skipped; the first
+        other line is the header, units in square (or round) brackets after each column name.
+        Columns are separated by commas (semicolons or tabs when the header has no comma).
+
+    Returns
+    -------
+    CSVTable
+        The cells as text; convert columns with :meth:`CSVTable.numbers` or :meth:`CSVTable.column`.
+
+    Raises
+    ------
+    ActsimInputError
+        File missing, not UTF-8 text, unreadable, or without a header line.
+    """
+    p = Path(path)
+    name = p.name
+    if not p.is_file():
+        raise ActsimInputError(f"data file: {str(path)!r} does not exist or is not a file")
+    try:
+        text = p.read_text(encoding="utf-8-sig")
+    except UnicodeDecodeError:
+        raise ActsimInputError(f"{name}: not a UTF-8 text file (save it as CSV text)") from None
+    except OSError as exc:
+        raise ActsimInputError(f"{name}: cannot be read ({exc.strerror})") from None
+    comments, header, rows = [], None, []
+    delim = ","
+    for no, raw in enumerate(text.splitlines(), start=1):
+        line = raw.strip()
+        if not line:
+            continue
+        if line.startswith("#"):
+            comments.append(line[1:].strip())
+            continue
+        if header is None:
+            if "," not in line:
+                delim = ";" if ";" in line else ("\t" if "\t" in raw else ",")
+            header = _split(line, delim)
+            continue
+        rows.append((no, _split(line, delim)))
+    if header is None:
+        raise ActsimInputError(f"{name}: no header line (expected e.g. 'strain [1], stress [MPa]')")
+    names, units = [], []
+    for h in header:
+        m = _HEADER_RE.match(h)
+        names.append(m.group("name").strip())
+        unit = m.group("unit") if m.group("unit") is not None else m.group("round")
+        units.append(unit.strip() if unit is not None else None)
+    return CSVTable(header=header, names=names, units=units, rows=rows, source=name, comments=comments)
+
+
 def read_xy_csv(path, *, x_kind, y_kind, x_unit=None, y_unit=None, x_column=0, y_column=1, min_points=2):
     """Read two columns of a CSV file with a header and convert them to SI.
 
     Parameters
     ----------
-    path : str or os.PathLike
-        The CSV file.
+    path : str, os.PathLike or CSVTable
+        The CSV file (or the table :func:`read_csv_table` read from it).
     x_kind, y_kind : str
         Physical kind of each column, a key of :data:`KINDS` (``"strain"``, ``"stress"``,
         ``"temperature"``, ``"wavelength"``, ``"absorbance"``, ``"modulus"``, ``"time"``,
@@ -162,71 +339,14 @@ def read_xy_csv(path, *, x_kind, y_kind, x_unit=None, y_unit=None, x_column=0, y
     for kind, label in ((x_kind, "x_kind"), (y_kind, "y_kind")):
         if kind not in KINDS:
             raise ActsimInputError(f"{label}: {kind!r} is not a known column kind ({', '.join(sorted(KINDS))})")
-    p = Path(path)
-    name = p.name
-    if not p.is_file():
-        raise ActsimInputError(f"data file: {str(path)!r} does not exist or is not a file")
-    try:
-        text = p.read_text(encoding="utf-8-sig")
-    except UnicodeDecodeError:
-        raise ActsimInputError(f"{name}: not a UTF-8 text file (save it as CSV text)") from None
-    except OSError as exc:
-        raise ActsimInputError(f"{name}: cannot be read ({exc.strerror})") from None
-    comments, header, header_no, rows = [], None, 0, []
-    delim = ","
-    for no, raw in enumerate(text.splitlines(), start=1):
-        line = raw.strip()
-        if not line:
-            continue
-        if line.startswith("#"):
-            comments.append(line[1:].strip())
-            continue
-        if header is None:
-            if "," not in line:
-                delim = ";" if ";" in line else ("\t" if "\t" in raw else ",")
-            header, header_no = _split(line, delim), no
-            continue
-        rows.append((no, _split(line, delim)))
-    if header is None:
-        raise ActsimInputError(f"{name}: no header line (expected e.g. 'strain [1], stress [MPa]')")
-    names, units = [], []
-    for h in header:
-        m = _HEADER_RE.match(h)
-        names.append(m.group("name").strip())
-        units.append((m.group("unit") or "").strip() if m.group("unit") is not None else None)
-
-    def col_index(col, label):
-        if isinstance(col, (int, np.integer)):
-            if not (0 <= col < len(header)):
-                raise ActsimInputError(f"{name}: {label} {col} is outside the {len(header)} header columns")
-            return int(col)
-        low = [n.lower() for n in names]
-        if str(col).lower() in low:
-            return low.index(str(col).lower())
-        raise ActsimInputError(f"{name}: no column named {col!r} in the header ({', '.join(names)})")
-
-    ix, iy = col_index(x_column, "x_column"), col_index(y_column, "y_column")
-    need = max(ix, iy) + 1
-    xs, ys = [], []
-    for no, cells in rows:
-        if len(cells) < need:
-            raise ActsimInputError(f"{name} line {no}: {len(cells)} columns, expected at least {need} as in the header")
-        vals = []
-        for i in (ix, iy):
-            try:
-                v = float(cells[i])
-            except ValueError:
-                raise ActsimInputError(
-                    f"{name} line {no}: column '{header[i]}' value {cells[i]!r} is not a number "
-                    "(use '.' as decimal point and ',' between columns)"
-                ) from None
-            if not np.isfinite(v):
-                raise ActsimInputError(f"{name} line {no}: column '{header[i]}' value {cells[i]!r} is not finite")
-            vals.append(v)
-        xs.append(vals[0])
-        ys.append(vals[1])
+    tab = path if isinstance(path, CSVTable) else read_csv_table(path)
+    name, header, units = tab.source, tab.header, tab.units
+    ix, iy = tab.index(x_column, "x_column"), tab.index(y_column, "y_column")
+    xy = tab.numbers((ix, iy))
+    xs, ys = xy[:, 0], xy[:, 1]
     if len(xs) < min_points:
         raise ActsimInputError(f"{name}: {len(xs)} data rows, at least {min_points} are needed")
+    names = tab.names
 
     def unit_of(i, given, kind, label):
         hdr = units[i]
@@ -244,10 +364,10 @@ def read_xy_csv(path, *, x_kind, y_kind, x_unit=None, y_unit=None, x_column=0, y
 
     xu = unit_of(ix, x_unit, x_kind, "x_unit")
     yu = unit_of(iy, y_unit, y_kind, "y_unit")
-    x = _to_si(np.array(xs), xu, x_kind, where=f"{name} column '{header[ix]}'")
-    y = _to_si(np.array(ys), yu, y_kind, where=f"{name} column '{header[iy]}'")
+    x = _to_si(xs, xu, x_kind, where=f"{name} column '{header[ix]}'")
+    y = _to_si(ys, yu, y_kind, where=f"{name} column '{header[iy]}'")
     return XYData(x=x, y=y, x_name=names[ix], y_name=names[iy], x_unit=xu, y_unit=yu, source=name,
-                  comments=comments, synthetic=any("synthetic" in c.lower() for c in comments))
+                  comments=tab.comments, synthetic=tab.synthetic)
 
 
 def as_xy(data, *, x_kind, y_kind, x_unit=None, y_unit=None, min_points=2, x_name="x", y_name="y") -> XYData:

@@ -204,3 +204,50 @@ def finite_array(value, *, field, unit, lo=None, lo_open=False):
 def scalar_or_array(arr):
     """A Python float for a 0-d result, else the array unchanged."""
     return float(arr) if np.ndim(arr) == 0 else arr
+
+
+#: Unit strings that mean "dimensionless" where a unit is asked for.
+DIMENSIONLESS_UNITS = ("", "1", "-", "dimensionless")
+
+
+def unit_kind(unit: str, *, field: str):
+    """The SI unit and the physical kind of a unit string.
+
+    Parameters
+    ----------
+    unit : str
+        A unit as written, e.g. ``"mW/cm^2"``, ``"1/min"`` or ``"1"``.
+    field : str
+        Field name used in error messages.
+
+    Returns
+    -------
+    (str, str or None)
+        The SI unit of the first kind of :data:`SI_UNITS` with the same dimensions
+        (``"W/m^2"``, ``"1/s"``) and that kind; ``("1", None)`` if dimensionless.
+
+    Raises
+    ------
+    ActsimInputError
+        A unit pint cannot read, or one whose dimensions match no scenario quantity.
+
+    Examples
+    --------
+    >>> unit_kind("mW/cm^2", field="x")
+    ('W/m^2', 'irradiance')
+    >>> unit_kind("%", field="x")
+    ('1', None)
+    """
+    u = str(unit).strip()
+    if u in DIMENSIONLESS_UNITS:
+        return "1", None
+    try:
+        dim = Q_(1.0, ureg.parse_units(u)).dimensionality
+    except Exception:
+        raise ActsimInputError(f"{field}: unit {unit!r} is not a unit actsim can read (e.g. 1, 1/s, W/m^2)") from None
+    if not dim:
+        return "1", None
+    for kind, (si, _ex) in SI_UNITS.items():
+        if Q_(1.0, si).dimensionality == dim:
+            return si, kind
+    raise ActsimInputError(f"{field}: unit {unit!r} is not the unit of any scenario quantity (e.g. 1, 1/s, W/m^2, m)")

@@ -19,7 +19,7 @@ from actsim.calibrate.bend import (
     load_fit_plan,
     make_parameter,
 )
-from actsim.calibrate.settings import parse_calibration, write_fitted_scenario
+from actsim.calibrate.settings import calibration_settings, parse_calibration, write_fitted_scenario
 from actsim.errors import ActsimInputError
 from actsim.scenario import apply_overrides, load_scenario, parse_scenario
 from actsim.solver import simulate
@@ -126,7 +126,7 @@ def test_fitted_scenario_round_trip(tmp_path, start_scenario, clean_curves):
     fit = fit_bend(start_scenario, noisy(clean_curves, 7))
     path = write_fitted_scenario(fit, tmp_path / "fitted.toml")
     sc = load_scenario(path)
-    cal = sc.extras["calibration"]
+    cal = calibration_settings(sc)
     np.testing.assert_allclose(cal.values, fit.result.values, rtol=1e-12)
     np.testing.assert_allclose(cal.covariance, fit.result.covariance, rtol=1e-9)
     assert [p.path for p in cal.parameters] == list(TRUE)
@@ -265,8 +265,8 @@ def test_docstrings_document_every_parameter():
     import inspect
     import re
 
-    exempt = {"active_material", "scenario_value", "load_fit_plan", "calibration_table", "fitted_scenario_text",
-              "write_fitted_scenario"}
+    exempt = {"active_material", "scenario_value", "load_fit_plan", "calibration_table", "calibration_settings",
+              "fitted_scenario_text", "write_fitted_scenario"}
     for m in ("bend", "settings", "uncertainty"):
         mod = importlib.import_module(f"actsim.calibrate.{m}")
         for name in mod.__all__:

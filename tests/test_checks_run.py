@@ -13,6 +13,7 @@ import numpy as np
 import pytest
 
 from actsim.checks.run import NotAssessed, any_failed, format_results, run_checks, write_checks
+from actsim.checks.settings import checks_settings, joint_settings
 from actsim.errors import ActsimInputError
 from actsim.scenario import parse_scenario
 from actsim.solver import simulate
@@ -162,8 +163,9 @@ def test_stress_beyond_ultimate_fails_statically(ds):
     ],
 )
 def test_bad_checks_section_one_line(section, match):
+    sc = parse_scenario(BASE + "\n[checks]\n" + section)  # the scenario keeps [checks] as read
     with pytest.raises(ActsimInputError, match=match) as exc:
-        parse_scenario(BASE + "\n[checks]\n" + section)
+        checks_settings(sc)  # the checks parse it (actsim check does so before simulating)
     assert "\n" not in str(exc.value)
 
 
@@ -265,8 +267,9 @@ def test_joint_bad_input_one_line():
         key = bad.split(" = ")[0]
         text = "\n".join(ln for ln in text.splitlines() if not ln.startswith(key + " ")) + "\n"
         text = text.replace("[joint]\n", f"[joint]\n{bad}\n")
+        sc = parse_scenario(text)
         with pytest.raises(ActsimInputError, match=match) as exc:
-            parse_scenario(text)
+            joint_settings(sc)
         assert "\n" not in str(exc.value)
 
 

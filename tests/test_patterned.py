@@ -9,7 +9,7 @@ import pytest
 from scipy.integrate import quad
 
 from actsim.errors import ActsimInputError
-from actsim.patterned import piecewise_arc_shape, simulate_patterned
+from actsim.patterned import mask_settings, piecewise_arc_shape, simulate_patterned
 from actsim.scenario import parse_scenario
 from actsim.solver import simulate
 
@@ -92,6 +92,7 @@ def test_zero_curvature_is_straight():
     ],
 )
 def test_bad_mask_one_line(mask, match):
+    sc = _masked(mask)  # the scenario keeps [mask] as read; the job parses it
     with pytest.raises(ActsimInputError, match=match) as exc:
-        _masked(mask)
+        mask_settings(sc)
     assert "\n" not in str(exc.value)

@@ -93,7 +93,7 @@ def test_more_bad_protocol_input(change, fragment):
 def test_nan_in_a_spectrum_table_refused(tmp_path):
     (tmp_path / "eps.csv").write_text("wavelength [nm],epsilon10 [L/(mol*cm)]\n300,100\nnan,5\n400,1\n")
     text = film_toml().replace('reactant_absorptivity = "1.2e4 L/(mol*cm)"', 'reactant_absorptivity = { file = "eps.csv" }')
-    with pytest.raises(actsim.ActsimInputError, match="non-finite wavelength"):
+    with pytest.raises(actsim.ActsimInputError, match=r"eps.csv line 3: column 'wavelength \[nm\]' value 'nan' is not finite"):
         parse_scenario(text, base_dir=tmp_path)
 
 

@@ -12,7 +12,7 @@ import numpy as np
 import pytest
 import xarray as xr
 
-from actsim.calibrate.settings import parse_calibration
+from actsim.calibrate.settings import calibration_settings, parse_calibration
 from actsim.calibrate.uncertainty import draw_parameters, prediction_bands, run_uncertainty
 from actsim.errors import ActsimInputError
 from actsim.scenario import parse_scenario
@@ -109,7 +109,7 @@ def test_run_uncertainty_writes_files(tmp_path):
     data = tmp_path / "meas.csv"
     data.write_text("# synthetic\ntime [s], bend angle [deg]\n" + "\n".join(f"{x:g}, {x:g}" for x in t) + "\n")
     sc = parse_scenario(calibrated_text(1.0, data_file="meas.csv"), path=tmp_path / "cal.toml")
-    assert sc.extras["calibration"].data[0].file == tmp_path / "meas.csv"
+    assert calibration_settings(sc).data[0].file == tmp_path / "meas.csv"
     res = run_uncertainty(sc, n_draws=6, out_dir=tmp_path / "out", seed=4, quiet=True)
     for name in ("uncertainty.nc", "uncertainty.csv", "figures/uncertainty_bend_angle.png"):
         assert (tmp_path / "out" / name).is_file()

@@ -50,7 +50,7 @@ import numpy as np
 from scipy.optimize import least_squares
 
 from ..errors import ActsimError, ActsimInputError
-from ..units import Q_, SI_UNITS, parse_dimensionless, parse_quantity, ureg
+from ..units import DIMENSIONLESS_UNITS, Q_, parse_dimensionless, parse_quantity, unit_kind, ureg
 from .fitstats import FitResult, fit_statistics
 from .readers import XYData, as_xy
 
@@ -67,33 +67,14 @@ __all__ = [
     "load_fit_plan",
 ]
 
-_DIMENSIONLESS = ("", "1", "-", "dimensionless")
-
 
 # ----------------------------------------------------------------------------------------------
 # Parameters
 # ----------------------------------------------------------------------------------------------
 
-def _unit_kind(unit: str, *, field: str):
-    """SI unit and kind (key of SI_UNITS, None if dimensionless) for a unit string."""
-    u = str(unit).strip()
-    if u in _DIMENSIONLESS:
-        return "1", None
-    try:
-        dim = Q_(1.0, ureg.parse_units(u)).dimensionality
-    except Exception:
-        raise ActsimInputError(f"{field}: unit {unit!r} is not a unit actsim can read (e.g. 1, 1/s, W/m^2)") from None
-    if not dim:
-        return "1", None
-    for kind, (si, _ex) in SI_UNITS.items():
-        if Q_(1.0, si).dimensionality == dim:
-            return si, kind
-    raise ActsimInputError(f"{field}: unit {unit!r} is not the unit of any scenario quantity (e.g. 1, 1/s, W/m^2, m)")
-
-
 def _value_si(value, *, unit: str, field: str):
     """A number in ``unit`` or a string with its own unit -> float in the SI unit of ``unit``."""
-    si, kind = _unit_kind(unit, field=field)
+    si, kind = unit_kind(unit, field=field)
     if isinstance(value, bool) or value is None:
         raise ActsimInputError(f"{field}: {value!r} is not a number")
     if isinstance(value, str):
@@ -105,7 +86,7 @@ def _value_si(value, *, unit: str, field: str):
             raise ActsimInputError(f"{field}: {value!r} is not a number") from None
         if kind is not None:
             v = float(Q_(v, ureg.parse_units(str(unit).strip())).to(si).magnitude)
-        elif str(unit).strip() not in _DIMENSIONLESS:
+        elif str(unit).strip() not in DIMENSIONLESS_UNITS:
             v = float(Q_(v, ureg.parse_units(str(unit).strip())).to("dimensionless").magnitude)
     if not math.isfinite(v):
         raise ActsimInputError(f"{field}: {value!r} is not finite")
@@ -185,7 +166,7 @@ def make_parameter(path, *, unit="1", lower, upper, initial=None, name=None) -> 
     if not isinstance(path, str) or not path.strip():
         raise ActsimInputError(f"parameter path: {path!r} must be a dotted field path such as 'materials.film.photo_strain'")
     split_field_path(path)
-    si, _ = _unit_kind(unit, field=f"{path} unit")
+    si, _ = unit_kind(unit, field=f"{path} unit")
     lo = _value_si(lower, unit=unit, field=f"{path} lower bound")
     hi = _value_si(upper, unit=unit, field=f"{path} upper bound")
     if not lo < hi:
@@ -260,7 +241,7 @@ def scenario_value(scenario, path: str, unit: str):
     if isinstance(value, (dict, list)):
         raise ActsimInputError(f"{path}: is a table or list in the scenario, not a single value; only single "
                                "values can be fitted (replace it by a constant or fit another field)")
-    si, kind = _unit_kind(unit, field=path)
+    si, kind = unit_kind(unit, field=path)
     if isinstance(value, str):
         return _value_si(value, unit=unit, field=path)
     if kind is not None:
@@ -700,7 +681,8 @@ def load_fit_plan(path) -> FitPlan:
     -------
     FitPlan
     """
-    from ..scenario import _Table, load_scenario
+    from ..scenario import load_scenario
+    from ..schema import Table
 
     p = Path(path)
     if not p.is_file():
@@ -712,7 +694,7 @@ def load_fit_plan(path) -> FitPlan:
     except UnicodeDecodeError:
         raise ActsimInputError(f"fit plan {p.name}: not a UTF-8 text file") from None
     base = p.parent
-    t = _Table(raw, "")
+    t = Table(raw, "")
     sc = load_scenario(base / t.string("scenario"))
     confidence = t.number("confidence", default=0.95, lo=0.0, hi=1.0, lo_open=True, hi_open=True)
     max_it = t.integer("max_iterations", default=40, lo=1, hi=10000)
@@ -723,7 +705,7 @@ def load_fit_plan(path) -> FitPlan:
             raise ActsimInputError("parameters: must be a list of [[parameters]] tables")
         params = []
         for i, item in enumerate(items):
-            pt = _Table(item, f"parameters[{i}]")
+            pt = Table(item, f"parameters[{i}]")
             bounds = pt.raw("bounds")
             if not isinstance(bounds, list) or len(bounds) != 2:
                 raise ActsimInputError(f"parameters[{i}].bounds: must be [lower, upper]")
@@ -736,7 +718,7 @@ def load_fit_plan(path) -> FitPlan:
         raise ActsimInputError("curves: must be a list of [[curves]] tables (file, overrides)")
     curves = []
     for i, item in enumerate(items):
-        ct = _Table(item, f"curves[{i}]")
+        ct = Table(item, f"curves[{i}]")
         f = ct.string("file")
         ov = ct.raw("overrides", default={})
         if not isinstance(ov, dict):

@@ -48,6 +48,7 @@ __all__ = [
     "CalibrationParameter",
     "CalibrationData",
     "parse_calibration",
+    "calibration_settings",
     "calibration_table",
     "fitted_scenario_text",
     "write_fitted_scenario",
@@ -187,12 +188,12 @@ def parse_calibration(data, *, field="calibration", base_dir=None, scenario_info
     ----------
     .. [1] G. A. F. Seber and C. J. Wild, *Nonlinear Regression*, Wiley, 1989.
     """
-    from ..scenario import _Table, split_field_path
-    from ..units import parse_quantity
-    from .bend import _unit_kind
+    from ..scenario import split_field_path
+    from ..schema import Table
+    from ..units import parse_quantity, unit_kind
 
     base = Path(base_dir) if base_dir is not None else Path.cwd()
-    t = _Table(data, field)
+    t = Table(data, field)
     paths = t.raw("parameters")
     if not isinstance(paths, list) or not paths or not all(isinstance(p, str) and p.strip() for p in paths):
         raise ActsimInputError(f"{field}.parameters: must be a non-empty list of dotted field paths "
@@ -210,7 +211,7 @@ def parse_calibration(data, *, field="calibration", base_dir=None, scenario_info
     if not isinstance(units, list) or len(units) != n or not all(isinstance(u, str) for u in units):
         raise ActsimInputError(f"{field}.units: must be a list of {n} unit strings (\"1\" if dimensionless), "
                                "one per parameter")
-    si_units = [_unit_kind(u, field=f"{field}.units[{i}]")[0] for i, u in enumerate(units)]
+    si_units = [unit_kind(u, field=f"{field}.units[{i}]")[0] for i, u in enumerate(units)]
     for i, (u, s) in enumerate(zip(units, si_units)):
         if u.strip() not in ("", "1", "-", "dimensionless") and u.strip() != s:
             raise ActsimInputError(f"{field}.units[{i}]: {u!r} must be the SI unit {s!r} (values are stored in SI)")
@@ -261,7 +262,7 @@ def parse_calibration(data, *, field="calibration", base_dir=None, scenario_info
         raise ActsimInputError(f"{field}.data: must be a list of [[{field}.data]] tables")
     provenance = []
     for i, item in enumerate(items):
-        dt = _Table(item, f"{field}.data[{i}]")
+        dt = Table(item, f"{field}.data[{i}]")
         f = dt.string("file", default="")
         ov = dt.raw("overrides", default={})
         if not isinstance(ov, dict):
@@ -283,6 +284,28 @@ def _rel(path, folder) -> str:
         return Path(os.path.relpath(Path(path).resolve(), Path(folder).resolve())).as_posix()
     except ValueError:  # another drive
         return Path(path).resolve().as_posix()
+
+
+def calibration_settings(scenario) -> Calibration | None:
+    """The scenario's ``[calibration]`` section parsed by :func:`parse_calibration`, or None without one.
+
+    Parameters
+    ----------
+    scenario : actsim.scenario.Scenario
+
+    Returns
+    -------
+    Calibration or None
+        Parsed once per scenario object; data files are resolved against the scenario's folder.
+
+    Raises
+    ------
+    ActsimInputError
+        A bad field of the section (one line).
+    """
+    from ..scenario import section_settings
+
+    return section_settings(scenario, "calibration", parse_calibration)
 
 
 def calibration_table(fit, *, scenario_dir) -> dict:
@@ -412,6 +435,7 @@ def write_fitted_scenario(fit, path, *, with_calibration=True) -> Path:
 
     path = Path(path)
     text = fitted_scenario_text(fit, scenario_dir=path.parent, with_calibration=with_calibration)
-    parse_scenario(text, path=path, base_dir=path.parent)  # refuse to write what cannot be read back
+    # refuse to write what cannot be read back, [calibration] included
+    calibration_settings(parse_scenario(text, path=path, base_dir=path.parent))
     write_text(path, text)
     return path

@@ -72,7 +72,9 @@ class UncertaintyResult:
 
 
 def _calibration(scenario):
-    cal = (getattr(scenario, "extras", None) or {}).get("calibration")
+    from .settings import calibration_settings
+
+    cal = calibration_settings(scenario)
     if cal is None:
         raise ActsimInputError("calibration: the scenario has no [calibration] section; --uncertainty needs the "
                                "fitted parameters and their covariance, which 'actsim fit bend' writes into "

@@ -63,7 +63,8 @@ from .. import io
 from ..cautions import caution_lines
 from ..errors import ActsimInputError
 from .settings import CheckSettings, SafetySettings
-from .verdict import CheckResult, _fmt_margin, _fmt_quantity
+from .verdict import CheckResult, _fmt_margin
+from .verdict import format_quantity as _fmt_quantity  # local short name (format_results below)
 
 __all__ = ["NotAssessed", "run_checks", "format_results", "write_checks", "any_failed", "CHECKS_JSON", "CHECKS_CSV"]
 
@@ -690,9 +691,11 @@ def run_checks(scenario, ds, *, elastica: bool = True):
     from .fatigue import fatigue_life
     from .strength import stress_check
 
-    cs = scenario.extras.get("checks") or CheckSettings()
-    ss = scenario.extras.get("safety") or SafetySettings()
-    js = scenario.extras.get("joint")
+    from .settings import checks_settings, joint_settings, safety_settings
+
+    cs = checks_settings(scenario) or CheckSettings()
+    ss = safety_settings(scenario) or SafetySettings()
+    js = joint_settings(scenario)
     li = _layer_index(scenario)
     if li.size != ds.sizes["z"]:
         raise ActsimInputError(f"run_checks: the result has {ds.sizes['z']} cells but the scenario {li.size}; pass the matching pair")

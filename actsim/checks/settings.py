@@ -1,8 +1,9 @@
 """Scenario sections of the design checks: ``[checks]``, ``[safety]`` and ``[joint]``.
 
-Each parser is called by :func:`actsim.scenario.parse_scenario` through
-``SECTION_PARSERS`` as ``fn(data, field=name, base_dir=Path, scenario_info=dict)``
-and returns a frozen dataclass in SI units, stored in ``scenario.extras[name]``.
+The scenario keeps these sections as raw tables (``scenario.sections``); the checks read
+them with :func:`checks_settings`, :func:`safety_settings` and :func:`joint_settings`
+(parsed once per scenario object). Each ``parse_*`` function takes
+``(data, field=name, base_dir=Path, scenario_info=dict)`` and returns a frozen dataclass in SI units.
 Every problem is one line naming the field, the value, the unit and the
 allowed range (:class:`~actsim.errors.ActsimInputError`). The fields are
 documented in ``docs/checks.md``.
@@ -43,7 +44,8 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from ..errors import ActsimInputError
-from ..scenario import _Table
+from ..scenario import section_settings
+from ..schema import Table
 from .verdict import Limit, load_material_limits
 
 __all__ = [
@@ -54,6 +56,9 @@ __all__ = [
     "parse_checks",
     "parse_safety",
     "parse_joint",
+    "checks_settings",
+    "safety_settings",
+    "joint_settings",
     "MEAN_STRESS_METHODS_DEFAULT",
 ]
 
@@ -138,7 +143,7 @@ class CheckSettings:
         return self.target_cycles / self.cycles_per_protocol
 
 
-def _limit_from_value(t: _Table, key: str, *, source: str, validity: str) -> Limit | None:
+def _limit_from_value(t: Table, key: str, *, source: str, validity: str) -> Limit | None:
     if not t.has(key):
         return None
     kind, unit = _PROPS[key]
@@ -147,12 +152,12 @@ def _limit_from_value(t: _Table, key: str, *, source: str, validity: str) -> Lim
     else:
         v = t.number(key, hi=0.0, hi_open=True)
         if not v > -1.0:
-            raise ActsimInputError(f"{t._path(key)}: {v:g} is outside the allowed range (> -1 and < 0)")
+            raise ActsimInputError(f"{t.field_path(key)}: {v:g} is outside the allowed range (> -1 and < 0)")
     return Limit(name=key, value=v, unit=unit, source=source, validity=validity)
 
 
 def _parse_material_limits(name: str, data, *, where: str, base_dir: Path) -> MaterialLimits:
-    t = _Table(data, where)
+    t = Table(data, where)
     group = ""
     values: dict[str, Limit | None] = {k: None for k in _PROPS}
     if t.has("limits"):
@@ -209,14 +214,14 @@ def parse_checks(data, *, field: str = "checks", base_dir=Path("."), scenario_in
     base_dir : pathlib.Path
         Folder for relative ``limits_file`` paths.
     scenario_info : dict
-        ``materials`` (names) and the other scenario facts (see SECTION_PARSERS).
+        ``materials`` (names) and the other scenario facts (see actsim.scenario.scenario_info).
 
     Returns
     -------
     CheckSettings
     """
     info = scenario_info or {}
-    t = _Table(data, field)
+    t = Table(data, field)
     sf = t.number("required_safety_factor", default=1.0, lo=1.0, hi=100.0)
     target = None
     if t.has("target_cycles"):
@@ -317,7 +322,7 @@ def parse_safety(data, *, field: str = "safety", base_dir=Path("."), scenario_in
     """
     from .skin import MATERIAL_CLASSES, STANDARDS
 
-    t = _Table(data, field)
+    t = Table(data, field)
     f = None
     e = None
     if t.has("exposure_distance_factor") and t.has("exposure_irradiance"):
@@ -390,7 +395,7 @@ _ITEM_KINDS = ("point", "rod", "tube", "tapered_tube")
 def _payload_item(i: int, data, field: str):
     from .. import joint
 
-    t = _Table(data, f"{field}.payload[{i}]")
+    t = Table(data, f"{field}.payload[{i}]")
     kind = t.string("kind", choices=_ITEM_KINDS)
     name = t.string("name", default=f"{kind} {i + 1}")
     ao = t.quantity("angle_offset", "angle", default=0.0)
@@ -448,7 +453,7 @@ def parse_joint(data, *, field: str = "joint", base_dir=Path("."), scenario_info
     JointSettings
     """
     info = scenario_info or {}
-    t = _Table(data, field)
+    t = Table(data, field)
     mounting = t.string("mounting", default="hinge", choices=("hinge", "lever"))
     raw = t.raw("strips", default="solve")
     if raw == "solve":
@@ -494,3 +499,55 @@ def parse_joint(data, *, field: str = "joint", base_dir=Path("."), scenario_info
         mounting=mounting, strips=strips, lever_arm=lever_arm, hinge_length=hinge_length, angle_start=a0, angle_end=a1,
         angle_points=n, gravity_direction=gdir, extra_moment=extra, payload=items,
     )
+
+
+# ---------------------------------------------------------------------------
+# the sections of a scenario
+
+
+def checks_settings(scenario) -> CheckSettings | None:
+    """The scenario's ``[checks]`` section parsed by :func:`parse_checks`, or None without one.
+
+    Parameters
+    ----------
+    scenario : actsim.scenario.Scenario
+
+    Returns
+    -------
+    CheckSettings or None
+        Parsed once per scenario object.
+
+    Raises
+    ------
+    ActsimInputError
+        A bad field of the section (one line).
+    """
+    return section_settings(scenario, "checks", parse_checks)
+
+
+def safety_settings(scenario) -> SafetySettings | None:
+    """The scenario's ``[safety]`` section parsed by :func:`parse_safety`, or None without one.
+
+    Parameters
+    ----------
+    scenario : actsim.scenario.Scenario
+
+    Returns
+    -------
+    SafetySettings or None
+    """
+    return section_settings(scenario, "safety", parse_safety)
+
+
+def joint_settings(scenario) -> JointSettings | None:
+    """The scenario's ``[joint]`` section parsed by :func:`parse_joint`, or None without one.
+
+    Parameters
+    ----------
+    scenario : actsim.scenario.Scenario
+
+    Returns
+    -------
+    JointSettings or None
+    """
+    return section_settings(scenario, "joint", parse_joint)

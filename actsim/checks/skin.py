@@ -19,7 +19,6 @@ pressure on the skin, or long-term low-temperature burns in full.
 
 from __future__ import annotations
 
-import csv
 import math
 from functools import lru_cache
 from importlib import resources
@@ -28,6 +27,7 @@ import numpy as np
 
 from ..cautions import caution_lines
 from ..errors import ActsimInputError
+from ..tables import read_csv_table
 from .verdict import CheckResult, Limit, format_table
 
 __all__ = [
@@ -60,26 +60,26 @@ _ISO_VALIDITY = (
 IEC_DISCLOSURE_TEMPERATURE = 41.0 + _ZERO_C
 
 
-def _rows(filename: str) -> list[dict]:
-    text = resources.files("actsim").joinpath("data", filename).read_text(encoding="utf-8")
-    lines = [ln for ln in text.splitlines() if ln.strip() and not ln.lstrip().startswith("#")]
-    return list(csv.DictReader(lines))
+def _table(filename: str):
+    """A packaged limit table, read by the project's CSV reader (:func:`actsim.tables.read_csv_table`)."""
+    with resources.as_file(resources.files("actsim").joinpath("data", filename)) as path:
+        return read_csv_table(path)
 
 
 @lru_cache(maxsize=None)
 def _iec_table():
-    rows = _rows(_IEC_FILE)
-    lo = np.array([float(r["duration_from_s"]) for r in rows])
-    hi = np.array([float(r["duration_to_s"]) for r in rows])
-    lim = {m: np.array([float(r[f"{m}_degC"]) for r in rows]) for m in ("metal", "glass", "plastic")}
+    tab = _table(_IEC_FILE)
+    lo = tab.column("duration_from", unit="s")
+    hi = tab.column("duration_to", unit="s", allow_infinite=True)  # the last band is open ("10 min and longer")
+    lim = {m: tab.column(m, unit="degC") for m in ("metal", "glass", "plastic")}
     return lo, hi, lim
 
 
 @lru_cache(maxsize=None)
 def _iso_table():
-    rows = _rows(_ISO_FILE)
-    t = np.array([float(r["contact_duration_s"]) for r in rows])
-    lim = {m: np.array([float(r[f"{m}_degC"]) for r in rows]) for m in MATERIAL_CLASSES}
+    tab = _table(_ISO_FILE)
+    t = tab.column("contact_duration", unit="s")
+    lim = {m: tab.column(m, unit="degC") for m in MATERIAL_CLASSES}
     return t, lim
 
 

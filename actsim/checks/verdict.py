@@ -32,6 +32,7 @@ __all__ = [
     "CheckResult",
     "Limit",
     "format_table",
+    "format_quantity",
     "to_records",
     "load_limits",
     "load_material_limits",
@@ -183,7 +184,27 @@ _PREFIXED_UNITS = ("Pa", "N", "W", "J")
 _PREFIXES = ((1e9, "G"), (1e6, "M"), (1e3, "k"), (1.0, ""), (1e-3, "m"), (1e-6, "µ"))
 
 
-def _fmt_quantity(x: float, unit: str) -> str:
+def format_quantity(x: float, unit: str) -> str:
+    """A value with its SI unit for a table: 4 significant digits, an SI prefix for Pa, N, W and J.
+
+    Parameters
+    ----------
+    x : float
+        The value [unit].
+    unit : str
+        Its unit (``""`` or ``"1"``: dimensionless, printed bare).
+
+    Returns
+    -------
+    str
+
+    Examples
+    --------
+    >>> format_quantity(2.5e7, "Pa")
+    '25 MPa'
+    >>> format_quantity(0.0125, "1")
+    '0.0125'
+    """
     if not math.isfinite(x):
         return f"{x} {unit}".rstrip() if unit not in ("", "1") else f"{x}"
     if unit in ("", "1"):
@@ -200,7 +221,7 @@ def _fmt_quantity(x: float, unit: str) -> str:
 def _fmt_margin(r: CheckResult) -> str:
     if r.margin_kind == "ratio":
         return "inf" if math.isinf(r.margin) else f"{r.margin:.3g}"
-    return _fmt_quantity(r.margin, r.unit)
+    return format_quantity(r.margin, r.unit)
 
 
 def format_table(results: Iterable[CheckResult]) -> str:
@@ -219,7 +240,7 @@ def format_table(results: Iterable[CheckResult]) -> str:
     results = list(results)
     header = ("check", "value", "limit", "margin", "verdict", "source")
     rows = [
-        (r.check, _fmt_quantity(r.value, r.unit), _fmt_quantity(r.limit, r.unit), _fmt_margin(r), r.verdict_short, r.source)
+        (r.check, format_quantity(r.value, r.unit), format_quantity(r.limit, r.unit), _fmt_margin(r), r.verdict_short, r.source)
         for r in results
     ]
     widths = [max(len(h), *(len(row[i]) for row in rows)) if rows else len(h) for i, h in enumerate(header)]

@@ -67,12 +67,15 @@ def _actuation_lines(details) -> list[str]:
 
 def cmd_check(args) -> int:
     from ..checks.run import any_failed, format_results, run_checks, write_checks
+    from ..checks.settings import checks_settings, joint_settings, safety_settings
     from ..errors import ActsimInputError
     from ..results import write_result_folder
     from ..scenario import load_scenario
     from ..solver import simulate
 
     sc = load_scenario(args.scenario)
+    for read_section in (checks_settings, safety_settings, joint_settings):
+        read_section(sc)  # a bad [checks], [safety] or [joint] field is refused before the simulation
     out = Path(args.output or (Path("actsim-out") / (Path(args.scenario).stem + "-check")))
     ds = simulate(sc)
     results, details = run_checks(sc, ds, elastica=not args.no_elastica)

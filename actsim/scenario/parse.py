@@ -1,284 +1,49 @@
-"""Scenario files: parse and validate TOML with units into frozen SI dataclasses.
+"""Parse and validate scenario TOML with units into the frozen SI dataclasses of :mod:`.model`.
 
 Every dimensional field is a string with a unit (``"0.2 mm"``, ``"50 mW/cm^2"``,
 ``"365 nm"``); a bare number is refused unless the field is dimensionless. Every
 problem is reported as one line naming the field, the value, the unit and the
 allowed range (:class:`~actsim.errors.ActsimInputError`). The field reference
 is ``docs/scenario.md``.
+
+The top-level sections listed in :data:`JOB_SECTIONS` belong to jobs: they are checked to
+be tables and kept as read (``Scenario.sections``); the job that uses one parses it
+(:func:`actsim.scenario.section_settings`). This module imports no job.
 """
 
 from __future__ import annotations
 
 import difflib
 import math
-import re
 import tomllib
-from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 import numpy as np
 
-from .errors import ActsimInputError
-from .spectra import (
-    LightSource,
-    SpectralFunction,
-    gaussian_bands,
-    line_bands,
-    read_table_csv,
-    tabulated_bands,
-)
-from .units import check_range, parse_dimensionless, parse_quantity
+from ..errors import ActsimInputError
+from ..schema import Table
+from ..spectra import LightSource, SpectralFunction, gaussian_bands, line_bands, read_table_csv, tabulated_bands
+from ..units import SI_UNITS, check_range, parse_dimensionless, parse_quantity
+from .model import HOLDS, HeatSettings, Layer, Material, OpticsSettings, Scenario, Step, Strip
 
-# ----------------------------------------------------------------------------
-# Frozen SI dataclasses
-# ----------------------------------------------------------------------------
+__all__ = ["JOB_SECTIONS", "parse_scenario", "load_scenario"]
 
-
-@dataclass(frozen=True, eq=False)
-class Material:
-    """Material of one layer, SI units.
-
-    ``modulus`` is the Young's modulus of the unconverted (reactant) form and
-    ``product_modulus`` that of the fully converted form; in between the
-    modulus is linear in conversion. A passive material has zero chromophore
-    concentration.
-    """
-
-    name: str
-    modulus: float | None  # Pa (None when the modulus follows a temperature law)
-    product_modulus: float | None  # Pa
-    poisson_ratio: float  # 1
-    refractive_index: float  # 1
-    background_absorption: SpectralFunction  # 1/m (natural-log absorption coefficient)
-    chromophore_concentration: float = 0.0  # mol/m^3
-    photo_strain: float = 0.0  # eigenstrain at full conversion, 1
-    thermal_back_rate: float = 0.0  # 1/s
-    forward_quantum_yield: SpectralFunction | None = None
-    backward_quantum_yield: SpectralFunction | None = None
-    reactant_absorptivity: SpectralFunction | None = None  # decadic, m^2/mol
-    product_absorptivity: SpectralFunction | None = None  # decadic, m^2/mol
-    # heat
-    conductivity: float = 0.2  # W/(m K)
-    density: float = 1200.0  # kg/m^3
-    specific_heat: float = 1500.0  # J/(kg K)
-    thermal_expansion: float = 0.0  # 1/K
-    heat_fraction: float = 1.0  # fraction of absorbed light that becomes heat
-    back_reaction_activation_energy: float = 0.0  # J/mol (Arrhenius; 0: rate independent of T)
-    # modulus against temperature: None, ("glass", Eg, Er, Tg, width) or ("table", T[], E[])
-    temperature_modulus: tuple | None = None
-    product_modulus_ratio: float = 1.0  # E_B/E_A when the modulus follows a temperature law
-    # light-formed (second) network: modulus of the fully formed network [Pa]; network density = conversion
-    network_modulus: float = 0.0
-
-    @property
-    def is_active(self) -> bool:
-        return self.chromophore_concentration > 0.0
-
-    @property
-    def forms_network(self) -> bool:
-        return self.network_modulus > 0.0
-
-
-@dataclass(frozen=True, eq=False)
-class Layer:
-    """One layer of the stack (bottom to top)."""
-
-    name: str
-    material: Material
-    thickness: float  # m
-    cells: int
-    initial_conversion: float = 0.0
-
-
-@dataclass(frozen=True)
-class Strip:
-    """Strip geometry."""
-
-    free_length: float  # m
-    width: float  # m
-    section: str = "beam"  # "beam" (plane stress) or "plate" (plane strain)
-
-
-#: Mechanical conditions of a protocol step.
-HOLDS = ("free", "release", "stretch", "bend", "flat")
-
-
-@dataclass(frozen=True)
-class Step:
-    """One protocol step: duration, irradiance of each source [W m-2], mechanical condition, surroundings."""
-
-    duration: float  # s
-    irradiance: tuple  # one value per source, in the order of Scenario.sources
-    label: str = ""
-    hold: str = "free"  # one of HOLDS
-    hold_value: float = 0.0  # stretch: mid-plane strain [1]; bend: curvature [1/m]
-    ambient_bottom: float = 293.15  # K
-    ambient_top: float = 293.15  # K
-    h_bottom: float = 10.0  # W/(m^2 K), convection + linearised radiation
-    h_top: float = 10.0  # W/(m^2 K)
-    convection_bottom: float = 10.0  # W/(m^2 K), convection alone (carried to the next step)
-    convection_top: float = 10.0
-
-
-@dataclass(frozen=True)
-class HeatSettings:
-    """Photothermal heating: on when the scenario has a [heat] section."""
-
-    enabled: bool = False
-    ambient_temperature: float = 293.15  # K
-    reference_temperature: float = 293.15  # K, zero of thermal strain and reference of the back-reaction rate
-    top_heat_transfer: float = 10.0  # W/(m^2 K)
-    bottom_heat_transfer: float = 10.0
-    top_emissivity: float = 0.0
-    bottom_emissivity: float = 0.0
-    scheme: str = "tr-bdf2"  # or "crank-nicolson"
-
-
-@dataclass(frozen=True)
-class OpticsSettings:
-    front_reflection: bool = True
-    ambient_refractive_index: float = 1.0
-    max_cell_optical_depth: float = 1.5
-    bands_per_source: int = 15
-
-
-@dataclass(frozen=True, eq=False)
-class Scenario:
-    """A whole scenario in SI units. Build with :func:`load_scenario` or :func:`parse_scenario`."""
-
-    title: str
-    strip: Strip
-    layers: tuple
-    sources: tuple
-    protocol: tuple
-    optics: OpticsSettings
-    heat: HeatSettings
-    output_interval: float  # s
-    time_step: float  # s
-    text: str = ""
-    path: str = ""
-    description: str = ""
-    target_bend_angle: float | None = None  # rad
-    extras: dict = field(default_factory=dict)  # parsed optional sections (see SECTION_PARSERS)
-    base_dir: str = ""  # folder against which the scenario's data files were resolved
-
-    @property
-    def thickness(self) -> float:
-        return float(sum(layer.thickness for layer in self.layers))
-
-    @property
-    def duration(self) -> float:
-        return float(sum(step.duration for step in self.protocol))
-
-    def replace(self, **changes) -> "Scenario":
-        """A copy with some top-level fields changed (dataclasses.replace)."""
-        return replace(self, **changes)
-
-
-# ----------------------------------------------------------------------------
-# Parsing helpers
-# ----------------------------------------------------------------------------
-
-#: Optional top-level sections parsed by the module of the job that uses them:
-#: section name -> (module, function). The function is called as
-#: ``fn(data, field=name, base_dir=Path, scenario_info=dict)`` and returns a frozen object
-#: stored in ``Scenario.extras[name]``; it raises ActsimInputError on bad input.
-SECTION_PARSERS = {
-    "checks": ("actsim.checks.settings", "parse_checks"),
-    "safety": ("actsim.checks.settings", "parse_safety"),
-    "joint": ("actsim.checks.settings", "parse_joint"),
-    "mask": ("actsim.patterned", "parse_mask"),
-    "calibration": ("actsim.calibrate.settings", "parse_calibration"),
+#: Optional top-level sections that belong to a job, with the job that reads each. The scenario
+#: keeps them as raw tables (``Scenario.sections``) and never imports the job; the job parses
+#: its section when it needs it (``checks_settings``, ``mask_settings``, ... built on
+#: :func:`actsim.scenario.section_settings`).
+JOB_SECTIONS = {
+    "checks": "actsim check (actsim.checks.settings.checks_settings)",
+    "safety": "actsim check (actsim.checks.settings.safety_settings)",
+    "joint": "actsim check (actsim.checks.settings.joint_settings)",
+    "mask": "actsim run (actsim.patterned.mask_settings)",
+    "calibration": "actsim run --uncertainty (actsim.calibrate.settings.calibration_settings)",
 }
 
 
-class _Table:
-    """A TOML table whose keys are consumed; unknown keys raise with a suggestion."""
-
-    def __init__(self, data, name: str):
-        if not isinstance(data, dict):
-            raise ActsimInputError(f"{name}: expected a table (section), got {type(data).__name__} {data!r}")
-        self.data = data
-        self.name = name
-        self.used: set[str] = set()
-
-    def _path(self, key):
-        return f"{self.name}.{key}" if self.name else key
-
-    def has(self, key) -> bool:
-        return key in self.data
-
-    def raw(self, key, default=...):
-        self.used.add(key)
-        if key in self.data:
-            return self.data[key]
-        if default is ...:
-            raise ActsimInputError(f"{self._path(key)}: required field is missing")
-        return default
-
-    def quantity(self, key, kind, default=..., *, lo=None, hi=None, lo_open=False, hi_open=False):
-        value = self.raw(key, default)
-        if value is None:
-            return None
-        if value is default and not isinstance(value, str):
-            return value
-        si = parse_quantity(value, field=self._path(key), kind=kind)
-        from .units import SI_UNITS
-
-        check_range(si, field=self._path(key), unit=SI_UNITS[kind][0], lo=lo, hi=hi, lo_open=lo_open,
-                    hi_open=hi_open, shown=f"{value!r} (= {si:g} {SI_UNITS[kind][0]})")
-        return si
-
-    def number(self, key, default=..., *, lo=None, hi=None, lo_open=False, hi_open=False):
-        value = self.raw(key, default)
-        v = parse_dimensionless(value, field=self._path(key))
-        check_range(v, field=self._path(key), unit="1", lo=lo, hi=hi, lo_open=lo_open, hi_open=hi_open)
-        return v
-
-    def integer(self, key, default=..., *, lo=None, hi=None):
-        value = self.raw(key, default)
-        if isinstance(value, bool) or not isinstance(value, int):
-            raise ActsimInputError(f"{self._path(key)}: {value!r} must be a whole number")
-        check_range(value, field=self._path(key), unit="1", lo=lo, hi=hi)
-        return int(value)
-
-    def string(self, key, default=..., *, choices=None):
-        value = self.raw(key, default)
-        if not isinstance(value, str):
-            raise ActsimInputError(f"{self._path(key)}: {value!r} must be a text string")
-        if choices is not None and value not in choices:
-            hint = difflib.get_close_matches(value, choices, n=1)
-            extra = f"; did you mean '{hint[0]}'?" if hint else ""
-            raise ActsimInputError(
-                f"{self._path(key)}: '{value}' is not one of {', '.join(repr(c) for c in choices)}{extra}"
-            )
-        return value
-
-    def boolean(self, key, default=...):
-        value = self.raw(key, default)
-        if not isinstance(value, bool):
-            raise ActsimInputError(f"{self._path(key)}: {value!r} must be true or false")
-        return value
-
-    def table(self, key, default=...):
-        value = self.raw(key, default)
-        return _Table(value, self._path(key))
-
-    def finish(self, allowed_extra=()):
-        unknown = [k for k in self.data if k not in self.used and k not in allowed_extra]
-        if unknown:
-            key = unknown[0]
-            known = sorted(self.used | set(allowed_extra))
-            hint = difflib.get_close_matches(key, known, n=1)
-            extra = f"; did you mean '{hint[0]}'?" if hint else f"; known fields: {', '.join(known)}"
-            raise ActsimInputError(f"{self._path(key)}: unknown field{extra}")
-
-
-def _spectral(table: _Table, key: str, *, kind: str | None, default, base_dir: Path, lo=0.0, hi=None):
+def _spectral(table: Table, key: str, *, kind: str | None, default, base_dir: Path, lo=0.0, hi=None):
     """Parse a spectral property: a constant, a table or Gaussian bands."""
-    from .units import SI_UNITS
-
-    path = table._path(key)
+    path = table.field_path(key)
     value = table.raw(key, default)
     unit_name = SI_UNITS[kind][0] if kind else "1"
 
@@ -292,7 +57,7 @@ def _spectral(table: _Table, key: str, *, kind: str | None, default, base_dir: P
 
     if not isinstance(value, dict):
         return SpectralFunction(field=path, kind="constant", constant=scalar(value, path), unit=unit_name)
-    sub = _Table(value, path)
+    sub = Table(value, path)
     if sub.has("file"):
         fname = sub.string("file")
         lam, vals = read_table_csv(base_dir / fname, field_name=f"{path}.file", value_unit_kind=kind)
@@ -318,7 +83,7 @@ def _spectral(table: _Table, key: str, *, kind: str | None, default, base_dir: P
             raise ActsimInputError(f"{path}.bands: must be a list of {{centre, fwhm, peak}} tables")
         bands = []
         for i, b in enumerate(bands_raw):
-            bt = _Table(b, f"{path}.bands[{i}]")
+            bt = Table(b, f"{path}.bands[{i}]")
             centre = bt.quantity("centre", "wavelength", lo=0, lo_open=True)
             fwhm = bt.quantity("fwhm", "wavelength", lo=0, lo_open=True)
             peak = scalar(bt.raw("peak"), f"{path}.bands[{i}].peak")
@@ -328,7 +93,7 @@ def _spectral(table: _Table, key: str, *, kind: str | None, default, base_dir: P
     raise ActsimInputError(f"{path}: a spectral table needs 'file', 'wavelength'+'values' or 'bands'")
 
 
-def _parse_temperature_modulus(t: "_Table", base_dir: Path):
+def _parse_temperature_modulus(t: "Table", base_dir: Path):
     """The optional [materials.X.glass_transition] or modulus_table = {file=...} law."""
     if t.has("glass_transition") and t.has("modulus_table"):
         raise ActsimInputError(f"{t.name}: give either glass_transition or modulus_table, not both")
@@ -354,7 +119,7 @@ def _parse_temperature_modulus(t: "_Table", base_dir: Path):
 
 def _read_modulus_table(path: Path, field_name: str):
     """Read a DMA-style CSV (temperature [unit], modulus [unit]) with :func:`actsim.tables.read_xy_csv`."""
-    from .tables import read_xy_csv
+    from ..tables import read_xy_csv
 
     try:
         data = read_xy_csv(path, x_kind="temperature", y_kind="modulus")
@@ -367,7 +132,7 @@ def _read_modulus_table(path: Path, field_name: str):
 
 
 def _parse_material(name: str, data, base_dir: Path) -> Material:
-    t = _Table(data, f"materials.{name}")
+    t = Table(data, f"materials.{name}")
     temperature_modulus = _parse_temperature_modulus(t, base_dir)
     if temperature_modulus is not None:
         for key in ("modulus", "product_modulus"):
@@ -426,7 +191,7 @@ def _parse_material(name: str, data, base_dir: Path) -> Material:
 
 
 def _parse_source(i: int, data, optics: OpticsSettings, base_dir: Path) -> LightSource:
-    t = _Table(data, f"sources[{i}]")
+    t = Table(data, f"sources[{i}]")
     name = t.string("name")
     kind = t.string("kind", default="line", choices=("line", "gaussian", "table"))
     face = t.string("face", default="top", choices=("top", "bottom"))
@@ -457,7 +222,7 @@ def _parse_source(i: int, data, optics: OpticsSettings, base_dir: Path) -> Light
 
 
 def _parse_step(i: int, data, sources, heat: "HeatSettings", previous: "Step | None", thickness: float) -> Step:
-    t = _Table(data, f"protocol[{i}]")
+    t = Table(data, f"protocol[{i}]")
     duration = t.quantity("duration", "time", lo=0.0, lo_open=True)
     label = t.string("label", default="")
     hold = t.string("hold", default="free", choices=HOLDS)
@@ -497,7 +262,7 @@ def _parse_step(i: int, data, sources, heat: "HeatSettings", previous: "Step | N
             "(add a [heat] section, or set heat.enabled = true)"
         )
     ambient = amb if amb is not None else (previous.ambient_top if previous is not None else heat.ambient_temperature)
-    from .thermal import linearised_radiation_coefficient
+    from ..thermal import linearised_radiation_coefficient
 
     # surroundings persist: a step that does not give them keeps those of the step before
     h_t = h_top if h_top is not None else (previous.convection_top if previous is not None else heat.top_heat_transfer)
@@ -551,7 +316,7 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
     except tomllib.TOMLDecodeError as exc:
         raise ActsimInputError(f"scenario {path or '<text>'}: not valid TOML ({exc})") from None
     base = Path(base_dir) if base_dir is not None else (Path(path).parent if path else Path.cwd())
-    top = _Table(raw, "")
+    top = Table(raw, "")
     title = top.string("title", default=Path(path).stem if path else "scenario")
     description = top.string("description", default="")
 
@@ -582,7 +347,7 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
         raise ActsimInputError("layers: required list of [[layers]] tables, bottom to top")
     layers = []
     for i, data in enumerate(layers_raw):
-        lt = _Table(data, f"layers[{i}]")
+        lt = Table(data, f"layers[{i}]")
         mname = lt.string("material")
         if mname not in materials:
             hint = difflib.get_close_matches(mname, list(materials), n=1)
@@ -683,25 +448,17 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
     if rt.has("target_bend_angle"):
         target = rt.quantity("target_bend_angle", "angle")
     rt.finish()
-
-    extras = {}
-    info = {"materials": list(materials), "layers": [layer.name for layer in layers], "sources": names,
-            "n_steps": len(protocol), "free_length": strip.free_length, "width": strip.width}
-    for section, (module, func) in SECTION_PARSERS.items():
+    sections = {}
+    for section in JOB_SECTIONS:
         if top.has(section):
-            import importlib
+            sections[section] = Table(top.raw(section), section).data  # a table; its fields are the job's to check
 
-            try:
-                parser = getattr(importlib.import_module(module), func)
-            except (ImportError, AttributeError):
-                raise ActsimInputError(f"{section}: this section is not supported by this actsim installation") from None
-            extras[section] = parser(top.raw(section), field=section, base_dir=base, scenario_info=info)
-
-    top.finish()
+    top.finish(allowed_extra=tuple(JOB_SECTIONS))
     return Scenario(
         title=title, strip=strip, layers=tuple(layers), sources=tuple(sources), protocol=tuple(protocol),
         optics=optics, heat=heat, output_interval=output_interval, time_step=time_step, text=text, path=str(path),
-        description=description, target_bend_angle=target, extras=extras, base_dir=str(base),
+        description=description, target_bend_angle=target, sections=sections, base_dir=str(base),
+        material_names=tuple(materials),
     )
 
 
@@ -732,90 +489,3 @@ def load_scenario(path) -> Scenario:
     except UnicodeDecodeError:
         raise ActsimInputError(f"scenario: '{p}' is not a UTF-8 text (TOML) file") from None
     return parse_scenario(text, path=p)
-
-
-# ----------------------------------------------------------------------------
-# Overrides: change any field of a scenario by its dotted path
-# ----------------------------------------------------------------------------
-
-_PATH_TOKEN = re.compile(r"([^.\[\]]+)|\[([^\]]+)\]")
-
-
-def split_field_path(path: str):
-    """Split ``"layers[1].thickness"`` or ``"layers[active film].thickness"`` into tokens."""
-    tokens = []
-    for name, index in _PATH_TOKEN.findall(path):
-        tokens.append(name if name else ("[", index))
-    if not tokens:
-        raise ActsimInputError(f"field path '{path}' is empty")
-    return tokens
-
-
-def _descend(container, token, path, *, create=False):
-    if isinstance(token, tuple):
-        index = token[1].strip()
-        if not isinstance(container, list):
-            raise ActsimInputError(f"{path}: '[{index}]' used on something that is not a list")
-        if index.lstrip("-").isdigit():
-            i = int(index)
-            if not -len(container) <= i < len(container):
-                raise ActsimInputError(f"{path}: index {i} is out of range (the list has {len(container)} entries)")
-            return container, i
-        names = [item.get("name") if isinstance(item, dict) else None for item in container]
-        if index in names:
-            return container, names.index(index)
-        hint = difflib.get_close_matches(index, [n for n in names if n], n=1)
-        extra = f"; did you mean '{hint[0]}'?" if hint else f"; names are: {', '.join(n for n in names if n)}"
-        raise ActsimInputError(f"{path}: no entry named '{index}'{extra}")
-    if not isinstance(container, dict):
-        raise ActsimInputError(f"{path}: '{token}' used on something that is not a table")
-    if token not in container and not create:
-        hint = difflib.get_close_matches(token, list(container), n=1)
-        extra = f"; did you mean '{hint[0]}'?" if hint else f"; fields here: {', '.join(container)}"
-        raise ActsimInputError(f"{path}: no field '{token}'{extra}")
-    return container, token
-
-
-def apply_overrides(scenario: Scenario, overrides: dict) -> Scenario:
-    """A new scenario with some fields replaced, validated like a file.
-
-    Parameters
-    ----------
-    scenario : Scenario
-        The base scenario (its TOML text is the starting point).
-    overrides : dict
-        Dotted field path -> value as it would be written in the file, e.g.
-        ``{"layers[1].thickness": "30 um", "materials.film.photo_strain": -0.02,
-        "protocol[0].light.lamp": "80 mW/cm^2"}``. List entries are addressed
-        by index or by ``name``. The last field may be new (an optional field
-        not in the file); every table on the way must exist.
-
-    Returns
-    -------
-    Scenario
-        Parsed from the modified TOML, so every value is checked exactly as in
-        a scenario file; its ``text`` is the modified TOML.
-    """
-    import copy
-
-    import tomli_w
-
-    raw = copy.deepcopy(tomllib.loads(scenario.text))
-    for path, value in overrides.items():
-        tokens = split_field_path(path)
-        node = raw
-        for tok in tokens[:-1]:
-            parent, key = _descend(node, tok, path)
-            if key == "light" and isinstance(parent[key], list):
-                # the list form ["lamp", ...] means each source at its own irradiance: make it a table
-                parent[key] = {name: "on" for name in parent[key]}
-            node = parent[key]
-        parent, key = _descend(node, tokens[-1], path, create=True)
-        if hasattr(value, "units") and hasattr(value, "magnitude"):
-            value = f"{value.magnitude!r} {value.units:~}"
-        elif isinstance(value, (np.floating, np.integer)):
-            value = value.item()
-        parent[key] = value
-    text = tomli_w.dumps(raw)
-    base = scenario.base_dir or (Path(scenario.path).parent if scenario.path else Path.cwd())
-    return parse_scenario(text, path=scenario.path, base_dir=base)
