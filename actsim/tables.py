@@ -16,6 +16,8 @@ File format
   column name, e.g. ``"strain [1]"``, ``"stress [MPa]"``, ``"temperature [degC]"``,
   ``"wavelength [nm]"``; or they are passed as ``x_unit``/``y_unit``.
 * Columns are separated by commas (semicolons or tabs are accepted when the header has no comma).
+* Further columns can be read as text alongside (``text_columns``), e.g. a per-row origin note.
+* Data files shipped with actsim (``actsim/data``) are read with :func:`data_file`.
 
 Every problem becomes one :class:`~actsim.errors.ActsimInputError` line that names the file
 and the line.
@@ -26,6 +28,7 @@ from __future__ import annotations
 import os
 import re
 from dataclasses import dataclass, field
+from importlib import resources
 from pathlib import Path
 
 import numpy as np
@@ -34,7 +37,7 @@ import pint
 from .errors import ActsimInputError
 from .units import Q_, SI_UNITS, ureg
 
-__all__ = ["XYData", "KINDS", "read_xy_csv", "as_xy"]
+__all__ = ["XYData", "KINDS", "read_xy_csv", "as_xy", "data_file"]
 
 #: Physical kind of a column -> key of :data:`actsim.units.SI_UNITS`, or None for dimensionless.
 KINDS = {
@@ -78,6 +81,8 @@ class XYData:
         Comment lines without the leading ``#``.
     synthetic : bool
         True if a comment says "synthetic".
+    text : dict of str to tuple of str
+        Columns read as text (``text_columns``), by column name, one entry per row.
     """
 
     x: np.ndarray
@@ -89,6 +94,23 @@ class XYData:
     source: str = "arrays"
     comments: list = field(default_factory=list)
     synthetic: bool = False
+    text: dict = field(default_factory=dict)
+
+
+def data_file(name: str):
+    """A data file shipped with actsim in ``actsim/data``, for :func:`read_xy_csv`.
+
+    Parameters
+    ----------
+    name : str
+        File name inside ``actsim/data``, e.g. ``"blue_light_hazard_b.csv"``.
+
+    Returns
+    -------
+    importlib.resources.abc.Traversable
+        The packaged file (readable whether actsim is installed as files or as an archive).
+    """
+    return resources.files("actsim").joinpath("data", name)
 
 
 def _split(line: str, delim: str):
@@ -114,13 +136,14 @@ def _to_si(values, unit: str, kind: str, *, where: str):
         raise ActsimInputError(f"{where}: unit {unit!r} is not a unit of {kind} (expected e.g. {ex})") from None
 
 
-def read_xy_csv(path, *, x_kind, y_kind, x_unit=None, y_unit=None, x_column=0, y_column=1, min_points=2):
+def read_xy_csv(path, *, x_kind, y_kind, x_unit=None, y_unit=None, x_column=0, y_column=1, min_points=2,
+                text_columns=()):
     """Read two columns of a CSV file with a header and convert them to SI.
 
     Parameters
     ----------
-    path : str or os.PathLike
-        The CSV file.
+    path : str, os.PathLike or importlib.resources.abc.Traversable
+        The CSV file (a packaged one from :func:`data_file`).
     x_kind, y_kind : str
         Physical kind of each column, a key of :data:`KINDS` (``"strain"``, ``"stress"``,
         ``"temperature"``, ``"wavelength"``, ``"absorbance"``, ``"modulus"``, ``"time"``,
@@ -132,12 +155,15 @@ def read_xy_csv(path, *, x_kind, y_kind, x_unit=None, y_unit=None, x_column=0, y
         Column index or column name (without unit). Defaults: first and second column.
     min_points : int
         Minimum number of data rows.
+    text_columns : sequence of int or str
+        Further columns to keep as text (stripped), e.g. ``("origin",)``; returned in
+        ``XYData.text`` under their header names.
 
     Returns
     -------
     XYData
         The two columns in SI (m, K, Pa, s, rad; dimensionless kinds as fractions, so
-        ``"strain [%]"`` becomes a fraction).
+        ``"strain [%]"`` becomes a fraction), and the text columns.
 
     Raises
     ------
@@ -162,7 +188,7 @@ def read_xy_csv(path, *, x_kind, y_kind, x_unit=None, y_unit=None, x_column=0, y
     for kind, label in ((x_kind, "x_kind"), (y_kind, "y_kind")):
         if kind not in KINDS:
             raise ActsimInputError(f"{label}: {kind!r} is not a known column kind ({', '.join(sorted(KINDS))})")
-    p = Path(path)
+    p = Path(path) if isinstance(path, (str, os.PathLike)) else path
     name = p.name
     if not p.is_file():
         raise ActsimInputError(f"data file: {str(path)!r} does not exist or is not a file")
@@ -206,8 +232,9 @@ def read_xy_csv(path, *, x_kind, y_kind, x_unit=None, y_unit=None, x_column=0, y
         raise ActsimInputError(f"{name}: no column named {col!r} in the header ({', '.join(names)})")
 
     ix, iy = col_index(x_column, "x_column"), col_index(y_column, "y_column")
-    need = max(ix, iy) + 1
-    xs, ys = [], []
+    it = [col_index(c, "text column") for c in text_columns]
+    need = max([ix, iy, *it]) + 1
+    xs, ys, texts = [], [], []
     for no, cells in rows:
         if len(cells) < need:
             raise ActsimInputError(f"{name} line {no}: {len(cells)} columns, expected at least {need} as in the header")
@@ -225,6 +252,7 @@ def read_xy_csv(path, *, x_kind, y_kind, x_unit=None, y_unit=None, x_column=0, y
             vals.append(v)
         xs.append(vals[0])
         ys.append(vals[1])
+        texts.append([cells[i] for i in it])
     if len(xs) < min_points:
         raise ActsimInputError(f"{name}: {len(xs)} data rows, at least {min_points} are needed")
 
@@ -246,8 +274,9 @@ def read_xy_csv(path, *, x_kind, y_kind, x_unit=None, y_unit=None, x_column=0, y
     yu = unit_of(iy, y_unit, y_kind, "y_unit")
     x = _to_si(np.array(xs), xu, x_kind, where=f"{name} column '{header[ix]}'")
     y = _to_si(np.array(ys), yu, y_kind, where=f"{name} column '{header[iy]}'")
+    text = {names[i]: tuple(row[k] for row in texts) for k, i in enumerate(it)}
     return XYData(x=x, y=y, x_name=names[ix], y_name=names[iy], x_unit=xu, y_unit=yu, source=name,
-                  comments=comments, synthetic=any("synthetic" in c.lower() for c in comments))
+                  comments=comments, synthetic=any("synthetic" in c.lower() for c in comments), text=text)
 
 
 def as_xy(data, *, x_kind, y_kind, x_unit=None, y_unit=None, min_points=2, x_name="x", y_name="y") -> XYData:
