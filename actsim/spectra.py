@@ -221,10 +221,10 @@ def gaussian_spectrum(*, centre, fwhm, irradiance, points=241):
     integral). Integrated over a band of :func:`gaussian_bands` it gives that
     band's fraction to the accuracy of the grid.
 
-    .. math:: E_\lambda(\lambda) = \frac{E}{Z}
-       \exp\left(-\frac{(\lambda - \mu)^2}{2\sigma^2}\right), \qquad
-       |\lambda - \mu| \le 1.5\,\mathrm{FWHM}, \qquad
-       \sigma = \frac{\mathrm{FWHM}}{2\sqrt{2\ln 2}}
+    .. math:: E_\\lambda(\\lambda) = \\frac{E}{Z}
+       \\exp\\left(-\\frac{(\\lambda - \\mu)^2}{2\\sigma^2}\\right), \\qquad
+       |\\lambda - \\mu| \\le 1.5\\,\\mathrm{FWHM}, \\qquad
+       \\sigma = \\frac{\\mathrm{FWHM}}{2\\sqrt{2\\ln 2}}
 
     with Z the trapezoidal integral of the exponential over the grid.
 

@@ -90,8 +90,9 @@ class ExposureLimit:
     from_memory: bool = True
 
     def applies_to_wavelengths(self, wavelength_min: float, wavelength_max: float) -> bool:
-        """True if [wavelength_min, wavelength_max] [m] overlaps the limit's range."""
-        return wavelength_min <= self.wavelength_max and wavelength_max >= self.wavelength_min
+        """True if [wavelength_min, wavelength_max] [m] overlaps the limit's range (ends included, to round-off)."""
+        return (wavelength_min <= self.wavelength_max * (1 + 1e-12)
+                and wavelength_max >= self.wavelength_min * (1 - 1e-12))
 
     def applies_to_duration(self, duration: float) -> bool:
         """True if the limit governs an exposure of ``duration`` [s]."""
