@@ -30,6 +30,7 @@ from __future__ import annotations
 import os
 import re
 from dataclasses import dataclass, field
+from importlib import resources
 from pathlib import Path
 
 import numpy as np
@@ -38,7 +39,7 @@ import pint
 from .errors import ActsimInputError
 from .units import Q_, SI_UNITS, ureg
 
-__all__ = ["XYData", "KINDS", "CSVTable", "read_csv_table", "read_xy_csv", "as_xy"]
+__all__ = ["XYData", "KINDS", "CSVTable", "read_csv_table", "read_xy_csv", "as_xy", "data_file"]
 
 #: Physical kind of a column -> key of :data:`actsim.units.SI_UNITS`, or None for dimensionless.
 KINDS = {
@@ -86,6 +87,8 @@ class XYData:
         Comment lines without the leading ``#``.
     synthetic : bool
         True if a comment says "synthetic".
+    text : dict of str to tuple of str
+        Columns read as text (``text_columns``), by column name, one entry per row.
     """
 
     x: np.ndarray
@@ -97,6 +100,23 @@ class XYData:
     source: str = "arrays"
     comments: list = field(default_factory=list)
     synthetic: bool = False
+    text: dict = field(default_factory=dict)
+
+
+def data_file(name: str):
+    """A data file shipped with actsim in ``actsim/data``, for :func:`read_csv_table` / :func:`read_xy_csv`.
+
+    Parameters
+    ----------
+    name : str
+        File name inside ``actsim/data``, e.g. ``"blue_light_hazard_b.csv"``.
+
+    Returns
+    -------
+    importlib.resources.abc.Traversable
+        The packaged file (readable whether actsim is installed as files or as an archive).
+    """
+    return resources.files("actsim").joinpath("data", name)
 
 
 def _split(line: str, delim: str):
@@ -255,7 +275,7 @@ def read_csv_table(path) -> CSVTable:
     ActsimInputError
         File missing, not UTF-8 text, unreadable, or without a header line.
     """
-    p = Path(path)
+    p = Path(path) if isinstance(path, (str, os.PathLike)) else path
     name = p.name
     if not p.is_file():
         raise ActsimInputError(f"data file: {str(path)!r} does not exist or is not a file")
@@ -291,7 +311,8 @@ def read_csv_table(path) -> CSVTable:
     return CSVTable(header=header, names=names, units=units, rows=rows, source=name, comments=comments)
 
 
-def read_xy_csv(path, *, x_kind, y_kind, x_unit=None, y_unit=None, x_column=0, y_column=1, min_points=2):
+def read_xy_csv(path, *, x_kind, y_kind, x_unit=None, y_unit=None, x_column=0, y_column=1, min_points=2,
+                text_columns=()):
     """Read two columns of a CSV file with a header and convert them to SI.
 
     Parameters
@@ -309,12 +330,15 @@ def read_xy_csv(path, *, x_kind, y_kind, x_unit=None, y_unit=None, x_column=0, y
         Column index or column name (without unit). Defaults: first and second column.
     min_points : int
         Minimum number of data rows.
+    text_columns : sequence of int or str
+        Further columns to keep as text (stripped), e.g. ``("origin",)``; returned in
+        ``XYData.text`` under their header names.
 
     Returns
     -------
     XYData
         The two columns in SI (m, K, Pa, s, rad; dimensionless kinds as fractions, so
-        ``"strain [%]"`` becomes a fraction).
+        ``"strain [%]"`` becomes a fraction), and the text columns.
 
     Raises
     ------
@@ -366,8 +390,14 @@ def read_xy_csv(path, *, x_kind, y_kind, x_unit=None, y_unit=None, x_column=0, y
     yu = unit_of(iy, y_unit, y_kind, "y_unit")
     x = _to_si(xs, xu, x_kind, where=f"{name} column '{header[ix]}'")
     y = _to_si(ys, yu, y_kind, where=f"{name} column '{header[iy]}'")
+    it = [tab.index(c, "text column") for c in text_columns]
+    need = max([ix, iy, *it]) + 1
+    for no, cells in tab.rows:
+        if len(cells) < need:
+            raise ActsimInputError(f"{name} line {no}: {len(cells)} columns, expected at least {need} as in the header")
+    text = {names[i]: tuple(cells[i].strip() for _, cells in tab.rows) for i in it}
     return XYData(x=x, y=y, x_name=names[ix], y_name=names[iy], x_unit=xu, y_unit=yu, source=name,
-                  comments=tab.comments, synthetic=tab.synthetic)
+                  comments=tab.comments, synthetic=tab.synthetic, text=text)
 
 
 def as_xy(data, *, x_kind, y_kind, x_unit=None, y_unit=None, min_points=2, x_name="x", y_name="y") -> XYData:

@@ -535,7 +535,7 @@ def _tip_loaded_stress(scenario, ds, tip: dict):
 
 
 def _exposure_protocol(scenario, ss: SafetySettings):
-    from .photobio import spectrum_from_light_source
+    from .light_spectrum import spectrum_from_light_source
 
     steps = []
     for st in scenario.protocol:
@@ -588,7 +588,7 @@ def _exposure_protocol(scenario, ss: SafetySettings):
 
 
 def _light_checks(scenario, ss: SafetySettings):
-    from .photobio import protocol_check
+    from .exposure import protocol_check
 
     if not scenario.sources or all(sum(st.irradiance) == 0 for st in scenario.protocol):
         return [], {"assessed": False, "reason": "no light in the protocol"}
