@@ -54,7 +54,7 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.integrate import cumulative_trapezoid, quad, solve_bvp, trapezoid
 
-from .errors import ActsimInputError
+from .errors import ActsimInputError, ActsimSimulationError
 
 __all__ = [
     "ElasticaShape",
@@ -650,7 +650,7 @@ def cantilever_shape(
 
     first = solve_at(0.0, guess)
     if first is None:  # pragma: no cover - the unloaded problem is linear in x, y
-        raise ActsimInputError("spontaneous_curvature: the unloaded shape could not be solved; check the profile")
+        raise ActsimSimulationError("spontaneous_curvature: the unloaded shape could not be solved; check the profile")
     if Fd.any() or Md or wd:
         # first step: a dimensionless load of about 2 (|F| L^2/EI, |M| L/EI, w L^3/(8 EI))
         size = max(float(np.hypot(*Fd)), abs(Md), wd / 8.0)
@@ -862,7 +862,7 @@ def load_line(*, length, bending_stiffness, spontaneous_curvature, n=21, n_point
         sol_free = _solve(system, (lambda ya, yb, pp: np.array([ya[0], ya[2], ya[3], yb[1], yb[3] - u_free])),
                           free_guess, np.array([0.0]))
         if sol_free is None:  # pragma: no cover
-            raise ActsimInputError("spontaneous_curvature: the free shape could not be solved; check the profile")
+            raise ActsimSimulationError("spontaneous_curvature: the free shape could not be solved; check the profile")
         k_a = len(sols)  # grid points 0 .. k_a-1 come from branch A
         down = 1.0 - grid[::-1][1 : n - k_a]  # lam along the free branch (delta = (1 - lam) u_free)
 

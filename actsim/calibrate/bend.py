@@ -49,7 +49,7 @@ from pathlib import Path
 import numpy as np
 from scipy.optimize import least_squares
 
-from ..errors import ActsimError, ActsimInputError
+from ..errors import ActsimError, ActsimInputError, ActsimSimulationError
 from ..units import DIMENSIONLESS_UNITS, Q_, parse_dimensionless, parse_quantity, unit_kind, ureg
 from .fitstats import FitResult, fit_statistics
 from .readers import XYData, as_xy
@@ -592,7 +592,7 @@ def fit_bend(scenario, curves, *, parameters=None, confidence=0.95, max_iteratio
                 ds = simulate(sc, engine=engine)
             except (ActsimError, FloatingPointError) as exc:
                 vals = ", ".join(f"{p.label} = {v:.6g} {p.unit}" for p, v in zip(params, pvec))
-                raise ActsimInputError(f"fit: the simulation of {c.source} failed at {vals} ({exc}); "
+                raise ActsimSimulationError(f"fit: the simulation of {c.source} failed at {vals} ({exc}); "
                                        "narrow the bounds") from None
             count["sims"] += 1
             if progress is not None:

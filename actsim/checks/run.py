@@ -29,7 +29,7 @@ joint's margin at each angle ...). The checks are:
    checks 1 and 2 instead of the free-strip stress).
 5. **Light at the exposure position** (UV and visible sources): actinic UV,
    UV-A and blue-light hazards of the protocol, repeated over the exposure
-   duration (:func:`actsim.checks.photobio.protocol_check`); without
+   duration (:func:`actsim.checks.exposure.protocol_check`); without
    ``[safety].exposure_duration``, 8 h of repeated use (the daily reference
    of the ICNIRP / IEC 62471 limits), never a single run.
 6. **Skin contact** (``[safety].skin_contact = true``): the peak modelled
