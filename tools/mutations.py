@@ -1,11 +1,11 @@
-"""Break the post-processing on purpose and check that the tests catch each break.
+"""Break the code on purpose (post-processing, the TR-BDF2 steps) and check that the tests catch each break.
 
 Each mutation replaces one exact piece of source text in a scratch copy of the package (the working tree is never
 touched), clears the numba caches of the copy, and runs the given test files against it. A mutation whose text is
 no longer in the source (the code moved) is reported as "not applied" rather than silently passed.
 
-    python3 tools/mutate_outputs.py                       # all mutations, tests/test_outputs_independent.py
-    python3 tools/mutate_outputs.py -k hold tests/test_outputs_independent.py tests/test_mechanics.py
+    python3 tools/mutations.py                            # all mutations, tests/test_outputs_independent.py
+    python3 tools/mutations.py -k trbdf2 tests/test_thermal.py
 """
 
 from __future__ import annotations
@@ -66,6 +66,17 @@ MUTATIONS = {
     "dose: one segment late": (
         "actsim/solver.py", "dose = np.concatenate([[0.0], np.cumsum(seg_power * np.diff(times))])",
         "dose = np.concatenate([[0.0], np.cumsum(seg_power[::-1] * np.diff(times))])"),
+    "trbdf2 (numba): source at the end of the step in the first stage": (
+        "actsim/thermal.py", "q_g[i] = (1.0 - g) * q_old[i] + g * q_new[i]", "q_g[i] = q_new[i]"),
+    "trbdf2 (numba): BDF2 weight (1 - gamma) instead of (1 - gamma)^2": (
+        "actsim/thermal.py", "a_n = (1.0 - g) * (1.0 - g) / (g * (2.0 - g))", "a_n = (1.0 - g) / (g * (2.0 - g))"),
+    "trbdf2 (reference): source at the end of the step in the first stage": (
+        "actsim/thermal.py", "q_gamma = (1.0 - gamma) * q_old + gamma * q_new", "q_gamma = q_new"),
+    "trbdf2 (reference): backward Euler second stage": (
+        "actsim/thermal.py", "    T_new = solve(d * dt, rhs)\n",
+        "    T_new = solve(dt, cap * T + dt * b_of(q_new))\n"),
+    "trbdf2 (reference): top ambient on the bottom face": (
+        "actsim/thermal.py", "        b[0] += g_b * ambient_bottom\n", "        b[0] += g_b * ambient_top\n"),
 }
 
 
