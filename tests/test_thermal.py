@@ -454,7 +454,7 @@ def test_crank_nicolson_rings_trbdf2_does_not():
     signs = np.sign(cn[:, -1] - ref[:, -1])
     assert np.all(signs[1:] == -signs[:-1])  # error flips sign every step
     assert err_cn[-1] > 0.5  # and is still large after 10 steps
-    assert 300 - tb[0].min() < 0.05 * 10 and err_tb[3] < 2e-3  # TR-BDF2 damps it
+    assert 300 - tb[0].min() < 0.02 * 10 and err_tb[3] < 2e-3  # TR-BDF2 damps it (measured 0.181 K, 1.3e-3)
     assert be.min() >= 300.0 - 1e-12 and be.max() <= 310.0 + 1e-12  # maximum principle
 
 
@@ -539,13 +539,15 @@ def test_linearised_radiation_coefficient():
     assert h == pytest.approx(4 * Stefan_Boltzmann * 300.0**3, rel=1e-15)
     assert h == pytest.approx(6.12, abs=0.01)  # about 6 W/(m^2 K) for a black surface near room temperature (from memory)
     # [Inc] sec. 1.2.3: exact h_r = eps sigma (Ts + Tsur)(Ts^2 + Tsur^2) -> 4 eps sigma Tsur^3 as Ts -> Tsur,
-    # with relative error ~ 1.5 dT/Tsur (Taylor expansion of Ts^4)
+    # with relative error ~ 1.5 dT/Tsur (Taylor expansion of Ts^4). With x = dT/Tsur, h_exact = eps sigma Tsur^3
+    # (4 + 6x + 4x^2 + x^3), so 1 - h_lin/h_exact = 1.5 x - 1.25 x^2 + ...: the first term is right to a relative
+    # 0.83 x (hand calculation), 2.8e-2 at dT = 10 K
     eps, Tsur = 0.9, 300.0
     h_lin = th.linearised_radiation_coefficient(emissivity=eps, ambient_temperature=Tsur)
     for dT in (0.01, 1.0, 10.0):
         Ts = Tsur + dT
         h_exact = eps * Stefan_Boltzmann * (Ts + Tsur) * (Ts**2 + Tsur**2)
-        assert 1 - h_lin / h_exact == pytest.approx(1.5 * dT / Tsur, rel=0.05)
+        assert 1 - h_lin / h_exact == pytest.approx(1.5 * dT / Tsur, rel=dT / Tsur)
     assert th.linearised_radiation_coefficient_nb(eps, Tsur) == pytest.approx(h_lin, rel=1e-15)
     with pytest.raises(ActsimInputError, match="^emissivity"):
         th.linearised_radiation_coefficient(emissivity=1.2, ambient_temperature=300.0)
