@@ -183,7 +183,10 @@ def test_lumped_capacitance_limit():
     rise = res.temperature.mean(axis=1) - T_amb
     err = np.max(np.abs(rise - exact)) / (q_abs / (h_t + h_b))
     print(f"lumped limit: max relative error {err:.2e}")
-    assert err < 1e-4  # CN error ~ (dt/tau)^2/12 ~ 1e-5 plus Bi ~ 3e-6
+    # Crank-Nicolson multiplies the decaying part by (1 - z/2)/(1 + z/2) = exp(-z - z^3/12 - ...) per step, z = dt/tau,
+    # so after time t its relative error is (t/tau) z^2/12 and the error of the rise peaks at t = tau at
+    # e^-1 z^2/12 = 3.07e-6 (hand calculation); the non-uniformity (Bi = 3e-6) adds less. Measured 3.16e-6.
+    assert err < 4e-6
     assert np.ptp(res.temperature[-1]) < 1e-5 * rise[-1]  # uniform, as the lumped model assumes
 
 
@@ -348,7 +351,9 @@ def test_semi_infinite_constant_surface_flux():
         surface = 2 * q0 / K_POLY * s / math.sqrt(math.pi)
         err = np.max(np.abs(res.temperature[j] - T_i - exact)) / surface
         print(f"semi-infinite flux t={t_check}s: max error {err:.2e} of the surface rise {surface:.3f} K")
-        assert err < 2e-3
+        # spatial error ~ (dz_top / sqrt(a t))^2 = 4e-4 at 0.02 s times a constant below 1; measured 6.6e-5
+        # (t = 0.02 s) and 4.3e-5 (t = 0.1 s)
+        assert err < 1e-4
     # all the energy put in is stored (no losses)
     assert res.stored[-1] == pytest.approx(q0 * t_end, rel=1e-9)  # round-off of 2000 steps at T ~ 300 K, rise < 1 K
 
