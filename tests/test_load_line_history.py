@@ -27,6 +27,9 @@ def test_small_deflection_load_lines_over_time():
         ei = float(ds.bending_stiffness[i])
         assert k * L < 0.02
         row = h.sel(time=t)
-        assert float(row.force[0]) == pytest.approx(1.5 * ei * k / L, rel=2e-2)
-        assert float(row.work) == pytest.approx(3 * ei * k**2 * L / 8, rel=3e-2)
+        # The small-deflection formulas leave out terms of relative size O((kappa L)^2) (geometric nonlinearity of
+        # the elastica); measured 1.9e-7 (force) and 2.1e-7 (work) at kappa L = 6.2e-3, i.e. 0.005 (kappa L)^2.
+        tol = 0.02 * (k * L) ** 2 + 1e-9
+        assert float(row.force[0]) == pytest.approx(1.5 * ei * k / L, rel=tol)
+        assert float(row.work) == pytest.approx(3 * ei * k**2 * L / 8, rel=tol)
     assert h.force.attrs["units"] == "N" and h.work.attrs["units"] == "J"

@@ -1,0 +1,115 @@
+"""Break the code on purpose (post-processing, the TR-BDF2 steps) and check that the tests catch each break.
+
+Each mutation replaces one exact piece of source text in a scratch copy of the package (the working tree is never
+touched), clears the numba caches of the copy, and runs the given test files against it. A mutation whose text is
+no longer in the source (the code moved) is reported as "not applied" rather than silently passed.
+
+    python3 tools/mutations.py                            # all mutations, tests/test_outputs_independent.py
+    python3 tools/mutations.py -k trbdf2 tests/test_thermal.py
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import shutil
+import subprocess
+import sys
+import tempfile
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parent.parent
+
+#: name -> (file, original text, broken text)
+MUTATIONS = {
+    "holding_moment: M + N h/2": (
+        "actsim/solver.py", "b * (m_hold - n_hold * 0.5 * h)", "b * (m_hold + n_hold * 0.5 * h)"),
+    "holding_moment: about z = 0": (
+        "actsim/solver.py", "b * (m_hold - n_hold * 0.5 * h)", "b * m_hold"),
+    "holding_force: per unit width": (
+        "actsim/solver.py", '_var(("time",), b * n_hold,', '_var(("time",), n_hold,'),
+    "face temperatures: h and T_amb swapped (bottom)": (
+        "actsim/thermal.py",
+        "lb, lt = face_heat_loss(T, dz, k, h_bottom, T_amb_bottom, h_top, T_amb_top)",
+        "lb, lt = face_heat_loss(T, dz, k, T_amb_bottom, h_bottom, h_top, T_amb_top)"),
+    "face temperatures: no half-cell drop": (
+        "actsim/thermal.py",
+        "return T[0] - lb * 0.5 * dz[0] / k[0], T[n - 1] - lt * 0.5 * dz[n - 1] / k[n - 1]",
+        "return T[0], T[n - 1]"),
+    "face temperatures: ambients of the faces swapped": (
+        "actsim/solver.py",
+        "face_temperatures(T[i], p.dz, p.k_cond, env[i, 1], env[i, 0], env[i, 3], env[i, 2])",
+        "face_temperatures(T[i], p.dz, p.k_cond, env[i, 1], env[i, 2], env[i, 3], env[i, 0])"),
+    "face temperatures: h of the faces swapped": (
+        "actsim/solver.py",
+        "face_temperatures(T[i], p.dz, p.k_cond, env[i, 1], env[i, 0], env[i, 3], env[i, 2])",
+        "face_temperatures(T[i], p.dz, p.k_cond, env[i, 3], env[i, 0], env[i, 1], env[i, 2])"),
+    "axial_strain: e0 + kappa h/2": (
+        "actsim/solver.py", "e0 - kappa * 0.5 * h,", "e0 + kappa * 0.5 * h,"),
+    "bend_angle: free curvature": (
+        "actsim/solver.py", "kappa * L, \"rad\"", "kappa_free * L, \"rad\""),
+    "tip: x and y swapped": (
+        "actsim/solver.py", "x_tip, y_tip = mechanics.arc_tip_position", "y_tip, x_tip = mechanics.arc_tip_position"),
+    "tip: small-angle deflection": (
+        "actsim/solver.py", '_var(("time",), y_tip, "m"', '_var(("time",), 0.5 * kappa * L**2, "m"'),
+    "blocked_force: 3 EI kappa / L": (
+        "actsim/mechanics.py", "return 1.5 * ei * np.asarray(curvature) / free_length",
+        "return 3.0 * ei * np.asarray(curvature) / free_length"),
+    "blocked_moment: held curvature": (
+        "actsim/solver.py", "bending_stiffness=d_eff, curvature=kappa_free, width=strip.width)\n",
+        "bending_stiffness=d_eff, curvature=kappa, width=strip.width)\n"),
+    "bending stiffness: D instead of D - B^2/A": (
+        "actsim/mechanics.py", "return e0, kappa, det / s[\"A\"]", "return e0, kappa, s[\"D\"]"),
+    "stress: at the mid-thickness strain": (
+        "actsim/solver.py", "eigenstrain=e_star, strain_bottom=e0, curvature=kappa)",
+        "eigenstrain=e_star, strain_bottom=e0 - kappa * 0.5 * scenario.thickness, curvature=kappa)"),
+    "dose: one segment late": (
+        "actsim/solver.py", "dose = np.concatenate([[0.0], np.cumsum(seg_power * np.diff(times))])",
+        "dose = np.concatenate([[0.0], np.cumsum(seg_power[::-1] * np.diff(times))])"),
+    "trbdf2 (numba): source at the end of the step in the first stage": (
+        "actsim/thermal.py", "q_g[i] = (1.0 - g) * q_old[i] + g * q_new[i]", "q_g[i] = q_new[i]"),
+    "trbdf2 (numba): BDF2 weight (1 - gamma) instead of (1 - gamma)^2": (
+        "actsim/thermal.py", "a_n = (1.0 - g) * (1.0 - g) / (g * (2.0 - g))", "a_n = (1.0 - g) / (g * (2.0 - g))"),
+    "trbdf2 (reference): source at the end of the step in the first stage": (
+        "actsim/thermal.py", "q_gamma = (1.0 - gamma) * q_old + gamma * q_new", "q_gamma = q_new"),
+    "trbdf2 (reference): backward Euler second stage": (
+        "actsim/thermal.py", "    T_new = solve(d * dt, rhs)\n",
+        "    T_new = solve(dt, cap * T + dt * b_of(q_new))\n"),
+    "trbdf2 (reference): top ambient on the bottom face": (
+        "actsim/thermal.py", "        b[0] += g_b * ambient_bottom\n", "        b[0] += g_b * ambient_top\n"),
+}
+
+
+def main(argv=None):
+    ap = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
+    ap.add_argument("tests", nargs="*", default=["tests/test_outputs_independent.py"])
+    ap.add_argument("-k", default="", help="run only the mutations whose name contains this text")
+    args = ap.parse_args(argv)
+    results = []
+    for name, (rel, old, new) in MUTATIONS.items():
+        if args.k and args.k not in name:
+            continue
+        with tempfile.TemporaryDirectory() as tmp:
+            shutil.copytree(ROOT / "actsim", Path(tmp) / "actsim", ignore=shutil.ignore_patterns("__pycache__"))
+            path = Path(tmp) / rel
+            text = path.read_text()
+            if text.count(old) != 1:
+                results.append((name, "not applied", ""))
+                continue
+            path.write_text(text.replace(old, new))
+            env = dict(os.environ, PYTHONPATH=tmp, NUMBA_CACHE_DIR=str(Path(tmp) / "numba_cache"))
+            # run from the scratch folder: python -m puts the current folder first on the path
+            cmd = [sys.executable, "-m", "pytest", "-q", "-p", "no:cacheprovider", "-c", str(ROOT / "pyproject.toml"),
+                   "--rootdir", str(ROOT), *[str(ROOT / t) for t in args.tests]]
+            r = subprocess.run(cmd, env=env, capture_output=True, text=True, cwd=tmp)
+            failed = sorted({ln.split(" - ")[0].split("::", 1)[-1] for ln in r.stdout.splitlines()
+                             if ln.startswith(("FAILED", "ERROR"))})
+            results.append((name, "caught" if r.returncode else "MISSED", ", ".join(failed)))
+    width = max(len(n) for n, _, _ in results)
+    for name, verdict, by in results:
+        print(f"{name:<{width}}  {verdict:<11}  {by}")
+    return 1 if any(v == "MISSED" for _, v, _ in results) else 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
