@@ -1,10 +1,10 @@
-"""Break the code on purpose (post-processing, the TR-BDF2 steps) and check that the tests catch each break.
+"""Break the core on purpose, one line at a time, and check that the tests catch each break.
 
 Each mutation replaces one exact piece of source text in a scratch copy of the package (the working tree is never
 touched), clears the numba caches of the copy, and runs the given test files against it. A mutation whose text is
 no longer in the source (the code moved) is reported as "not applied" rather than silently passed.
 
-    python3 tools/mutations.py                            # all mutations, tests/test_outputs_independent.py
+    python3 tools/mutations.py                            # all mutations, the core tests (CORE_TESTS)
     python3 tools/mutations.py -k trbdf2 tests/test_thermal.py
 """
 
@@ -19,6 +19,13 @@ import tempfile
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parent.parent
+
+#: Tests run against each mutation by default: the core's (the whole suite takes longer).
+CORE_TESTS = [
+    "tests/test_outputs_independent.py", "tests/test_kernels.py", "tests/test_photokinetics.py",
+    "tests/test_mechanics.py", "tests/test_heat_coupled.py", "tests/test_thermal.py", "tests/test_shape_memory.py",
+    "tests/test_batch.py", "tests/test_optics.py",
+]
 
 #: name -> (file, original text, broken text)
 MUTATIONS = {
@@ -77,12 +84,34 @@ MUTATIONS = {
         "    T_new = solve(dt, cap * T + dt * b_of(q_new))\n"),
     "trbdf2 (reference): top ambient on the bottom face": (
         "actsim/thermal.py", "        b[0] += g_b * ambient_bottom\n", "        b[0] += g_b * ambient_top\n"),
+    'h and ambient temperature swapped for the bottom face': (
+        'actsim/solver.py', 'face_temperatures(T[i], dz, p.heat.k_cond, env[i, 1], env[i, 0], env[i, 3], env[i, 2])', 'face_temperatures(T[i], dz, p.heat.k_cond, env[i, 0], env[i, 1], env[i, 3], env[i, 2])'),
+    'light marched from the wrong face': (
+        'actsim/optics.py', 'i = n_cell - 1 - j if light.from_top[b] else j', 'i = j if light.from_top[b] else n_cell - 1 - j'),
+    'sign of the thermal back rate': (
+        'actsim/kinetics.py', 'k_b[i] = LN10 * sb + k_th', 'k_b[i] = LN10 * sb - k_th'),
+    'photostationary state from the wrong rate': (
+        'actsim/kinetics.py', 'xss = k_f[i] / k\n', 'xss = k_b[i] / k\n'),
+    "sign of the free curvature in the kernel's section solve": (
+        'actsim/mechanics.py', 'kappa = (B * Ns - A * Ms) / det', 'kappa = (A * Ms - B * Ns) / det'),
+    'sign of the thermal strain': (
+        'actsim/material.py', 'e_th = mat.alpha_th[i] * (T[i] - T_ref)', 'e_th = mat.alpha_th[i] * (T_ref - T[i])'),
+    'heat source not divided by the cell width': (
+        'actsim/thermal.py', 'out[i] = heat_frac[i] * p / dz[i]', 'out[i] = heat_frac[i] * p'),
+    'corrector drops the end-of-step back rate': (
+        'actsim/_kernels.py', 'kb1[i] = 0.5 * (kb0[i] + kb1[i])', 'kb1[i] = kb0[i]'),
+    'tip coordinates swapped': (
+        'actsim/solver.py', 'x_tip, y_tip = mechanics.arc_tip_position(', 'y_tip, x_tip = mechanics.arc_tip_position('),
+    'one time step too few per segment (off by one)': (
+        'actsim/schedule.py', 'seg_n = np.maximum(1, np.ceil(length / time_step - 1e-9))', 'seg_n = np.maximum(1, np.floor(length / time_step - 1e-9))'),
+    'network remembers the strain with the wrong sign': (
+        'actsim/material.py', 's = S[i] + strain[i] * dn', 's = S[i] - strain[i] * dn'),
 }
 
 
 def main(argv=None):
     ap = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
-    ap.add_argument("tests", nargs="*", default=["tests/test_outputs_independent.py"])
+    ap.add_argument("tests", nargs="*", default=CORE_TESTS)
     ap.add_argument("-k", default="", help="run only the mutations whose name contains this text")
     args = ap.parse_args(argv)
     results = []
