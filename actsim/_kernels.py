@@ -159,7 +159,9 @@ def run_design(grid, light, photo, heat, mat, sched, out):
     light-formed network exists, network formed in the step remembers the
     midpoint mechanical strain of the step (total strain less thermal strain;
     predicted, then corrected), so it is stress-free when it forms; cleavage
-    removes the same fraction of the remembered strain. ``out.energy`` holds
+    removes the same fraction of the remembered strain. The heat state is the
+    rise above ``heat.T_ref`` (the stages see the absolute temperature), so
+    the stored heat is not rounded at 293 K every step. ``out.energy`` holds
     the cumulative heat absorbed and lost through the bottom and top faces
     [J m-2], integrated with the heat scheme's own quadrature.
 
@@ -193,6 +195,10 @@ def run_design(grid, light, photo, heat, mat, sched, out):
             has_network = True
     x = photo.x0.copy()
     T = heat.T0.copy()
+    rise = np.empty(n_cell)  # heat state: rise above T_ref, so the stored heat is not rounded at 293 K
+    rise_n = np.empty(n_cell)
+    for i in range(n_cell):
+        rise[i] = T[i] - T_ref
     S = np.zeros(n_cell)
     xp = np.empty(n_cell)
     Tn = np.empty(n_cell)
@@ -258,11 +264,13 @@ def run_design(grid, light, photo, heat, mat, sched, out):
             if heat_mode != HEAT_OFF:
                 heat_source(ab, light.beam_emol, dz, heat.heat_frac, q1)
                 if heat_mode == HEAT_CN:
-                    lb, lt = conduction_theta_factored(T, cap, dz, g_int, gb, gt, q0, q1, dt, T_amb_b, T_amb_t, 0.5,
-                                                       fac, work[3], Tn)
+                    lb, lt = conduction_theta_factored(rise, cap, dz, g_int, gb, gt, q0, q1, dt, T_amb_b - T_ref,
+                                                       T_amb_t - T_ref, 0.5, fac, work[3], rise_n)
                 else:
-                    lb, lt = conduction_trbdf2_factored(T, cap, dz, g_int, gb, gt, q0, q1, dt, T_amb_b, T_amb_t,
-                                                        fac, work, Tn)
+                    lb, lt = conduction_trbdf2_factored(rise, cap, dz, g_int, gb, gt, q0, q1, dt, T_amb_b - T_ref,
+                                                        T_amb_t - T_ref, fac, work, rise_n)
+                for i in range(n_cell):
+                    Tn[i] = rise_n[i] + T_ref
                 e_lb += lb
                 e_lt += lt
                 for i in range(n_cell):
@@ -291,6 +299,7 @@ def run_design(grid, light, photo, heat, mat, sched, out):
             for i in range(n_cell):
                 x[i] = xp[i]
                 T[i] = Tn[i]
+                rise[i] = rise_n[i]
         material_state(x, T, S, mat, T_ref, E, Ee)
         r = section_solve(z_edges, E, Ee, hold, value)
         mech[0], mech[1], mech[2], mech[3] = r[0], r[1], r[2], r[3]

@@ -6,8 +6,8 @@ Slow; for tests (``tests/test_kernels.py`` compares it with
 :func:`actsim.kinetics.photoreaction_rates` and
 :func:`actsim.kinetics.arrhenius_shift`, the exact update by
 :func:`actsim.kinetics.exact_first_order_update`, heat by
-:func:`actsim.thermal.theta_step_reference` (Crank–Nicolson) or
-:func:`actsim.thermal.trbdf2_step`, the material state by
+:func:`actsim.thermal_reference.theta_step_reference` (Crank–Nicolson) or
+:func:`actsim.thermal_reference.trbdf2_step_reference` (both readable numpy/scipy), the material state by
 :func:`actsim.material.primary_modulus` and
 :func:`actsim.material.two_network_state`, the section by
 :func:`actsim.mechanics.held_strip_response`.
@@ -17,7 +17,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from . import kinetics, material, mechanics, optics, thermal
+from . import kinetics, material, mechanics, optics, thermal, thermal_reference
 from .grid import cell_centres
 
 
@@ -91,8 +91,8 @@ def run_reference(p):
     on = mat.network_mod > 0
     energy = np.zeros(3)  # heat absorbed, lost bottom, lost top [J m-2]
     x, T, S = photo.x0.copy(), heat.T0.copy(), np.zeros_like(photo.x0)
+    rise = T - heat.T_ref
     store(0, x, T, S, sched.seg_step[0])
-    work = thermal.make_work(dz.size)
     for s in range(sched.seg_step.size):
         st = sched.seg_step[s]
         q = sched.step_flux[st]
@@ -106,24 +106,25 @@ def run_reference(p):
             kf0, kb0 = rate(mf, T)
             xp = kinetics.exact_first_order_update(conversion=x, k_forward=kf0, k_backward=kb0, dt=dt)
             mf1, ab1, _ = light_at(xp, q)
+            if heat.mode != thermal.HEAT_OFF:
+                # the heat state is the rise above T_ref (as in the kernel), so the stored heat is not rounded at 293 K
+                kw = dict(dz=dz, conductivity=heat.k_cond, volumetric_heat_capacity=heat.rho_c,
+                          source_old=heat_power(ab), source_new=heat_power(ab1), dt=dt, h_bottom=hb,
+                          ambient_bottom=tb - heat.T_ref, h_top=ht, ambient_top=tt - heat.T_ref)
             if heat.mode == thermal.HEAT_CN:
-                Tn = thermal.theta_step_reference(
-                    temperature=T, dz=dz, conductivity=heat.k_cond, volumetric_heat_capacity=heat.rho_c,
-                    source_old=heat_power(ab), source_new=heat_power(ab1), dt=dt, h_bottom=hb, ambient_bottom=tb,
-                    h_top=ht, ambient_top=tt, theta=0.5,
-                )
+                rise_n = thermal_reference.theta_step_reference(temperature=rise, theta=0.5, **kw)
                 # Crank–Nicolson's own quadrature of the face losses is the trapezoid rule
-                l0 = thermal.face_heat_loss(T, dz, heat.k_cond, hb, tb, ht, tt)
-                l1 = thermal.face_heat_loss(Tn, dz, heat.k_cond, hb, tb, ht, tt)
+                l0 = thermal.face_heat_loss(rise, dz, heat.k_cond, hb, tb - heat.T_ref, ht, tt - heat.T_ref)
+                l1 = thermal.face_heat_loss(rise_n, dz, heat.k_cond, hb, tb - heat.T_ref, ht, tt - heat.T_ref)
                 energy[1:] += 0.5 * dt * (np.array(l0) + np.array(l1))
             elif heat.mode == thermal.HEAT_TRBDF2:
-                Tn = np.empty_like(T)
-                energy[1:] += thermal.trbdf2_step(T, dz, heat.k_cond, heat.rho_c, heat_power(ab), heat_power(ab1), dt,
-                                                  hb, tb, ht, tt, work, Tn)
-            else:
-                Tn = T
+                rise_n, losses = thermal_reference.trbdf2_step_reference(temperature=rise, return_losses=True, **kw)
+                energy[1:] += losses
             if heat.mode != thermal.HEAT_OFF:
+                Tn = rise_n + heat.T_ref
                 energy[0] += 0.5 * dt * np.sum((heat_power(ab) + heat_power(ab1)) * dz)
+            else:
+                Tn, rise_n = T, rise
             kf1, kb1 = rate(mf1, Tn)
             xn = kinetics.exact_first_order_update(conversion=x, k_forward=0.5 * (kf0 + kf1),
                                                    k_backward=0.5 * (kb0 + kb1), dt=dt)
@@ -136,7 +137,7 @@ def run_reference(p):
                                                                 strain=0.5 * (e_start + e_end)), S)
                 _, _, r = mech(xn, Tn, S, st)
                 e_start = mechanical_strain(r, Tn)
-            x, T = xn, Tn
+            x, T, rise = xn, Tn, rise_n
         store(s + 1, x, T, S, st)
         o.energy[s + 1] = energy
     return o

@@ -23,11 +23,11 @@ Conventions
   [W/m^2]. A flux ``q0`` [W/m^2] prescribed on a face is, in this discretisation, *exactly* the same as
   a source ``q0/dz`` in the cell next to that face.
 * Face losses are positive when heat leaves the strip (strip to ambient), in W/m^2.
-* The numba kernels (``thomas_solve``, ``face_conductances``, ``theta_step``,
-  ``trbdf2_step``, ``steady_temperature``, ``face_heat_loss``, ``face_temperatures`` and the ``*_nb``
+* The numba kernels (``face_conductances``, ``theta_step``,
+  ``trbdf2_step``, ``face_heat_loss``, ``face_temperatures`` and the ``*_nb``
   radiation coefficient) take float64 arrays and floats only, do not check their inputs and do not allocate, so
-  the solver kernel can call them every step. Check inputs once with :func:`check_conduction_inputs`.
-  The readable path (:func:`theta_step_reference`, :func:`march_conduction`) is for tests and scripts.
+  the solver kernel can call them every step. The readable path (input checks, numpy/scipy steps,
+  a steady solve, a marching driver) is in :mod:`actsim.thermal_reference`, for tests and scripts.
 
 Time steppers and ringing
 -------------------------
@@ -58,13 +58,11 @@ ISO/IEC safety standards) and do not rely on this model alone.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
 from typing import NamedTuple
 
 import numpy as np
 from numba import njit
 from scipy.constants import Stefan_Boltzmann as _SIGMA_SB
-from scipy.linalg import solve_banded
 
 from .errors import ActsimInputError
 from .units import check_range, finite_array, scalar_or_array
@@ -72,19 +70,12 @@ from .units import check_range, finite_array, scalar_or_array
 __all__ = [
     "WORK_ROWS",
     "make_work",
-    "thomas_solve",
     "face_conductances",
     "theta_step",
     "crank_nicolson_step",
     "trbdf2_step",
-    "steady_temperature",
     "face_heat_loss",
     "face_temperatures",
-    "check_conduction_inputs",
-    "theta_step_reference",
-    "trbdf2_step_reference",
-    "ConductionResult",
-    "march_conduction",
     "linearised_radiation_coefficient",
     "linearised_radiation_coefficient_nb",
 ]
@@ -208,53 +199,20 @@ def make_work(n: int) -> np.ndarray:
 
 
 @njit(cache=True)
-def thomas_solve(lower, diag, upper, rhs, out):
-    r"""Solve a tridiagonal system by the Thomas algorithm (Gaussian elimination without pivoting).
+def interior_conductance(dz, k, i):
+    """Series conductance from the centre of cell i to the centre of cell i+1 [W/(m^2 K)].
 
-    .. math::
-
-       l_i x_{i-1} + d_i x_i + u_i x_{i+1} = r_i ,\qquad i = 0 \dots n-1 .
+    .. math:: G_{i+1/2} = \\left(\\frac{\\Delta z_i}{2k_i} + \\frac{\\Delta z_{i+1}}{2k_{i+1}}\\right)^{-1}
 
     Parameters
     ----------
-    lower : ndarray, shape (n,)
-        Sub-diagonal; ``lower[0]`` is not used [matrix units].
-    diag : ndarray, shape (n,)
-        Main diagonal. **Overwritten** with the elimination pivots (it is scratch) [matrix units].
-    upper : ndarray, shape (n,)
-        Super-diagonal; ``upper[n-1]`` is not used [matrix units].
-    rhs : ndarray, shape (n,)
-        Right-hand side; left unchanged unless it is the same array as ``out`` [rhs units].
-    out : ndarray, shape (n,)
-        Receives the solution; may be the same array as ``rhs`` [rhs units / matrix units].
-
-    Notes
-    -----
-    No pivoting: the matrix must be diagonally dominant (every heat-conduction matrix built here
-    is, because the heat capacities make it strictly so), otherwise a zero pivot can occur. No
-    checks are made (hot path).
-
-    References
-    ----------
-    G. H. Golub and C. F. Van Loan, *Matrix Computations*, 4th ed., Johns Hopkins University Press,
-    2013, sec. 4.3 (banded systems; from memory).
-    L. H. Thomas, *Elliptic problems in linear difference equations over a network*, Watson
-    Scientific Computing Laboratory report, Columbia University, 1949.
+    dz : ndarray, shape (n,)
+        Cell widths [m].
+    k : ndarray, shape (n,)
+        Conductivities [W/(m K)].
+    i : int
+        Index of the lower cell of the pair.
     """
-    n = diag.shape[0]
-    out[0] = rhs[0]
-    for i in range(1, n):
-        w = lower[i] / diag[i - 1]
-        diag[i] = diag[i] - w * upper[i - 1]
-        out[i] = rhs[i] - w * out[i - 1]
-    out[n - 1] = out[n - 1] / diag[n - 1]
-    for i in range(n - 2, -1, -1):
-        out[i] = (out[i] - upper[i] * out[i + 1]) / diag[i]
-
-
-@njit(cache=True)
-def _interior_conductance(dz, k, i):
-    # Series resistance from the centre of cell i to the centre of cell i+1 [W/(m^2 K)].
     return 1.0 / (0.5 * dz[i] / k[i] + 0.5 * dz[i + 1] / k[i + 1])
 
 
@@ -313,7 +271,7 @@ def face_conductances(dz, k, h_bottom, h_top, out_interior, out_faces):
     """
     n = dz.shape[0]
     for i in range(n - 1):
-        out_interior[i] = _interior_conductance(dz, k, i)
+        out_interior[i] = interior_conductance(dz, k, i)
     out_faces[0] = face_conductance(h_bottom, dz[0], k[0])
     out_faces[1] = face_conductance(h_top, dz[n - 1], k[n - 1])
 
@@ -399,26 +357,6 @@ def face_temperatures(T, dz, k, h_bottom, T_amb_bottom, h_top, T_amb_top):
 
 
 @njit(cache=True)
-def _assemble(dz, k, rho_c, coef, h_bottom, h_top, lower, diag, upper):
-    # Matrix C + coef * A of the implicit part (C = rho_c dz, A the conduction operator).
-    n = dz.shape[0]
-    gb = face_conductance(h_bottom, dz[0], k[0])
-    gt = face_conductance(h_top, dz[n - 1], k[n - 1])
-    for i in range(n):
-        diag[i] = rho_c[i] * dz[i]
-        lower[i] = 0.0
-        upper[i] = 0.0
-    for i in range(n - 1):
-        g = coef * _interior_conductance(dz, k, i)
-        upper[i] = -g
-        lower[i + 1] = -g
-        diag[i] += g
-        diag[i + 1] += g
-    diag[0] += coef * gb
-    diag[n - 1] += coef * gt
-
-
-@njit(cache=True)
 def interior_conductances(dz, k, out):
     r"""Series conductances between neighbouring cell centres, into ``out``.
 
@@ -434,7 +372,7 @@ def interior_conductances(dz, k, out):
         Receives the conductances [W/(m^2 K)].
     """
     for i in range(dz.shape[0] - 1):
-        out[i] = _interior_conductance(dz, k, i)
+        out[i] = interior_conductance(dz, k, i)
 
 
 @njit(cache=True)
@@ -794,499 +732,6 @@ def trbdf2_step(T, dz, k, rho_c, q_old, q_new, dt, h_bottom, T_amb_bottom, h_top
     factor_conduction(cap, g_int, gb, gt, 0.5 * TRBDF2_GAMMA * dt, work[0:3])
     return conduction_trbdf2_factored(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, T_amb_bottom, T_amb_top,
                                       work[0:3], work, out)
-
-
-@njit(cache=True)
-def steady_temperature(dz, k, q, h_bottom, T_amb_bottom, h_top, T_amb_top, work, out):
-    r"""Steady cell temperatures, :math:`A\,T = q\,\Delta z + G_b T_{\infty,b} e_0 + G_t T_{\infty,t} e_{n-1}`.
-
-    Parameters
-    ----------
-    dz : ndarray, shape (n,)
-        Cell widths [m].
-    k : ndarray, shape (n,)
-        Cell conductivities [W/(m K)].
-    q : ndarray, shape (n,)
-        Cell-averaged heat source [W/m^3].
-    h_bottom, h_top : float
-        Surface coefficients; at least one must be > 0, else there is no steady state [W/(m^2 K)].
-    T_amb_bottom, T_amb_top : float
-        Ambient temperatures [K].
-    work : ndarray, shape (>= 5, n)
-        Scratch, overwritten [-].
-    out : ndarray, shape (n,)
-        Receives the steady temperatures [K].
-
-    References
-    ----------
-    F. P. Incropera et al., *Fundamentals of Heat and Mass Transfer*, 6th ed., Wiley, 2007, ch. 3.
-    """
-    n = dz.shape[0]
-    lower = work[0]
-    diag = work[1]
-    upper = work[2]
-    rhs = work[3]
-    # Solve for the rise above a reference ambient: A 1 = G_b e_0 + G_t e_{n-1}, so the ambient terms become
-    # differences and the round-off scales with the temperature differences, not with ~300 K.
-    t_ref = T_amb_top if h_top > 0.0 else T_amb_bottom
-    for i in range(n):
-        rhs[i] = q[i] * dz[i]
-    rhs[0] += face_conductance(h_bottom, dz[0], k[0]) * (T_amb_bottom - t_ref)
-    rhs[n - 1] += face_conductance(h_top, dz[n - 1], k[n - 1]) * (T_amb_top - t_ref)
-    zero_capacity = work[4]  # the steady operator has no heat capacity; scratch row, no allocation
-    for i in range(n):
-        zero_capacity[i] = 0.0
-    _assemble(dz, k, zero_capacity, 1.0, h_bottom, h_top, lower, diag, upper)
-    thomas_solve(lower, diag, upper, rhs, out)
-    for i in range(n):
-        out[i] += t_ref
-
-
-# ----------------------------------------------------------------------------------------------
-# readable path: input checks, reference stepper, a marching driver with an energy ledger
-# ----------------------------------------------------------------------------------------------
-
-
-def _as_cell_array(value, *, field, unit, n=None, lo=None, lo_open=False):
-    arr = np.atleast_1d(np.asarray(value, dtype=np.float64))
-    if arr.ndim != 1:
-        raise ActsimInputError(f"{field}: must be a 1-D array of cell values in {unit}, got shape {arr.shape}")
-    if n is not None and arr.shape[0] != n:
-        raise ActsimInputError(f"{field}: has {arr.shape[0]} cells but dz has {n}; give one value per cell in {unit}")
-    bad = ~np.isfinite(arr)
-    if bad.any():
-        i = int(np.flatnonzero(bad)[0])
-        raise ActsimInputError(f"{field}[{i}]: {arr[i]!r} is not finite (unit {unit})")
-    if lo is not None:
-        viol = arr <= lo if lo_open else arr < lo
-        if viol.any():
-            i = int(np.flatnonzero(viol)[0])
-            check_range(float(arr[i]), field=f"{field}[{i}]", unit=unit, lo=lo, lo_open=lo_open)
-    return arr
-
-
-def _check_coefficient(value, *, field):
-    v = float(value)
-    if math.isnan(v):
-        raise ActsimInputError(f"{field}: nan is not allowed (W/(m^2*K), >= 0; 0 insulated, inf fixed temperature)")
-    return check_range(v, field=field, unit="W/(m^2*K)", lo=0.0)
-
-
-def _check_temperature(value, *, field):
-    v = float(value)
-    if not math.isfinite(v):
-        raise ActsimInputError(f"{field}: {v!r} is not finite (K, > 0)")
-    return check_range(v, field=field, unit="K", lo=0.0, lo_open=True)
-
-
-def check_conduction_inputs(
-    *, dz, conductivity, volumetric_heat_capacity, h_bottom, h_top, ambient_bottom=None, ambient_top=None
-):
-    """Check grid and material arrays once, before the kernels run; return them as float64 arrays.
-
-    Parameters
-    ----------
-    dz : array_like, shape (n,)
-        Cell widths, > 0 [m].
-    conductivity : array_like, shape (n,)
-        > 0 [W/(m K)].
-    volumetric_heat_capacity : array_like, shape (n,)
-        Density times specific heat, > 0 [J/(m^3 K)].
-    h_bottom, h_top : float
-        >= 0, ``inf`` allowed [W/(m^2 K)].
-    ambient_bottom, ambient_top : float, optional
-        > 0 [K].
-
-    Returns
-    -------
-    dz, conductivity, volumetric_heat_capacity : ndarray
-        Contiguous float64 copies [m], [W/(m K)], [J/(m^3 K)].
-
-    Raises
-    ------
-    ActsimInputError
-        One line naming the field, value, unit and allowed range.
-    """
-    dz = _as_cell_array(dz, field="dz", unit="m", lo=0.0, lo_open=True)
-    n = dz.shape[0]
-    k = _as_cell_array(conductivity, field="conductivity", unit="W/(m*K)", n=n, lo=0.0, lo_open=True)
-    rc = _as_cell_array(
-        volumetric_heat_capacity, field="volumetric_heat_capacity", unit="J/(m^3*K)", n=n, lo=0.0, lo_open=True
-    )
-    _check_coefficient(h_bottom, field="h_bottom")
-    _check_coefficient(h_top, field="h_top")
-    if ambient_bottom is not None:
-        _check_temperature(ambient_bottom, field="ambient_bottom")
-    if ambient_top is not None:
-        _check_temperature(ambient_top, field="ambient_top")
-    return np.ascontiguousarray(dz), np.ascontiguousarray(k), np.ascontiguousarray(rc)
-
-
-def theta_step_reference(
-    *,
-    temperature,
-    dz,
-    conductivity,
-    volumetric_heat_capacity,
-    source_old,
-    source_new,
-    dt,
-    h_bottom,
-    ambient_bottom,
-    h_top,
-    ambient_top,
-    theta=0.5,
-):
-    r"""Readable numpy version of :func:`theta_step` (assembles the banded matrix, uses scipy).
-
-    .. math::
-
-       (C + \theta\Delta t A)\,T^{n+1} = (C - (1-\theta)\Delta t A)\,T^n
-       + \Delta t\,[\theta b^{n+1} + (1-\theta) b^n]
-
-    Parameters
-    ----------
-    temperature : ndarray, shape (n,)
-        Cell temperatures at the start of the step [K].
-    dz : ndarray, shape (n,)
-        Cell widths [m].
-    conductivity : ndarray, shape (n,)
-        [W/(m K)].
-    volumetric_heat_capacity : ndarray, shape (n,)
-        [J/(m^3 K)].
-    source_old, source_new : ndarray, shape (n,)
-        Cell-averaged source at the start and end of the step [W/m^3].
-    dt : float
-        [s].
-    h_bottom, h_top : float
-        [W/(m^2 K)].
-    ambient_bottom, ambient_top : float
-        [K].
-    theta : float
-        Implicitness [1].
-
-    Returns
-    -------
-    ndarray, shape (n,)
-        Temperatures at the end of the step [K].
-
-    References
-    ----------
-    J. Crank and P. Nicolson, Proc. Cambridge Philos. Soc. 43, 50-67, 1947.
-    """
-    T = np.asarray(temperature, dtype=float)
-    dz = np.asarray(dz, dtype=float)
-    k = np.asarray(conductivity, dtype=float)
-    cap = np.asarray(volumetric_heat_capacity, dtype=float) * dz  # [J/(m^2 K)]
-    g_int = 1.0 / (dz[:-1] / (2 * k[:-1]) + dz[1:] / (2 * k[1:]))
-
-    def g_face(h, dzc, kc):
-        return 0.0 if h <= 0 else 1.0 / (1.0 / h + dzc / (2 * kc))
-
-    g_b = g_face(h_bottom, dz[0], k[0])
-    g_t = g_face(h_top, dz[-1], k[-1])
-    a_diag = np.zeros_like(T)
-    a_diag[:-1] += g_int
-    a_diag[1:] += g_int
-    a_diag[0] += g_b
-    a_diag[-1] += g_t
-
-    def a_times(x):
-        y = a_diag * x
-        y[:-1] -= g_int * x[1:]
-        y[1:] -= g_int * x[:-1]
-        return y
-
-    amb = np.zeros_like(T)
-    amb[0] += g_b * ambient_bottom
-    amb[-1] += g_t * ambient_top
-    b_old = np.asarray(source_old, dtype=float) * dz + amb
-    b_new = np.asarray(source_new, dtype=float) * dz + amb
-    rhs = cap * T - (1 - theta) * dt * a_times(T) + dt * (theta * b_new + (1 - theta) * b_old)
-    ab = np.zeros((3, T.size))
-    ab[0, 1:] = -theta * dt * g_int
-    ab[1] = cap + theta * dt * a_diag
-    ab[2, :-1] = -theta * dt * g_int
-    return solve_banded((1, 1), ab, rhs)
-
-
-def trbdf2_step_reference(
-    *,
-    temperature,
-    dz,
-    conductivity,
-    volumetric_heat_capacity,
-    source_old,
-    source_new,
-    dt,
-    h_bottom,
-    ambient_bottom,
-    h_top,
-    ambient_top,
-    return_losses=False,
-):
-    r"""Readable numpy version of :func:`trbdf2_step` (assembles the banded matrices, uses scipy).
-
-    One TR-BDF2 step of the cell heat balance :math:`C\,\dot T = F(T, q) = -A\,T + b(q)`, with
-    :math:`C = \mathrm{diag}(\rho c_i\,\Delta z_i)`, :math:`A` the conduction operator (series conductances
-    between cell centres, Robin faces through :math:`G = (1/h + \Delta z/(2k))^{-1}`) and
-    :math:`b(q) = q\,\Delta z + G_b T_{\infty,b}\,e_0 + G_t T_{\infty,t}\,e_{n-1}`. A trapezoid stage to
-    :math:`t + \gamma\Delta t`, then a second-order backward difference (BDF2) through
-    :math:`t`, :math:`t + \gamma\Delta t` and :math:`t + \Delta t`:
-
-    .. math::
-
-       \left(C + \tfrac{\gamma\Delta t}{2}A\right)T^{\gamma} =
-       \left(C - \tfrac{\gamma\Delta t}{2}A\right)T^{n} + \tfrac{\gamma\Delta t}{2}\left[b(q^n) + b(q^\gamma)\right],
-       \qquad q^\gamma = (1-\gamma)\,q^n + \gamma\,q^{n+1}
-
-       \left(C + d\,\Delta t\,A\right)T^{n+1} =
-       C\,\frac{T^\gamma - (1-\gamma)^2\,T^n}{\gamma(2-\gamma)} + d\,\Delta t\,b(q^{n+1}),
-       \qquad d = \frac{1-\gamma}{2-\gamma}
-
-    With :math:`\gamma = 2 - \sqrt 2` the two stages share one matrix (:math:`d = \gamma/2`); the scheme
-    is second order and L-stable. With ``return_losses`` the heat lost through each face over the step
-    is returned as well, integrated with the scheme's own weights,
-
-    .. math::
-
-       E_\mathrm{face} = \Delta t\left[w\,\dot q(T^n) + w\,\dot q(T^\gamma) + d\,\dot q(T^{n+1})\right],
-       \qquad w = \frac{1}{2(2-\gamma)},\quad \dot q(T) = G\,(T_\mathrm{face\ cell} - T_\infty),
-
-    with which the energy balance of the step closes to round-off.
-
-    Parameters
-    ----------
-    temperature : ndarray, shape (n,)
-        Cell temperatures at the start of the step [K].
-    dz : ndarray, shape (n,)
-        Cell widths, bottom to top [m].
-    conductivity : ndarray, shape (n,)
-        [W/(m K)].
-    volumetric_heat_capacity : ndarray, shape (n,)
-        Density times specific heat [J/(m^3 K)].
-    source_old, source_new : ndarray, shape (n,)
-        Cell-averaged heat source at the start and at the end of the step [W/m^3].
-    dt : float
-        Time step [s].
-    h_bottom, h_top : float
-        Surface coefficients at z = 0 and z = h; 0 insulated, ``inf`` face held at the ambient [W/(m^2 K)].
-    ambient_bottom, ambient_top : float
-        Ambient temperatures below and above, constant over the step [K].
-    return_losses : bool
-        Also return the heat lost through the bottom and top faces over the step.
-
-    Returns
-    -------
-    ndarray, shape (n,)
-        Temperatures at the end of the step [K]; with ``return_losses``, the tuple
-        ``(temperatures, (loss_bottom, loss_top))``, the losses in [J/m^2], positive leaving the strip.
-
-    References
-    ----------
-    R. E. Bank, W. M. Coughran, W. Fichtner, E. H. Grosse, D. J. Rose and R. K. Smith, "Transient
-    simulation of silicon devices and circuits", IEEE Trans. Computer-Aided Design 4(4), 436-451, 1985.
-    M. E. Hosea and L. F. Shampine, "Analysis and implementation of TR-BDF2", Applied Numerical
-    Mathematics 20, 21-37, 1996.
-    """
-    gamma = 2.0 - math.sqrt(2.0)
-    d = (1.0 - gamma) / (2.0 - gamma)
-    T = np.asarray(temperature, dtype=float)
-    dz = np.asarray(dz, dtype=float)
-    k = np.asarray(conductivity, dtype=float)
-    cap = np.asarray(volumetric_heat_capacity, dtype=float) * dz  # C [J/(m^2 K)]
-    q_old = np.asarray(source_old, dtype=float)
-    q_new = np.asarray(source_new, dtype=float)
-    g_int = 1.0 / (dz[:-1] / (2 * k[:-1]) + dz[1:] / (2 * k[1:]))
-
-    def g_face(h, dzc, kc):
-        return 0.0 if h <= 0 else 1.0 / (1.0 / h + dzc / (2 * kc))
-
-    g_b = g_face(h_bottom, dz[0], k[0])
-    g_t = g_face(h_top, dz[-1], k[-1])
-    a_diag = np.zeros_like(T)
-    a_diag[:-1] += g_int
-    a_diag[1:] += g_int
-    a_diag[0] += g_b
-    a_diag[-1] += g_t
-
-    def a_times(x):
-        y = a_diag * x
-        y[:-1] -= g_int * x[1:]
-        y[1:] -= g_int * x[:-1]
-        return y
-
-    def b_of(q):
-        b = q * dz
-        b[0] += g_b * ambient_bottom
-        b[-1] += g_t * ambient_top
-        return b
-
-    def solve(coef, rhs):
-        # (C + coef A) x = rhs, A in scipy's banded storage (upper, diagonal, lower)
-        ab = np.zeros((3, T.size))
-        ab[0, 1:] = -coef * g_int
-        ab[1] = cap + coef * a_diag
-        ab[2, :-1] = -coef * g_int
-        return solve_banded((1, 1), ab, rhs)
-
-    c = 0.5 * gamma * dt
-    q_gamma = (1.0 - gamma) * q_old + gamma * q_new
-    T_gamma = solve(c, cap * T - c * a_times(T) + c * (b_of(q_old) + b_of(q_gamma)))
-    rhs = cap * (T_gamma - (1.0 - gamma) ** 2 * T) / (gamma * (2.0 - gamma)) + d * dt * b_of(q_new)
-    T_new = solve(d * dt, rhs)
-    if not return_losses:
-        return T_new
-    w = 1.0 / (2.0 * (2.0 - gamma))
-    losses = tuple(
-        dt * (w * g * (T[i] - amb) + w * g * (T_gamma[i] - amb) + d * g * (T_new[i] - amb))
-        for g, i, amb in ((g_b, 0, ambient_bottom), (g_t, -1, ambient_top))
-    )
-    return T_new, losses
-
-
-@dataclass(frozen=True)
-class ConductionResult:
-    """Temperatures and the energy ledger of :func:`march_conduction` (all per unit area)."""
-
-    #: Times [s], shape (nt,).
-    time: np.ndarray
-    #: Cell temperatures [K], shape (nt, n).
-    temperature: np.ndarray
-    #: Energy absorbed since the start [J/m^2], shape (nt,).
-    absorbed: np.ndarray
-    #: Change of stored energy since the start [J/m^2], shape (nt,).
-    stored: np.ndarray
-    #: Heat lost through the bottom face since the start [J/m^2], shape (nt,).
-    lost_bottom: np.ndarray
-    #: Heat lost through the top face since the start [J/m^2], shape (nt,).
-    lost_top: np.ndarray
-
-    def balance_residual(self) -> float:
-        r"""Relative energy-balance residual at the end, :math:`|E_a - \Delta E_s - E_l| / \max(|E_a|, |\Delta E_s|, |E_l|)` [1]."""
-        a, s = self.absorbed[-1], self.stored[-1]
-        lost = self.lost_bottom[-1] + self.lost_top[-1]
-        scale = max(abs(a), abs(s), abs(lost), 1e-300)
-        return abs(a - s - lost) / scale
-
-
-_STEPPERS = {"crank-nicolson": 0, "tr-bdf2": 1, "backward-euler": 2}
-
-
-@njit(cache=True)
-def _march(T0, dz, k, rho_c, times, q, h_b, Ta_b, h_t, Ta_t, method, T_out, e_b, e_t):
-    n = T0.shape[0]
-    work = np.empty((6, n))
-    for i in range(n):
-        T_out[0, i] = T0[i]
-    e_b[0] = 0.0
-    e_t[0] = 0.0
-    for j in range(1, times.shape[0]):
-        dt = times[j] - times[j - 1]
-        if method == 0:
-            eb, et = crank_nicolson_step(T_out[j - 1], dz, k, rho_c, q[j - 1], q[j], dt, h_b, Ta_b, h_t, Ta_t, work, T_out[j])
-        elif method == 1:
-            eb, et = trbdf2_step(T_out[j - 1], dz, k, rho_c, q[j - 1], q[j], dt, h_b, Ta_b, h_t, Ta_t, work, T_out[j])
-        else:
-            eb, et = theta_step(T_out[j - 1], dz, k, rho_c, q[j - 1], q[j], dt, h_b, Ta_b, h_t, Ta_t, 1.0, work, T_out[j])
-        e_b[j] = e_b[j - 1] + eb
-        e_t[j] = e_t[j - 1] + et
-
-
-def march_conduction(
-    *,
-    dz,
-    conductivity,
-    volumetric_heat_capacity,
-    initial_temperature,
-    time,
-    source,
-    h_bottom,
-    ambient_bottom,
-    h_top,
-    ambient_top,
-    method="crank-nicolson",
-):
-    r"""March the cell heat balance over given times and keep an energy ledger.
-
-    .. math::
-
-       E_\mathrm{absorbed}(t) = \Delta E_\mathrm{stored}(t) + E_\mathrm{lost,bottom}(t) + E_\mathrm{lost,top}(t)
-
-    Parameters
-    ----------
-    dz : array_like, shape (n,)
-        Cell widths, bottom to top [m].
-    conductivity : array_like, shape (n,)
-        [W/(m K)].
-    volumetric_heat_capacity : array_like, shape (n,)
-        Density times specific heat [J/(m^3 K)].
-    initial_temperature : float or array_like, shape (n,)
-        [K].
-    time : array_like, shape (nt,)
-        Strictly increasing output and step times [s].
-    source : array_like, shape (nt, n) or (n,)
-        Cell-averaged heat source at each time (constant if 1-D) [W/m^3].
-    h_bottom, h_top : float
-        Surface coefficients (add :func:`linearised_radiation_coefficient` for radiation) [W/(m^2 K)].
-    ambient_bottom, ambient_top : float
-        Ambient temperatures [K].
-    method : {"crank-nicolson", "tr-bdf2", "backward-euler"}
-        Time stepper [-].
-
-    Returns
-    -------
-    ConductionResult
-        Temperatures [K] and cumulative energies [J/m^2]. The absorbed energy is integrated over the given
-        times with the stepper's own weights (trapezoid for Crank–Nicolson and TR-BDF2, the end value for
-        backward Euler), and so are the losses, so the balance closes to round-off.
-
-    References
-    ----------
-    F. P. Incropera et al., *Fundamentals of Heat and Mass Transfer*, 6th ed., Wiley, 2007, sec. 1.3
-    (conservation of energy for a control volume).
-    """
-    dz, k, rc = check_conduction_inputs(
-        dz=dz,
-        conductivity=conductivity,
-        volumetric_heat_capacity=volumetric_heat_capacity,
-        h_bottom=h_bottom,
-        h_top=h_top,
-        ambient_bottom=ambient_bottom,
-        ambient_top=ambient_top,
-    )
-    n = dz.size
-    if method not in _STEPPERS:
-        raise ActsimInputError(f"method: {method!r} is not one of {', '.join(_STEPPERS)}")
-    t = np.asarray(time, dtype=np.float64)
-    if t.ndim != 1 or t.size < 1 or not np.all(np.isfinite(t)):
-        raise ActsimInputError("time: must be a 1-D array of finite times in s")
-    if t.size > 1 and np.any(np.diff(t) <= 0):
-        i = int(np.flatnonzero(np.diff(t) <= 0)[0]) + 1
-        raise ActsimInputError(f"time[{i}]: {t[i]:g} s is not after time[{i - 1}] = {t[i - 1]:g} s (must increase)")
-    q = np.asarray(source, dtype=np.float64)
-    if q.ndim == 1:
-        q = np.broadcast_to(q, (t.size, q.size))
-    if q.shape != (t.size, n):
-        raise ActsimInputError(f"source: shape {q.shape} does not match (len(time), len(dz)) = ({t.size}, {n}) in W/m^3")
-    if not np.all(np.isfinite(q)):
-        raise ActsimInputError("source: contains non-finite values (W/m^3)")
-    q = np.ascontiguousarray(q)
-    T0 = np.broadcast_to(np.asarray(initial_temperature, dtype=np.float64), (n,)).copy()
-    if not np.all(np.isfinite(T0)) or np.any(T0 <= 0):
-        raise ActsimInputError("initial_temperature: must be finite and > 0 K")
-    T = np.empty((t.size, n))
-    e_b = np.empty(t.size)
-    e_t = np.empty(t.size)
-    _march(T0, dz, k, rc, t, q, float(h_bottom), float(ambient_bottom), float(h_top), float(ambient_top),
-           _STEPPERS[method], T, e_b, e_t)
-    absorbed_rate = q @ dz  # [W/m^2]
-    w_new = 1.0 if method == "backward-euler" else 0.5  # the stepper's own quadrature of the source
-    absorbed = np.concatenate(
-        [[0.0], np.cumsum((w_new * absorbed_rate[1:] + (1.0 - w_new) * absorbed_rate[:-1]) * np.diff(t))]
-    )
-    stored = (T - T[0]) @ (rc * dz)
-    return ConductionResult(time=t, temperature=T, absorbed=absorbed, stored=stored, lost_bottom=e_b, lost_top=e_t)
 
 
 @njit(cache=True)

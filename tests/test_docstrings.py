@@ -33,6 +33,7 @@ MODULES = (
     "actsim.reference",
     "actsim.spectra",
     "actsim.thermal",
+    "actsim.thermal_reference",
     "actsim.elastica",
     "actsim.metrics",
     "actsim.shape_memory",

@@ -110,7 +110,10 @@ def test_energy_balance_whole_protocol():
         absorbed = ds.heat_absorbed.values
         assert absorbed[-1] > 0
         residual = np.abs(absorbed - stored - lost) / absorbed[-1]
-        assert residual.max() < 1e-8, (scheme, residual.max())
+        # 12,500 steps: rounding accumulates as about N eps; measured 1.8e-13 (TR-BDF2) and 9.2e-13 (Crank-Nicolson)
+        # with the heat state solved as the rise above T_ref (about 4e-9 when the absolute temperature was the state)
+        print(f"{scheme}: energy ledger residual {residual.max():.2e} of the absorbed heat")
+        assert residual.max() < 5e-12, (scheme, residual.max())
 
 
 def test_coupled_solver_second_order_in_time():

@@ -24,6 +24,7 @@ from scipy.optimize import brentq
 from scipy.special import erfc
 
 from actsim import thermal as th
+from actsim import thermal_reference as thr
 from actsim.kinetics import arrhenius_rate_nb
 from actsim.material import glass_transition_modulus_nb
 from actsim.errors import ActsimInputError
@@ -82,10 +83,10 @@ def test_thomas_matches_scipy_solve_banded(n):
     expected = solve_banded((1, 1), ab, rhs)  # reference library: scipy.linalg.solve_banded (LAPACK gbsv)
     rhs_copy = rhs.copy()
     out = np.empty(n)
-    th.thomas_solve(lower, diag.copy(), upper, rhs, out)
+    thr.thomas_solve(lower, diag.copy(), upper, rhs, out)
     np.testing.assert_allclose(out, expected, rtol=1e-13, atol=1e-14)
     np.testing.assert_array_equal(rhs, rhs_copy)  # rhs left unchanged
-    th.thomas_solve(lower, ab[1].copy(), upper, rhs, rhs)  # out may alias rhs
+    thr.thomas_solve(lower, ab[1].copy(), upper, rhs, rhs)  # out may alias rhs
     np.testing.assert_allclose(rhs, expected, rtol=1e-13, atol=1e-14)
 
 
@@ -115,7 +116,7 @@ def test_numba_step_matches_readable_reference(theta):
     work = th.make_work(dz.size)
     out = np.empty(dz.size)
     th.theta_step(T, dz, k, rc, q0, q1, 0.01, 8.0, 295.0, 15.0, 301.0, theta, work, out)
-    ref = th.theta_step_reference(
+    ref = thr.theta_step_reference(
         temperature=T, dz=dz, conductivity=k, volumetric_heat_capacity=rc, source_old=q0, source_new=q1,
         dt=0.01, h_bottom=8.0, ambient_bottom=295.0, h_top=15.0, ambient_top=301.0, theta=theta,
     )
@@ -175,7 +176,7 @@ def test_lumped_capacitance_limit():
     q_abs = q_v * d  # [W/m^2]
     tau = RC_POLY * d / (h_t + h_b)
     dt, nsteps = tau / 100, 500
-    res = th.march_conduction(
+    res = thr.march_conduction(
         dz=dz, conductivity=k, volumetric_heat_capacity=rc, initial_temperature=T_amb,
         time=np.arange(nsteps + 1) * dt, source=np.full(n, q_v), h_bottom=h_b, ambient_bottom=T_amb,
         h_top=h_t, ambient_top=T_amb,
@@ -199,7 +200,7 @@ def test_composite_wall_steady_is_exact():
     work = th.make_work(dz.size)
     T = np.empty(dz.size)
     h_b, h_t, Tb, Tt = 30.0, 5.0, 320.0, 290.0
-    th.steady_temperature(dz, k, np.zeros(dz.size), h_b, Tb, h_t, Tt, work, T)
+    thr.steady_temperature(dz, k, np.zeros(dz.size), h_b, Tb, h_t, Tt, work, T)
     r_total = 1 / h_b + 50e-6 / 0.15 + 20e-6 / 0.30 + 1 / h_t
     flux = (Tb - Tt) / r_total
     lb, lt = th.face_heat_loss(T, dz, k, h_b, Tb, h_t, Tt)
@@ -247,7 +248,7 @@ def test_steady_beer_lambert_second_order_in_space():
         k = np.full(n, K_POLY)
         q = _beer_lambert_cells(z, alpha=alpha, irradiance=P0, thickness=thickness)
         T = np.empty(n)
-        th.steady_temperature(dz, k, q, h_b, Tb, h_t, Tt, th.make_work(n), T)
+        thr.steady_temperature(dz, k, q, h_b, Tb, h_t, Tt, th.make_work(n), T)
         exact = _beer_lambert_exact(0.5 * (z[1:] + z[:-1]), **pars)
         errors.append(np.max(np.abs(T - exact)))
         # energy: all absorbed light leaves through the faces, [Inc] sec. 1.3 (conservation of energy)
@@ -266,7 +267,7 @@ def test_steady_beer_lambert_second_order_in_space():
     dz = np.diff(z)
     q = _beer_lambert_cells(z, alpha=alpha, irradiance=P0, thickness=thickness)
     T_ss = np.empty(n)
-    th.steady_temperature(dz, np.full(n, K_POLY), q, h_b, Tb, h_t, Tt, th.make_work(n), T_ss)
+    thr.steady_temperature(dz, np.full(n, K_POLY), q, h_b, Tb, h_t, Tt, th.make_work(n), T_ss)
     T_end = _run(th.crank_nicolson_step, np.full(n, 297.0), dz, np.full(n, K_POLY), np.full(n, RC_POLY),
                  lambda t: q, 2e-3, 2000, h_b, Tb, h_t, Tt)  # 4 s = 35 time constants rho c h/(h_b+h_t)
     np.testing.assert_allclose(T_end, T_ss, rtol=0, atol=1e-9)
@@ -302,7 +303,7 @@ def test_transient_plane_wall_series_solution(method, bi):
     dt = 1e-4 * t_char
     nsteps = int(round(fo_out[-1] * t_char / dt))
     t = np.arange(nsteps + 1) * dt
-    res = th.march_conduction(
+    res = thr.march_conduction(
         dz=dz, conductivity=np.full(n, K_POLY), volumetric_heat_capacity=np.full(n, RC_POLY),
         initial_temperature=T_i, time=t, source=np.zeros(n), h_bottom=0.0, ambient_bottom=T_inf,
         h_top=h, ambient_top=T_inf, method=method,
@@ -340,7 +341,7 @@ def test_semi_infinite_constant_surface_flux():
     q[-1] = q0 / dz[-1]
     dt = 5e-5
     t = np.arange(int(round(t_end / dt)) + 1) * dt
-    res = th.march_conduction(
+    res = thr.march_conduction(
         dz=dz, conductivity=np.full(m, K_POLY), volumetric_heat_capacity=np.full(m, RC_POLY),
         initial_temperature=T_i, time=t, source=q, h_bottom=0.0, ambient_bottom=T_i, h_top=0.0, ambient_top=T_i,
     )
@@ -377,7 +378,7 @@ def test_energy_balance_closes_over_many_steps(method):
     source = 500.0 * pulse[:, None] * q_shape[None, :]
     h_b = 5.0 + th.linearised_radiation_coefficient(emissivity=0.9, ambient_temperature=295.0)
     h_t = 10.0 + th.linearised_radiation_coefficient(emissivity=0.9, ambient_temperature=300.0)
-    res = th.march_conduction(
+    res = thr.march_conduction(
         dz=dz, conductivity=k, volumetric_heat_capacity=rc, initial_temperature=297.0, time=t, source=source,
         h_bottom=h_b, ambient_bottom=295.0, h_top=h_t, ambient_top=300.0, method=method,
     )
@@ -403,7 +404,7 @@ def _time_convergence(step, dts, dt_ref):
         return q_shape * (1.0 + 0.5 * np.sin(2 * np.pi * t / 0.2))
 
     T0 = np.empty(dz.size)
-    th.steady_temperature(dz, k, q_of_t(0.0), 5.0, 295.0, 10.0, 300.0, th.make_work(dz.size), T0)  # smooth start
+    thr.steady_temperature(dz, k, q_of_t(0.0), 5.0, 295.0, 10.0, 300.0, th.make_work(dz.size), T0)  # smooth start
     t_end = 0.2
 
     def solve(dt):
@@ -511,7 +512,7 @@ def test_check_conduction_inputs_one_line_errors(kwargs, field):
                 h_top=np.inf, ambient_bottom=300.0, ambient_top=300.0)
     args.update(kwargs)
     with pytest.raises(ActsimInputError) as info:
-        th.check_conduction_inputs(**args)
+        thr.check_conduction_inputs(**args)
     msg = str(info.value)
     assert msg.startswith(field) and "\n" not in msg
 
@@ -520,11 +521,11 @@ def test_march_conduction_rejects_bad_time_and_source():
     base = dict(dz=[1e-6, 1e-6], conductivity=[0.2, 0.2], volumetric_heat_capacity=[1e6, 1e6],
                 initial_temperature=300.0, h_bottom=1.0, ambient_bottom=300.0, h_top=1.0, ambient_top=300.0)
     with pytest.raises(ActsimInputError, match=r"^time\[2\]"):
-        th.march_conduction(time=[0.0, 1.0, 1.0], source=[0.0, 0.0], **base)
+        thr.march_conduction(time=[0.0, 1.0, 1.0], source=[0.0, 0.0], **base)
     with pytest.raises(ActsimInputError, match="^source"):
-        th.march_conduction(time=[0.0, 1.0], source=np.zeros((2, 3)), **base)
+        thr.march_conduction(time=[0.0, 1.0], source=np.zeros((2, 3)), **base)
     with pytest.raises(ActsimInputError, match="^method"):
-        th.march_conduction(time=[0.0, 1.0], source=[0.0, 0.0], method="euler", **base)
+        thr.march_conduction(time=[0.0, 1.0], source=[0.0, 0.0], method="euler", **base)
 
 
 # ------------------------------------------------------------------------------------------------
@@ -554,7 +555,7 @@ def test_trbdf2_numba_matches_readable_reference(seed, dt, hb, ht):
     work = th.make_work(dz.size)
     out = np.empty(dz.size)
     eb, et = th.trbdf2_step(T, dz, k, rc, q0, q1, dt, hb, 295.0, ht, 301.0, work, out)
-    ref, (rb, rt) = th.trbdf2_step_reference(
+    ref, (rb, rt) = thr.trbdf2_step_reference(
         temperature=T, dz=dz, conductivity=k, volumetric_heat_capacity=rc, source_old=q0, source_new=q1, dt=dt,
         h_bottom=hb, ambient_bottom=295.0, h_top=ht, ambient_top=301.0, return_losses=True,
     )
@@ -624,7 +625,7 @@ def test_trbdf2_second_order_in_time_against_modal_solution():
         errs["numba"].append(np.max(np.abs(_run(th.trbdf2_step, T0, dz, k, rc, q_of_t, dt, m, hb, tb, ht, tt) - exact)))
         T = T0.copy()
         for j in range(m):
-            T = th.trbdf2_step_reference(
+            T = thr.trbdf2_step_reference(
                 temperature=T, dz=dz, conductivity=k, volumetric_heat_capacity=rc, source_old=q_of_t(j * dt),
                 source_new=q_of_t((j + 1) * dt), dt=dt, h_bottom=hb, ambient_bottom=tb, h_top=ht, ambient_top=tt)
         errs["reference"].append(np.max(np.abs(T - exact)))

@@ -45,12 +45,12 @@ MUTATIONS = {
         "return T[0], T[n - 1]"),
     "face temperatures: ambients of the faces swapped": (
         "actsim/solver.py",
-        "face_temperatures(T[i], p.dz, p.k_cond, env[i, 1], env[i, 0], env[i, 3], env[i, 2])",
-        "face_temperatures(T[i], p.dz, p.k_cond, env[i, 1], env[i, 2], env[i, 3], env[i, 0])"),
+        "face_temperatures(T[i], dz, p.heat.k_cond, env[i, 1], env[i, 0], env[i, 3], env[i, 2])",
+        "face_temperatures(T[i], dz, p.heat.k_cond, env[i, 1], env[i, 2], env[i, 3], env[i, 0])"),
     "face temperatures: h of the faces swapped": (
         "actsim/solver.py",
-        "face_temperatures(T[i], p.dz, p.k_cond, env[i, 1], env[i, 0], env[i, 3], env[i, 2])",
-        "face_temperatures(T[i], p.dz, p.k_cond, env[i, 3], env[i, 0], env[i, 1], env[i, 2])"),
+        "face_temperatures(T[i], dz, p.heat.k_cond, env[i, 1], env[i, 0], env[i, 3], env[i, 2])",
+        "face_temperatures(T[i], dz, p.heat.k_cond, env[i, 3], env[i, 0], env[i, 1], env[i, 2])"),
     "axial_strain: e0 + kappa h/2": (
         "actsim/solver.py", "e0 - kappa * 0.5 * h,", "e0 + kappa * 0.5 * h,"),
     "bend_angle: free curvature": (
@@ -71,19 +71,19 @@ MUTATIONS = {
         "actsim/solver.py", "eigenstrain=e_star, strain_bottom=e0, curvature=kappa)",
         "eigenstrain=e_star, strain_bottom=e0 - kappa * 0.5 * scenario.thickness, curvature=kappa)"),
     "dose: one segment late": (
-        "actsim/solver.py", "dose = np.concatenate([[0.0], np.cumsum(seg_power * np.diff(times))])",
-        "dose = np.concatenate([[0.0], np.cumsum(seg_power[::-1] * np.diff(times))])"),
+        "actsim/schedule.py", "np.cumsum(seg_power * np.diff(schedule.times))",
+        "np.cumsum(seg_power[::-1] * np.diff(schedule.times))"),
     "trbdf2 (numba): source at the end of the step in the first stage": (
         "actsim/thermal.py", "q_g[i] = (1.0 - g) * q_old[i] + g * q_new[i]", "q_g[i] = q_new[i]"),
     "trbdf2 (numba): BDF2 weight (1 - gamma) instead of (1 - gamma)^2": (
         "actsim/thermal.py", "a_n = (1.0 - g) * (1.0 - g) / (g * (2.0 - g))", "a_n = (1.0 - g) / (g * (2.0 - g))"),
     "trbdf2 (reference): source at the end of the step in the first stage": (
-        "actsim/thermal.py", "q_gamma = (1.0 - gamma) * q_old + gamma * q_new", "q_gamma = q_new"),
+        "actsim/thermal_reference.py", "q_gamma = (1.0 - gamma) * q_old + gamma * q_new", "q_gamma = q_new"),
     "trbdf2 (reference): backward Euler second stage": (
-        "actsim/thermal.py", "    T_new = solve(d * dt, rhs)\n",
+        "actsim/thermal_reference.py", "    T_new = solve(d * dt, rhs)\n",
         "    T_new = solve(dt, cap * T + dt * b_of(q_new))\n"),
     "trbdf2 (reference): top ambient on the bottom face": (
-        "actsim/thermal.py", "        b[0] += g_b * ambient_bottom\n", "        b[0] += g_b * ambient_top\n"),
+        "actsim/thermal_reference.py", "        b[0] += g_b * ambient_bottom\n", "        b[0] += g_b * ambient_top\n"),
     'h and ambient temperature swapped for the bottom face': (
         'actsim/solver.py', 'face_temperatures(T[i], dz, p.heat.k_cond, env[i, 1], env[i, 0], env[i, 3], env[i, 2])', 'face_temperatures(T[i], dz, p.heat.k_cond, env[i, 0], env[i, 1], env[i, 3], env[i, 2])'),
     'light marched from the wrong face': (
