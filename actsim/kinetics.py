@@ -1,13 +1,19 @@
 """Kinetics stage: first-order photoreaction A <-> B with thermal back reaction.
 
-Per cell, with conversion :math:`x` (fraction in the product form B),
+Per cell, with conversion :math:`x` (fraction of all chromophore in the product form B) and
+reactive fraction :math:`x_{max}` (the part of the chromophore that can react; 1 unless the material
+sets ``reactive_fraction``),
 
-.. math:: \\frac{dx}{dt} = k_f (1 - x) - k_b x, \\qquad
+.. math:: \\frac{dx}{dt} = k_f (x_{max} - x) - k_b x, \\qquad
    k_f = \\ln 10 \\sum_\\lambda \\phi_{AB}(\\lambda)\\, \\varepsilon_{10,A}(\\lambda)\\, \\bar q_\\lambda, \\quad
    k_b = \\ln 10 \\sum_\\lambda \\phi_{BA}(\\lambda)\\, \\varepsilon_{10,B}(\\lambda)\\, \\bar q_\\lambda + k_{th}
 
 where :math:`\\bar q_\\lambda` is the cell-mean photon flux of each band
-[mol m-2 s-1]. For frozen light the update over a step is exact; the coupled
+[mol m-2 s-1] and :math:`k_f` is per reactant molecule: the forward flux acts on the
+reactive reactant :math:`x_{max} - x` only, while the unreactive part :math:`1 - x_{max}` stays in
+form A and keeps absorbing (so the optics stage is the same for every :math:`x_{max}`). A conversion
+cap of this kind describes solid films in which the reaction stops short of full conversion [3]_.
+For frozen light the update over a step is exact; the coupled
 optics–kinetics problem is advanced with a predictor–corrector on the rates
 (second order in the step, unconditionally stable).
 
@@ -17,6 +23,8 @@ References
    Applications. Elsevier 1998, ch. 2 (first-order photoreactions).
 .. [2] Corbett, D., van Oosten, C. L. and Warner, M. "Nonlinear dynamics of
    optical absorption of intense beams." Phys. Rev. A 78 (2008) 013823.
+.. [3] Egerton, Pitts and Reiser, Macromolecules 14 (1981) 95 (the photoreaction of
+   cinnamate in solid films stops near 50 % conversion).
 """
 
 from __future__ import annotations
@@ -49,6 +57,9 @@ class PhotoParams(NamedTuple):
         Activation energy of the thermal back rate [J mol-1] (0 without heat: the rate stays at k_ref).
     x0 : numpy.ndarray, shape (n_cell,)
         Initial conversion [1].
+    x_max : numpy.ndarray, shape (n_cell,)
+        Reactive fraction of the chromophore, the cap of the conversion [1] (1: all of it can react;
+        1 in passive cells).
     """
 
     phi_f: np.ndarray
@@ -56,10 +67,11 @@ class PhotoParams(NamedTuple):
     k_ref: np.ndarray
     e_act: np.ndarray
     x0: np.ndarray
+    x_max: np.ndarray
 
 
 def photo_params(scenario, grid, light) -> PhotoParams:
-    """Quantum yields, thermal back rates and initial conversion of every cell.
+    """Quantum yields, thermal back rates, initial conversion and reactive fraction of every cell.
 
     Refuses quantum yields whose bands add above 1 at a beam wavelength.
 
@@ -79,6 +91,7 @@ def photo_params(scenario, grid, light) -> PhotoParams:
     k_ref = np.zeros(n_cell)
     e_act = np.zeros(n_cell)
     x0 = np.zeros(n_cell)
+    x_max = np.ones(n_cell)
     for li, layer in enumerate(scenario.layers):
         m = layer.material
         if not m.is_active:
@@ -97,11 +110,12 @@ def photo_params(scenario, grid, light) -> PhotoParams:
         k_ref[sel] = m.thermal_back_rate
         e_act[sel] = m.back_reaction_activation_energy if scenario.heat.enabled else 0.0
         x0[sel] = layer.initial_conversion
-    return PhotoParams(phi_f=phi_f, phi_b=phi_b, k_ref=k_ref, e_act=e_act, x0=x0)
+        x_max[sel] = m.reactive_fraction
+    return PhotoParams(phi_f=phi_f, phi_b=phi_b, k_ref=k_ref, e_act=e_act, x0=x0, x_max=x_max)
 
 
 def photoreaction_rates(*, mean_flux, epsilon10_reactant, epsilon10_product, forward_yield, backward_yield, thermal_rate):
-    """Forward and backward first-order rate constants of each cell.
+    """Forward and backward first-order rate constants of each cell, per molecule of A and of B.
 
     Parameters
     ----------
@@ -124,11 +138,11 @@ def photoreaction_rates(*, mean_flux, epsilon10_reactant, epsilon10_product, for
     return k_f, k_b
 
 
-def exact_first_order_update(*, conversion, k_forward, k_backward, dt):
-    """Exact solution of dx/dt = k_f (1 - x) - k_b x over ``dt`` with frozen rates.
+def exact_first_order_update(*, conversion, k_forward, k_backward, dt, reactive_fraction=1.0):
+    """Exact solution of dx/dt = k_f (x_max - x) - k_b x over ``dt`` with frozen rates.
 
     .. math:: x(t + \\Delta t) = x_{ss} + (x - x_{ss})\\, e^{-(k_f + k_b)\\Delta t},
-       \\qquad x_{ss} = \\frac{k_f}{k_f + k_b}
+       \\qquad x_{ss} = \\frac{k_f\\, x_{max}}{k_f + k_b}
 
     Parameters
     ----------
@@ -138,6 +152,8 @@ def exact_first_order_update(*, conversion, k_forward, k_backward, dt):
         Rate constants [s-1].
     dt : float
         Step [s].
+    reactive_fraction : float or numpy.ndarray
+        x_max, the part of the chromophore that can react, in (0, 1] [1]; 1 (all of it) by default.
 
     Returns
     -------
@@ -147,19 +163,21 @@ def exact_first_order_update(*, conversion, k_forward, k_backward, dt):
     k = k_forward + k_backward
     decay = np.exp(-k * dt)
     safe_k = np.where(k > 0, k, 1.0)
-    x_ss = np.where(k > 0, k_forward / safe_k, conversion)
+    x_ss = np.where(k > 0, reactive_fraction * k_forward / safe_k, conversion)
     return x_ss + (conversion - x_ss) * decay
 
 
-def photostationary_state(*, k_forward, k_backward):
-    """Photostationary conversion x_ss = k_f/(k_f + k_b) [1] and relaxation time 1/(k_f + k_b) [s].
+def photostationary_state(*, k_forward, k_backward, reactive_fraction=1.0):
+    """Photostationary conversion x_ss = x_max k_f/(k_f + k_b) [1] and relaxation time 1/(k_f + k_b) [s].
 
-    .. math:: x_{ss} = \\frac{k_f}{k_f + k_b}, \\qquad t_r = \\frac{1}{k_f + k_b}
+    .. math:: x_{ss} = \\frac{x_{max}\\, k_f}{k_f + k_b}, \\qquad t_r = \\frac{1}{k_f + k_b}
 
     Parameters
     ----------
     k_forward, k_backward : float or numpy.ndarray
         Rate constants A -> B and B -> A, > 0 in sum [s-1].
+    reactive_fraction : float or numpy.ndarray
+        x_max, the part of the chromophore that can react, in (0, 1] [1]; 1 by default.
 
     Returns
     -------
@@ -172,7 +190,7 @@ def photostationary_state(*, k_forward, k_backward):
        Applications. Elsevier 1998, ch. 2.
     """
     k = k_forward + k_backward
-    return k_forward / k, 1.0 / k
+    return reactive_fraction * k_forward / k, 1.0 / k
 
 
 def arrhenius_shift(*, rate_at_reference, activation_energy, temperature, reference_temperature):
@@ -211,6 +229,17 @@ def arrhenius_shift(*, rate_at_reference, activation_energy, temperature, refere
 def rates(mean_flux, light, photo, T, T_ref, k_f, k_b):
     """Kernel step of :func:`photoreaction_rates` with :func:`arrhenius_shift`: fill k_f, k_b [s-1] in place.
 
+    With a reactive fraction :math:`x_{max} < 1` the cell's rates are handed on as those of the
+    equivalent uncapped reaction, so that :func:`exact_update` needs no cap of its own:
+
+    .. math:: k_f (x_{max} - x) - k_b x = k_f' (1 - x) - k_b' x, \\qquad
+       k_f' = x_{max} k_f, \\quad k_b' = k_b + (1 - x_{max}) k_f
+
+    (same sum :math:`k_f' + k_b' = k_f + k_b`, same stationary state
+    :math:`k_f'/(k_f' + k_b') = x_{max} k_f/(k_f + k_b)`; both are linear in the rates, so the
+    predictor–corrector's averaging of the rates is unchanged). With :math:`x_{max} = 1` the rates are
+    the per-molecule rates of :func:`photoreaction_rates`, bit for bit.
+
     Parameters
     ----------
     mean_flux : numpy.ndarray, shape (n_cell, n_beam)
@@ -218,7 +247,7 @@ def rates(mean_flux, light, photo, T, T_ref, k_f, k_b):
     light : actsim.optics.LightParams
         Absorptivities.
     photo : actsim.kinetics.PhotoParams
-        Quantum yields and thermal back rates.
+        Quantum yields, thermal back rates and reactive fractions.
     T : numpy.ndarray, shape (n_cell,)
         Temperature [K].
     T_ref : float
@@ -236,13 +265,21 @@ def rates(mean_flux, light, photo, T, T_ref, k_f, k_b):
         k_th = photo.k_ref[i]
         if photo.e_act[i] != 0.0 and k_th != 0.0:
             k_th = k_th * math.exp(-photo.e_act[i] / GAS_CONSTANT * (1.0 / T[i] - 1.0 / T_ref))
-        k_f[i] = LN10 * sf
-        k_b[i] = LN10 * sb + k_th
+        kf = LN10 * sf
+        kb = LN10 * sb + k_th
+        x_max = photo.x_max[i]
+        if x_max < 1.0:  # conversion cap: the equivalent uncapped rates (see above)
+            kb = kb + (1.0 - x_max) * kf
+            kf = x_max * kf
+        k_f[i] = kf
+        k_b[i] = kb
 
 
 @njit(cache=True)
 def exact_update(x, k_f, k_b, dt, out):
     """Kernel step of :func:`exact_first_order_update`: x_ss + (x - x_ss) exp(-(k_f + k_b) dt) per cell.
+
+    x_ss = k_f/(k_f + k_b): a conversion cap arrives already folded into the rates by :func:`rates`.
 
     Parameters
     ----------

@@ -104,7 +104,8 @@ def run_reference(p):
         for _ in range(sched.seg_n[s]):
             mf, ab, _ = light_at(x, q)
             kf0, kb0 = rate(mf, T)
-            xp = kinetics.exact_first_order_update(conversion=x, k_forward=kf0, k_backward=kb0, dt=dt)
+            xp = kinetics.exact_first_order_update(conversion=x, k_forward=kf0, k_backward=kb0, dt=dt,
+                                                   reactive_fraction=photo.x_max)
             mf1, ab1, _ = light_at(xp, q)
             if heat.mode != thermal.HEAT_OFF:
                 # the heat state is the rise above T_ref (as in the kernel), so the stored heat is not rounded at 293 K
@@ -127,7 +128,7 @@ def run_reference(p):
                 Tn, rise_n = T, rise
             kf1, kb1 = rate(mf1, Tn)
             xn = kinetics.exact_first_order_update(conversion=x, k_forward=0.5 * (kf0 + kf1),
-                                                   k_backward=0.5 * (kb0 + kb1), dt=dt)
+                                                   k_backward=0.5 * (kb0 + kb1), dt=dt, reactive_fraction=photo.x_max)
             if has_network:
                 Sp = np.where(on, material.update_network_strain(network_strain=S, conversion_old=x, conversion_new=xn,
                                                                  strain=e_start), S)

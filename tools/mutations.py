@@ -24,7 +24,7 @@ ROOT = Path(__file__).resolve().parent.parent
 CORE_TESTS = [
     "tests/test_outputs_independent.py", "tests/test_kernels.py", "tests/test_photokinetics.py",
     "tests/test_mechanics.py", "tests/test_heat_coupled.py", "tests/test_thermal.py", "tests/test_shape_memory.py",
-    "tests/test_batch.py", "tests/test_optics.py",
+    "tests/test_batch.py", "tests/test_optics.py", "tests/test_conversion_cap.py",
 ]
 
 #: name -> (file, original text, broken text)
@@ -106,6 +106,11 @@ MUTATIONS = {
         'actsim/schedule.py', 'seg_n = np.maximum(1, np.ceil(length / time_step - 1e-9))', 'seg_n = np.maximum(1, np.floor(length / time_step - 1e-9))'),
     'network remembers the strain with the wrong sign': (
         'actsim/material.py', 's = S[i] + strain[i] * dn', 's = S[i] - strain[i] * dn'),
+    "conversion cap: kernel drops (1 - x_max) k_f from the back rate": (
+        "actsim/kinetics.py", "kb = kb + (1.0 - x_max) * kf", "kb = kb"),
+    "conversion cap: readable x_ss without x_max": (
+        "actsim/kinetics.py", "x_ss = np.where(k > 0, reactive_fraction * k_forward / safe_k, conversion)",
+        "x_ss = np.where(k > 0, k_forward / safe_k, conversion)"),
 }
 
 

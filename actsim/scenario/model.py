@@ -35,6 +35,7 @@ class Material:
     chromophore_concentration: float = 0.0  # mol/m^3
     photo_strain: float = 0.0  # eigenstrain at full conversion, 1
     thermal_back_rate: float = 0.0  # 1/s
+    reactive_fraction: float = 1.0  # part of the chromophore that can react (conversion cap), 1
     forward_quantum_yield: SpectralFunction | None = None
     backward_quantum_yield: SpectralFunction | None = None
     reactant_absorptivity: SpectralFunction | None = None  # decadic, m^2/mol

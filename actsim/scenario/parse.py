@@ -152,6 +152,7 @@ def _parse_material(name: str, data, base_dir: Path) -> Material:
     conc = t.quantity("chromophore_concentration", "concentration", default=0.0, lo=0.0)
     photo_strain = t.number("photo_strain", default=0.0, lo=-0.5, hi=0.5)
     k_back = t.quantity("thermal_back_rate", "rate", default=0.0, lo=0.0)
+    x_max = t.number("reactive_fraction", default=1.0, lo=0.0, lo_open=True, hi=1.0)
     kw = dict(
         conductivity=t.quantity("conductivity", "conductivity", default=0.2, lo=0.0, lo_open=True),
         density=t.quantity("density", "density", default=1200.0, lo=0.0, lo_open=True),
@@ -173,7 +174,8 @@ def _parse_material(name: str, data, base_dir: Path) -> Material:
         kw["forward_quantum_yield"] = _spectral(t, "forward_quantum_yield", kind=None, default=..., base_dir=base_dir, lo=0.0, hi=1.0)
         kw["backward_quantum_yield"] = _spectral(t, "backward_quantum_yield", kind=None, default=0.0, base_dir=base_dir, lo=0.0, hi=1.0)
     else:
-        for key in ("reactant_absorptivity", "product_absorptivity", "forward_quantum_yield", "backward_quantum_yield"):
+        for key in ("reactant_absorptivity", "product_absorptivity", "forward_quantum_yield", "backward_quantum_yield",
+                    "reactive_fraction"):
             if t.has(key):
                 raise ActsimInputError(
                     f"materials.{name}.{key}: given but chromophore_concentration is zero; set chromophore_concentration (> 0 mol/m^3) or remove it"
@@ -186,7 +188,7 @@ def _parse_material(name: str, data, base_dir: Path) -> Material:
     return Material(
         name=name, modulus=modulus, product_modulus=product_modulus, poisson_ratio=nu, refractive_index=n_ref,
         background_absorption=background, chromophore_concentration=conc, photo_strain=photo_strain,
-        thermal_back_rate=k_back, **kw,
+        thermal_back_rate=k_back, reactive_fraction=x_max, **kw,
     )
 
 
@@ -363,6 +365,12 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
         if layer.initial_conversion > 0 and not layer.material.is_active:
             raise ActsimInputError(
                 f"layers[{i}].initial_conversion: {layer.initial_conversion:g} given but material '{mname}' has no chromophore"
+            )
+        if layer.initial_conversion > layer.material.reactive_fraction:
+            raise ActsimInputError(
+                f"layers[{i}].initial_conversion: {layer.initial_conversion:g} is above reactive_fraction = "
+                f"{layer.material.reactive_fraction:g} of material '{mname}' (dimensionless; allowed range 0 to "
+                f"{layer.material.reactive_fraction:g})"
             )
         if any(other.name == layer.name for other in layers):
             raise ActsimInputError(f"layers[{i}].name: '{layer.name}' is already used by another layer; names must be unique")
