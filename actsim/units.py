@@ -251,3 +251,24 @@ def unit_kind(unit: str, *, field: str):
         if Q_(1.0, si).dimensionality == dim:
             return si, kind
     raise ActsimInputError(f"{field}: unit {unit!r} is not the unit of any scenario quantity (e.g. 1, 1/s, W/m^2, m)")
+
+
+def nonnegative_float(x, *, field_name: str, unit: str) -> float:
+    """``x`` as a finite float >= 0, or a one-line :class:`ActsimInputError` naming the field and unit.
+
+    Parameters
+    ----------
+    x : float or str
+        The value, in ``unit``.
+    field_name : str
+        Name shown in the error.
+    unit : str
+        Unit shown in the error.
+    """
+    try:
+        v = float(x)
+    except (TypeError, ValueError):
+        raise ActsimInputError(f"{field_name}: {x!r} is not a number ({unit})") from None
+    if not math.isfinite(v) or v < 0:
+        raise ActsimInputError(f"{field_name}: {v:g} {unit} is outside the allowed range (>= 0 and finite)")
+    return v

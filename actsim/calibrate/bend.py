@@ -221,16 +221,16 @@ def scenario_value(scenario, path: str, unit: str):
     float or None
         The value [SI of ``unit``], or None if the file does not set the field.
     """
-    from ..scenario import _descend, split_field_path
+    from ..scenario import descend, split_field_path
 
     raw = tomllib.loads(scenario.text)
     node = raw
     tokens = split_field_path(path)
     for tok in tokens[:-1]:
-        parent, key = _descend(node, tok, path)
+        parent, key = descend(node, tok, path)
         node = parent[key]
     if isinstance(tokens[-1], tuple):
-        parent, key = _descend(node, tokens[-1], path)
+        parent, key = descend(node, tokens[-1], path)
     else:
         if not isinstance(node, dict):
             raise ActsimInputError(f"{path}: '{tokens[-1]}' used on something that is not a table")

@@ -33,11 +33,11 @@ import numpy as np
 
 from ..cautions import caution_lines
 from ..errors import ActsimInputError, ActsimWarning
+from ..units import nonnegative_float
 from .exposure_limits import (
     HAZARDS,
     NOT_MODELLED,
     Hazard,
-    _nonneg_float,
     actinic_permissible_time,
     blue_light_permissible_time,
     risk_group,
@@ -104,7 +104,7 @@ def _weighted(spectrum: Spectrum, lo: float, hi: float, weight) -> _Weighted:
         n = int(math.ceil((b - a) / _FINE_STEP)) + 1
         nodes = [np.linspace(a, b, n), wl[(wl > a) & (wl < b)], wfun.wavelength[(wfun.wavelength > a) & (wfun.wavelength < b)]]
         grid = np.unique(np.concatenate(nodes))
-        value += float(np.trapezoid(np.interp(grid, wl, e) * wfun._eval(grid), grid))
+        value += float(np.trapezoid(np.interp(grid, wl, e) * wfun.evaluate_clipped(grid), grid))
     lw, le = spectrum.line_wavelength, spectrum.line_irradiance
     if lw.size:
         total += float(np.sum(le))
@@ -114,7 +114,7 @@ def _weighted(spectrum: Spectrum, lo: float, hi: float, weight) -> _Weighted:
         below += float(np.sum(le[lw < lo_t]))
         above += float(np.sum(le[lw > hi_t]))
         if np.any(inside):
-            w = 1.0 if wfun is None else wfun._eval(lw[inside])
+            w = 1.0 if wfun is None else wfun.evaluate_clipped(lw[inside])
             value += float(np.sum(le[inside] * w))
     return _Weighted(value=value, below=below, above=above, total=total)
 
@@ -316,7 +316,7 @@ def _parse_protocol(protocol, distance_factor):
             d, spec = step
         except (TypeError, ValueError):
             raise ActsimInputError(f"protocol[{i}]: each step must be a (duration [s], Spectrum or None) pair") from None
-        d = _nonneg_float(d, field_name=f"protocol[{i}].duration", unit="s")
+        d = nonnegative_float(d, field_name=f"protocol[{i}].duration", unit="s")
         if d == 0:
             raise ActsimInputError(f"protocol[{i}].duration: 0 s is outside the allowed range (> 0 s)")
         spec = Spectrum() if spec is None else spec
@@ -571,7 +571,7 @@ def photobio_check(
     .. [2] IEC 62471:2006, "Photobiological safety of lamps and lamp systems".
     """
     person = exposure_spectrum(spectrum, distance_factor=distance_factor, exposure_irradiance=exposure_irradiance)
-    t = _nonneg_float(exposure_duration, field_name="exposure_duration", unit="s")
+    t = nonnegative_float(exposure_duration, field_name="exposure_duration", unit="s")
     if t == 0:
         raise ActsimInputError("exposure_duration: 0 s is outside the allowed range (> 0 s)")
     results, summary = protocol_check([(t, person)], radiance_spectrum=radiance_spectrum)

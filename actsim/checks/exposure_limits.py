@@ -27,6 +27,7 @@ import math
 from dataclasses import dataclass
 
 from ..errors import ActsimInputError
+from ..units import nonnegative_float
 
 __all__ = [
     "ExposureLimit",
@@ -271,16 +272,6 @@ def hazards_for(wavelength_min: float, wavelength_max: float | None = None) -> t
 # Permissible exposure times and risk groups
 
 
-def _nonneg_float(x, *, field_name: str, unit: str) -> float:
-    try:
-        v = float(x)
-    except (TypeError, ValueError):
-        raise ActsimInputError(f"{field_name}: {x!r} is not a number ({unit})") from None
-    if not math.isfinite(v) or v < 0:
-        raise ActsimInputError(f"{field_name}: {v:g} {unit} is outside the allowed range (>= 0 and finite)")
-    return v
-
-
 def _dose_then_rate(h: Hazard, rate: float) -> float:
     # the rate form governs and is met at or below the rate limit; above it the dose limit sets the time
     return math.inf if rate <= h.rate.value else h.dose.value / rate
@@ -311,7 +302,7 @@ def actinic_permissible_time(*, effective_irradiance: float) -> float:
     .. [1] ICNIRP, Health Physics 87, 171-186, 2004 (limit from memory).
     .. [2] IEC 62471:2006, §4.3.1 (from memory).
     """
-    e = _nonneg_float(effective_irradiance, field_name="effective_irradiance", unit="W/m^2")
+    e = nonnegative_float(effective_irradiance, field_name="effective_irradiance", unit="W/m^2")
     return math.inf if e == 0 else HAZARDS["actinic_uv"].dose.value / e
 
 
@@ -341,7 +332,7 @@ def uva_permissible_time(*, uva_irradiance: float) -> float:
     .. [1] IEC 62471:2006, §4.3.2 (from memory).
     .. [2] ICNIRP, Health Physics 87, 171-186, 2004 (from memory).
     """
-    e = _nonneg_float(uva_irradiance, field_name="uva_irradiance", unit="W/m^2")
+    e = nonnegative_float(uva_irradiance, field_name="uva_irradiance", unit="W/m^2")
     return _dose_then_rate(HAZARDS["uva"], e)
 
 
@@ -380,9 +371,9 @@ def blue_light_permissible_time(*, weighted_irradiance: float | None = None, wei
     if (weighted_irradiance is None) == (weighted_radiance is None):
         raise ActsimInputError("blue_light_permissible_time: give exactly one of weighted_irradiance [W/m^2] or weighted_radiance [W/(m^2 sr)]")
     if weighted_irradiance is not None:
-        e = _nonneg_float(weighted_irradiance, field_name="weighted_irradiance", unit="W/m^2")
+        e = nonnegative_float(weighted_irradiance, field_name="weighted_irradiance", unit="W/m^2")
         return _dose_then_rate(HAZARDS["blue_light"], e)
-    lb = _nonneg_float(weighted_radiance, field_name="weighted_radiance", unit="W/(m^2 sr)")
+    lb = nonnegative_float(weighted_radiance, field_name="weighted_radiance", unit="W/(m^2 sr)")
     return _dose_then_rate(HAZARDS["blue_light_radiance"], lb)
 
 

@@ -20,7 +20,7 @@ import numpy as np
 
 from ..errors import ActsimInputError
 from ..spectra import gaussian_spectrum
-from .exposure_limits import _nonneg_float
+from ..units import nonnegative_float
 
 __all__ = [
     "Spectrum",
@@ -342,7 +342,7 @@ def exposure_spectrum(spectrum: Spectrum, *, distance_factor: float | None = Non
     if distance_factor is not None and exposure_irradiance is not None:
         raise ActsimInputError("exposure: give either distance_factor [-] or exposure_irradiance [W/m^2], not both")
     if exposure_irradiance is not None:
-        e = _nonneg_float(exposure_irradiance, field_name="exposure_irradiance", unit="W/m^2")
+        e = nonnegative_float(exposure_irradiance, field_name="exposure_irradiance", unit="W/m^2")
         if e == 0:
             raise ActsimInputError("exposure_irradiance: 0 W/m^2 is outside the allowed range (> 0 W/m^2)")
         tot = spectrum.total_irradiance()

@@ -86,10 +86,10 @@ class WeightingFunction:
                 f"{self.name}: wavelength {bad:.6g} m is outside the tabulated range "
                 f"({self.lo:.4g} to {self.hi:.4g} m, i.e. {self.lo * 1e9:g}-{self.hi * 1e9:g} nm)"
             )
-        return self._eval(wl)
+        return self.evaluate_clipped(wl)
 
-    def _eval(self, wl):
-        # no range check; callers have clipped to [lo, hi]
+    def evaluate_clipped(self, wl):
+        """Weighting at wavelengths [m] already clipped to the table's range (no range check) [1]."""
         return np.power(10.0, np.interp(wl, self.wavelength, np.log10(self.value)))
 
 

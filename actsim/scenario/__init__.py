@@ -13,7 +13,7 @@ the job that reads them). Field tables are read with :class:`actsim.schema.Table
 
 from ..schema import Table
 from .model import HOLDS, HeatSettings, Layer, LightSource, Material, OpticsSettings, Scenario, SpectralFunction, Step, Strip
-from .overrides import _descend, apply_overrides, split_field_path
+from .overrides import apply_overrides, descend, split_field_path
 from .parse import JOB_SECTIONS, load_scenario, parse_scenario
 from .sections import scenario_info, section_settings
 
@@ -22,6 +22,7 @@ __all__ = [
     "parse_scenario",
     "apply_overrides",
     "split_field_path",
+    "descend",
     "section_settings",
     "scenario_info",
     "JOB_SECTIONS",

@@ -34,7 +34,20 @@ def split_field_path(path: str):
     return tokens
 
 
-def _descend(container, token, path, *, create=False):
+def descend(container, token, path, *, create=False):
+    """The container and key that one field-path token names (``layers[film]`` -> the list and the index).
+
+    Parameters
+    ----------
+    container : dict or list
+        The raw TOML node.
+    token : str or tuple
+        A key, or ``("[", index or name)``.
+    path : str
+        The whole field path, for the one-line error.
+    create : bool
+        Create a missing table key (for overrides).
+    """
     if isinstance(token, tuple):
         index = token[1].strip()
         if not isinstance(container, list):
@@ -86,12 +99,12 @@ def apply_overrides(scenario: Scenario, overrides: dict) -> Scenario:
         tokens = split_field_path(path)
         node = raw
         for tok in tokens[:-1]:
-            parent, key = _descend(node, tok, path)
+            parent, key = descend(node, tok, path)
             if key == "light" and isinstance(parent[key], list):
                 # the list form ["lamp", ...] means each source at its own irradiance: make it a table
                 parent[key] = {name: "on" for name in parent[key]}
             node = parent[key]
-        parent, key = _descend(node, tokens[-1], path, create=True)
+        parent, key = descend(node, tokens[-1], path, create=True)
         if hasattr(value, "units") and hasattr(value, "magnitude"):
             value = f"{value.magnitude!r} {value.units:~}"
         elif isinstance(value, (np.floating, np.integer)):
