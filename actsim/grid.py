@@ -52,21 +52,3 @@ def cell_centres(z_edges: np.ndarray) -> np.ndarray:
         Cell faces [m].
     """
     return 0.5 * (z_edges[:-1] + z_edges[1:])
-
-
-def layer_values(scenario, grid: Grid, value, dtype=float) -> np.ndarray:
-    """A per-cell array from a per-layer function ``value(layer)``.
-
-    Parameters
-    ----------
-    scenario : actsim.scenario.Scenario
-        The validated scenario (SI).
-    grid : actsim.grid.Grid
-        The cell grid.
-    value : callable
-        Layer -> value, in SI units.
-    dtype : numpy dtype
-        Of the result.
-    """
-    per_layer = np.array([value(layer) for layer in scenario.layers], dtype=dtype)
-    return per_layer[grid.layer_index]

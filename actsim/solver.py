@@ -15,7 +15,7 @@ import numpy as np
 import xarray as xr
 
 from . import kinetics, material, mechanics, optics, thermal
-from ._kernels import RawOutput, allocate_output
+from ._kernels import RawOutput, allocate_output, run_design
 from .errors import ActsimInputError, ActsimSimulationError
 from .grid import Grid, build_grid, cell_centres
 from .scenario import Scenario
@@ -60,8 +60,6 @@ def build_problem(scenario: Scenario) -> Problem:
 
 def run_kernel(p: Problem) -> RawOutput:
     """Run the numba time loop; returns the raw output arrays."""
-    from ._kernels import run_design
-
     o = p.allocate_output()
     bad = run_design(*p.kernel_inputs(), o)
     if bad >= 0:

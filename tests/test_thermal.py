@@ -17,8 +17,7 @@ import math
 import numpy as np
 import pytest
 from numba import njit
-from scipy.constants import R, Stefan_Boltzmann
-from scipy.interpolate import interp1d
+from scipy.constants import Stefan_Boltzmann
 from scipy.linalg import solve_banded
 from scipy.optimize import brentq
 from scipy.special import erfc
