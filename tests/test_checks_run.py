@@ -443,7 +443,7 @@ def test_fatigue_life_beyond_fitted_range_is_not_printed_raw(ds):
     # cycles); the packaged glassy-network constants carry cycles = [1e3, 1e7] (illustrative, from memory). A life
     # computed beyond 1e7 is an extrapolation: the notes say "> 1e7 cycles (...; extrapolated)", never the raw
     # number, which stays in the details (checks.json).
-    from actsim.checks.run import _life_text
+    from actsim.checks.mechanical import fatigue_life_text
 
     _, res, det = checks(ds, '[checks]\ntarget_cycles = 1e3\n[checks.materials.film]\nlimits = "generic_glassy_network"\n')
     fd = det["fatigue"]["film"]
@@ -462,5 +462,5 @@ def test_fatigue_life_beyond_fitted_range_is_not_printed_raw(ds):
     assert f"modelled life {fd['life_cycles'][m]:.3g} cycles" in [r for r in by_name(res, "fatigue damage")
                                                                    if "most conservative" in r.note][0].note
     # below the range, and constants without a range of their own (the usual 1e3..1e7 is used and named)
-    assert _life_text(200.0, 1e3, 1e7, True).startswith("200 cycles (below the fitted range of the constants")
-    assert _life_text(3.57e19, 1e3, 1e7, False) == "> 1e7 cycles (beyond the usual fitted range of Basquin constants; extrapolated)"
+    assert fatigue_life_text(200.0, 1e3, 1e7, True).startswith("200 cycles (below the fitted range of the constants")
+    assert fatigue_life_text(3.57e19, 1e3, 1e7, False) == "> 1e7 cycles (beyond the usual fitted range of Basquin constants; extrapolated)"
