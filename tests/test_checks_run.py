@@ -443,7 +443,7 @@ def test_fatigue_life_beyond_fitted_range_is_not_printed_raw(ds):
     # cycles); the packaged glassy-network constants carry cycles = [1e3, 1e7] (illustrative, from memory). A life
     # computed beyond 1e7 is an extrapolation: the notes say "> 1e7 cycles (...; extrapolated)", never the raw
     # number, which stays in the details (checks.json).
-    from actsim.checks.run import _life_text
+    from actsim.checks.mechanical import fatigue_life_text
 
     _, res, det = checks(ds, '[checks]\ntarget_cycles = 1e3\n[checks.materials.film]\nlimits = "generic_glassy_network"\n')
     fd = det["fatigue"]["film"]
@@ -462,5 +462,60 @@ def test_fatigue_life_beyond_fitted_range_is_not_printed_raw(ds):
     assert f"modelled life {fd['life_cycles'][m]:.3g} cycles" in [r for r in by_name(res, "fatigue damage")
                                                                    if "most conservative" in r.note][0].note
     # below the range, and constants without a range of their own (the usual 1e3..1e7 is used and named)
-    assert _life_text(200.0, 1e3, 1e7, True).startswith("200 cycles (below the fitted range of the constants")
-    assert _life_text(3.57e19, 1e3, 1e7, False) == "> 1e7 cycles (beyond the usual fitted range of Basquin constants; extrapolated)"
+    assert fatigue_life_text(200.0, 1e3, 1e7, True).startswith("200 cycles (below the fitted range of the constants")
+    assert fatigue_life_text(3.57e19, 1e3, 1e7, False) == "> 1e7 cycles (beyond the usual fitted range of Basquin constants; extrapolated)"
+
+
+# --------------------------------------------------------------------------- registry and dispatcher
+
+
+def test_dispatcher_runs_only_checks_whose_section_is_present(ds):
+    # The dispatcher's contract (common practice, no source): a registered check with a section runs only when
+    # the scenario gives that section; per-layer checks run once per layer, bottom to top, each layer's rows
+    # together, before the scenario-wide checks; details land under each check's key.
+    from actsim.checks.context import CheckOutput
+    from actsim.checks.run import RegisteredCheck, build_context, dispatch
+
+    calls = []
+
+    def recorder(tag):
+        def run(ctx):
+            calls.append((tag, ctx.layer))
+            return CheckOutput([NotAssessed(f"{tag} {ctx.layer}", "test")], {"tag": tag})
+        return run
+
+    registry = (
+        RegisteredCheck("per layer", recorder("L"), per_layer=True, details_key="per_layer"),
+        RegisteredCheck("per layer, no details", recorder("M"), per_layer=True),
+        RegisteredCheck("always", recorder("A"), details_key="always"),
+        RegisteredCheck("safety", recorder("S"), section="safety", details_key="safety_test"),
+        RegisteredCheck("joint", recorder("J"), section="joint"),
+        RegisteredCheck("checks", recorder("C"), section="checks"),
+    )
+    ctx = build_context(parse_scenario(BASE + "\n[checks]\nrequired_safety_factor = 2.0\n"), ds, elastica=False)
+    res, det = dispatch(ctx, registry)
+    assert calls == [("L", 0), ("M", 0), ("L", 1), ("M", 1), ("A", None), ("C", None)]
+    assert [r.check for r in res] == ["L 0", "M 0", "L 1", "M 1", "A None", "C None"]
+    assert det["per_layer"] == {"sub": {"tag": "L"}, "film": {"tag": "L"}} and det["always"] == {"tag": "A"}
+    assert "safety_test" not in det and "joint" not in det
+    calls.clear()
+    ctx = build_context(parse_scenario(BASE + "\n[checks]\n[safety]\nskin_contact = false\n"), ds, elastica=False)
+    dispatch(ctx, registry)
+    assert [c[0] for c in calls] == ["L", "M", "L", "M", "A", "S", "C"]
+
+
+def test_registry_runs_joint_checks_only_with_a_joint_section(ds):
+    # Without [joint] no joint is sized and no joint row is printed; with it, the joint rows follow the
+    # per-layer rows and come before the light rows.
+    from actsim.checks.run import REGISTRY
+
+    assert [c.section for c in REGISTRY if c.section] == ["joint"]
+    _, res, det = checks(ds, "[checks]\nrequired_safety_factor = 2.0\n")
+    assert "joint" not in det and not [r for r in res if r.check.startswith("joint")]
+    _, res, det = checks(ds, JOINT.format(strips=1, a0="-15 deg", a1="15 deg", m="5 g", r="20 mm"))
+    names = [r.check for r in res]
+    first_joint = next(i for i, n in enumerate(names) if n.startswith("joint moment"))
+    assert names[first_joint + 1].startswith("joint stack of 1 strip")
+    assert all(n.startswith(("yield", "fatigue")) for n in names[:first_joint])
+    assert all(n.startswith(("light", "photobiological", "skin")) for n in names[first_joint + 2:])
+    assert list(det)[:5] == ["title", "required_safety_factor", "actuation", "joint", "stress"]

@@ -30,9 +30,11 @@ from ..units import SI_UNITS, parse_dimensionless, parse_quantity
 
 __all__ = [
     "CheckResult",
+    "NotAssessed",
     "Limit",
     "format_table",
     "format_quantity",
+    "format_margin",
     "to_records",
     "load_limits",
     "load_material_limits",
@@ -180,6 +182,34 @@ class CheckResult:
         return f"{self.verdict_short} ({self.source})"
 
 
+@dataclass(frozen=True)
+class NotAssessed:
+    """A check that could not be made, with the reason (never counted as a pass).
+
+    Attributes
+    ----------
+    check : str
+        What would have been checked.
+    reason : str
+        Why it was not assessed, and what would make it possible.
+    source : str
+        The limit's source, when known.
+    validity : str
+        Range of validity, when known.
+    """
+
+    check: str
+    reason: str
+    source: str = ""
+    validity: str = ""
+
+    passed = None  # neither pass nor fail
+
+    @property
+    def verdict(self) -> str:
+        return f"not assessed: {self.reason}"
+
+
 _PREFIXED_UNITS = ("Pa", "N", "W", "J")
 _PREFIXES = ((1e9, "G"), (1e6, "M"), (1e3, "k"), (1.0, ""), (1e-3, "m"), (1e-6, "µ"))
 
@@ -218,7 +248,8 @@ def format_quantity(x: float, unit: str) -> str:
     return f"{x:.4g} {unit}"
 
 
-def _fmt_margin(r: CheckResult) -> str:
+def format_margin(r: CheckResult) -> str:
+    """The margin of a result for a table: a ratio to 3 digits (``inf`` when unbounded), a difference with its unit."""
     if r.margin_kind == "ratio":
         return "inf" if math.isinf(r.margin) else f"{r.margin:.3g}"
     return format_quantity(r.margin, r.unit)
@@ -240,7 +271,7 @@ def format_table(results: Iterable[CheckResult]) -> str:
     results = list(results)
     header = ("check", "value", "limit", "margin", "verdict", "source")
     rows = [
-        (r.check, format_quantity(r.value, r.unit), format_quantity(r.limit, r.unit), _fmt_margin(r), r.verdict_short, r.source)
+        (r.check, format_quantity(r.value, r.unit), format_quantity(r.limit, r.unit), format_margin(r), r.verdict_short, r.source)
         for r in results
     ]
     widths = [max(len(h), *(len(row[i]) for row in rows)) if rows else len(h) for i, h in enumerate(header)]
