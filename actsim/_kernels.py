@@ -25,14 +25,34 @@ from .kinetics import exact_update, rates
 from .material import material_state, mechanical_strain, network_strain_update
 from .mechanics import section_solve
 from .optics import light_pass
-from .thermal import (
+#: Step-size control (Hairer, Nørsett and Wanner, Solving ODEs I, 2nd ed., 1993, sec. II.4): safety factor, largest
+#: and smallest change of the step, the error exponent 1/(q+1) with q = 1 the order of the embedded (predictor) step.
+STEP_SAFETY = 0.9
+STEP_GROW_MAX = 5.0
+STEP_SHRINK_MIN = 0.2
+STEP_EXPONENT = 0.5
+#: Exponent for the temperature's estimate, which is of TR-BDF2's own third-order local error.
+STEP_EXPONENT_HEAT = 1.0 / 3.0
+#: Fraction of the tolerance the local error estimate of a step is held to: the estimate is of the first-order
+#: predictor, and the global error of the kept second-order state then stays below the tolerance (measured on
+#: every bundled scenario: conversion 0.6 x tol at most; tests/test_time_stepping.py).
+LOCAL_TARGET = 0.5
+#: Scales of the error norm: the tolerance bounds the local error of conversion [1], temperature / TEMPERATURE_SCALE
+#: and network strain / STRAIN_SCALE per step.
+TEMPERATURE_SCALE = 1.0  # K
+STRAIN_SCALE = 0.01  # 1
+#: Failure guards of the error-controlled march.
+MAX_STEPS = 50_000_000
+MIN_STEP_FRACTION = 1e-14
+
+from .thermal import (  # noqa: E402
     HEAT_CN,
     HEAT_OFF,
-    HEAT_TRBDF2,
     TRBDF2_GAMMA,
     conduction_theta_factored,
     conduction_trbdf2_factored,
     face_conductance,
+    trbdf2_error,
     factor_conduction,
     heat_source,
     interior_conductances,
@@ -58,6 +78,8 @@ class RawOutput(NamedTuple):
         Photon flux incident, reflected, absorbed, transmitted [mol m-2 s-1].
     energy : numpy.ndarray, shape (n_out, 3)
         Cumulative heat absorbed, lost bottom, lost top [J m-2].
+    steps : numpy.ndarray, shape (n_out, 2)
+        Cumulative number of accepted and rejected time steps [1].
     """
 
     x: np.ndarray
@@ -70,10 +92,11 @@ class RawOutput(NamedTuple):
     mech: np.ndarray
     budget: np.ndarray
     energy: np.ndarray
+    steps: np.ndarray
 
 
 #: Trailing shape of each output per design: (n_out, n_cell) fields, or (n_out, k).
-OUTPUT_WIDTH = {"mech": 4, "budget": 4, "energy": 3}
+OUTPUT_WIDTH = {"mech": 4, "budget": 4, "energy": 3, "steps": 2}
 
 
 def allocate_output(n_out: int, n_cell: int, lead: dict | int | None = None) -> RawOutput:
@@ -165,6 +188,22 @@ def run_design(grid, light, photo, heat, mat, sched, out):
     the cumulative heat absorbed and lost through the bottom and top faces
     [J m-2], integrated with the heat scheme's own quadrature.
 
+    Steps: with ``sched.tolerance == 0`` each segment is cut into ``seg_n``
+    equal steps. Otherwise the step is error-controlled: the local error of a
+    step is estimated from quantities the step computes anyway — predicted
+    against corrected conversion and network strain, and TR-BDF2's embedded
+    estimate (:func:`actsim.thermal.trbdf2_error`) — as the norm
+
+    .. math:: \\mathrm{err} = \\max_i \\max\\left(|x^c_i - x^p_i|,\\;
+       \\frac{|S^c_i - S^p_i|}{0.01}\\right) / (\\mathrm{tol}/2), \\qquad
+       \\mathrm{err}_T = \\max_i \\frac{|e_{T,i}|}{1\\,\\mathrm{K}} / (\\mathrm{tol}/2)
+
+    A step with both <= 1 is accepted (the corrected, second-order state is
+    kept: local extrapolation); the next step is
+    :math:`\\Delta t \\min(5, \\max(0.2, \\min(0.9\\, \\mathrm{err}^{-1/2}, 0.9\\, \\mathrm{err}_T^{-1/3})))`
+    (no growth right after a rejection), and every segment ends exactly on its output time or protocol
+    boundary (Hairer, Nørsett and Wanner 1993, sec. II.4).
+
     Parameters
     ----------
     grid : actsim.grid.Grid
@@ -179,30 +218,37 @@ def run_design(grid, light, photo, heat, mat, sched, out):
     Returns
     -------
     int
-        The index of the first segment that produced a non-finite value, or -1.
+        The index of the first segment that produced a non-finite value (or
+        whose step size collapsed), or -1.
     """
     z_edges = grid.z_edges
     dz = grid.dz
     T_ref = heat.T_ref
     heat_mode = heat.mode
+    tol = sched.tolerance
+    adaptive = tol > 0.0
     n_cell, n_beam = light.eps_a.shape
     e_in = 0.0
     e_lb = 0.0
     e_lt = 0.0
+    n_acc = 0
+    n_rej = 0
     has_network = False
     for i in range(n_cell):
         if mat.network_mod[i] > 0.0:
             has_network = True
     x = photo.x0.copy()
     T = heat.T0.copy()
+    S = np.zeros(n_cell)
     rise = np.empty(n_cell)  # heat state: rise above T_ref, so the stored heat is not rounded at 293 K
     rise_n = np.empty(n_cell)
     for i in range(n_cell):
         rise[i] = T[i] - T_ref
-    S = np.zeros(n_cell)
     xp = np.empty(n_cell)
+    x_pred = np.empty(n_cell)
     Tn = np.empty(n_cell)
     Sp = np.empty(n_cell)
+    Sn = np.empty(n_cell)
     mf = np.empty((n_cell, n_beam))
     ab = np.empty((n_cell, n_beam))
     kf0 = np.empty(n_cell)
@@ -215,7 +261,9 @@ def run_design(grid, light, photo, heat, mat, sched, out):
     Ee = np.empty(n_cell)
     e_start = np.empty(n_cell)
     e_end = np.empty(n_cell)
+    e_next = np.empty(n_cell)
     work = np.empty((6, n_cell))
+    est = np.empty(n_cell)
     mech = np.zeros(4)
     cap = np.empty(n_cell)
     fac = np.empty((3, n_cell))
@@ -232,6 +280,7 @@ def run_design(grid, light, photo, heat, mat, sched, out):
     tr = light_pass(x, dz, light, q, mf, ab)
     record(0, x, T, S, E, Ee, mech, dz, mf, ab, light.beam_emol, q, light.entry, tr, out)
 
+    dt_next = 0.0  # proposal of the error-controlled march (0: none yet)
     for s in range(sched.seg_step.size):
         st = sched.seg_step[s]
         q = sched.step_flux[st]
@@ -241,26 +290,65 @@ def run_design(grid, light, photo, heat, mat, sched, out):
         h_b = sched.step_env[st, 1]
         T_amb_t = sched.step_env[st, 2]
         h_t = sched.step_env[st, 3]
-        dt = sched.seg_dt[s]
+        seg_len = sched.times[s + 1] - sched.times[s]
         gb = face_conductance(h_b, dz[0], heat.k_cond[0])
         gt = face_conductance(h_t, dz[n_cell - 1], heat.k_cond[n_cell - 1])
-        if heat_mode == HEAT_CN:
-            factor_conduction(cap, g_int, gb, gt, 0.5 * dt, fac)
-        elif heat_mode == HEAT_TRBDF2:
-            factor_conduction(cap, g_int, gb, gt, 0.5 * TRBDF2_GAMMA * dt, fac)
+        fac_dt = -1.0  # step the heat matrix is factored for (none yet in this segment)
+        if adaptive and (s == 0 or st != sched.seg_step[s - 1]):
+            # a new protocol step (light, ambient or hold switched): start from a step the fastest
+            # photoreaction allows, sqrt(tol) / max(k_f + k_b), or the previous step if smaller
+            light_pass(x, dz, light, q, mf, ab)
+            rates(mf, light, photo, T, T_ref, kf0, kb0)
+            k_max = 0.0
+            for i in range(n_cell):
+                if kf0[i] + kb0[i] > k_max:
+                    k_max = kf0[i] + kb0[i]
+            h0 = seg_len if k_max == 0.0 else min(seg_len, math.sqrt(tol) / k_max)
+            if dt_next == 0.0 or h0 < dt_next:
+                dt_next = h0
         if has_network:
             material_state(x, T, S, mat, T_ref, E, Ee)
             r = section_solve(z_edges, E, Ee, hold, value)
             mechanical_strain(z_edges, r[0], r[1], mat.alpha_th, T, T_ref, e_start)
-        for _ in range(sched.seg_n[s]):
+        t = 0.0
+        n_left = sched.seg_n[s]
+        rejected_last = False
+        while True:
+            last = False
+            if adaptive:
+                remaining = seg_len - t
+                if remaining <= 0.0:
+                    break
+                dt = dt_next
+                dt_unclipped = dt
+                if dt * 1.01 >= remaining:
+                    dt = remaining
+                    last = True
+                if dt < MIN_STEP_FRACTION * seg_len or n_acc + n_rej > MAX_STEPS:
+                    return s
+            else:
+                if n_left == 0:
+                    break
+                dt = sched.seg_dt[s]
+                dt_unclipped = dt
+            if heat_mode != HEAT_OFF and dt != fac_dt:
+                if heat_mode == HEAT_CN:
+                    factor_conduction(cap, g_int, gb, gt, 0.5 * dt, fac)
+                else:
+                    factor_conduction(cap, g_int, gb, gt, 0.5 * TRBDF2_GAMMA * dt, fac)
+                fac_dt = dt
             # light and rates at the start of the step
             light_pass(x, dz, light, q, mf, ab)
             rates(mf, light, photo, T, T_ref, kf0, kb0)
             if heat_mode != HEAT_OFF:
                 heat_source(ab, light.beam_emol, dz, heat.heat_frac, q0)
-            exact_update(x, kf0, kb0, dt, xp)
+            exact_update(x, kf0, kb0, dt, x_pred)
             # light at the predicted conversion
-            light_pass(xp, dz, light, q, mf, ab)
+            light_pass(x_pred, dz, light, q, mf, ab)
+            lb = 0.0
+            lt = 0.0
+            d_in = 0.0
+            err_T = 0.0
             if heat_mode != HEAT_OFF:
                 heat_source(ab, light.beam_emol, dz, heat.heat_frac, q1)
                 if heat_mode == HEAT_CN:
@@ -269,12 +357,13 @@ def run_design(grid, light, photo, heat, mat, sched, out):
                 else:
                     lb, lt = conduction_trbdf2_factored(rise, cap, dz, g_int, gb, gt, q0, q1, dt, T_amb_b - T_ref,
                                                         T_amb_t - T_ref, fac, work, rise_n)
+                    if adaptive:
+                        err_T = trbdf2_error(rise, work[5], rise_n, cap, dz, g_int, gb, gt, q0, work[4], q1, dt,
+                                             T_amb_b - T_ref, T_amb_t - T_ref, fac, work[3], est)
                 for i in range(n_cell):
                     Tn[i] = rise_n[i] + T_ref
-                e_lb += lb
-                e_lt += lt
                 for i in range(n_cell):
-                    e_in += 0.5 * dt * (q0[i] + q1[i]) * dz[i]
+                    d_in += 0.5 * dt * (q0[i] + q1[i]) * dz[i]
             else:
                 for i in range(n_cell):
                     Tn[i] = T[i]
@@ -292,14 +381,60 @@ def run_design(grid, light, photo, heat, mat, sched, out):
                 # corrector: midpoint strain
                 for i in range(n_cell):
                     e_end[i] = 0.5 * (e_start[i] + e_end[i])
-                network_strain_update(S, x, xp, e_end, mat.network_mod, S)
-                material_state(xp, Tn, S, mat, T_ref, E, Ee)
+                network_strain_update(S, x, xp, e_end, mat.network_mod, Sn)
+                material_state(xp, Tn, Sn, mat, T_ref, E, Ee)
                 r = section_solve(z_edges, E, Ee, hold, value)
-                mechanical_strain(z_edges, r[0], r[1], mat.alpha_th, Tn, T_ref, e_start)
+                mechanical_strain(z_edges, r[0], r[1], mat.alpha_th, Tn, T_ref, e_next)
+            if adaptive:
+                err_T = err_T / TEMPERATURE_SCALE / (LOCAL_TARGET * tol)
+                err = 0.0
+                for i in range(n_cell):
+                    d = abs(xp[i] - x_pred[i])
+                    if d > err:
+                        err = d
+                if has_network:
+                    for i in range(n_cell):
+                        d = abs(Sn[i] - Sp[i]) / STRAIN_SCALE
+                        if d > err:
+                            err = d
+                err = err / (LOCAL_TARGET * tol)
+                if not (math.isfinite(err) and math.isfinite(err_T)):
+                    return s
+                # each part of the norm proposes the step its own error order allows; the smallest wins
+                factor = STEP_GROW_MAX
+                if err > 0.0:
+                    factor = min(factor, STEP_SAFETY * err ** (-STEP_EXPONENT))
+                if err_T > 0.0:
+                    factor = min(factor, STEP_SAFETY * err_T ** (-STEP_EXPONENT_HEAT))
+                if err > 1.0 or err_T > 1.0:
+                    n_rej += 1
+                    dt_next = dt * max(STEP_SHRINK_MIN, factor)
+                    rejected_last = True
+                    continue
+                grow = max(STEP_SHRINK_MIN, factor)
+                if rejected_last and grow > 1.0:
+                    grow = 1.0
+                dt_next = dt * grow
+                if last and dt_unclipped > dt_next:
+                    dt_next = dt_unclipped  # landing on the segment end shortened the step; keep the proposal
+                rejected_last = False
+            # accept the step
+            n_acc += 1
+            e_lb += lb
+            e_lt += lt
+            e_in += d_in
             for i in range(n_cell):
                 x[i] = xp[i]
                 T[i] = Tn[i]
                 rise[i] = rise_n[i]
+            if has_network:
+                for i in range(n_cell):
+                    S[i] = Sn[i]
+                    e_start[i] = e_next[i]
+            if adaptive:
+                t = seg_len if last else t + dt
+            else:
+                n_left -= 1
         material_state(x, T, S, mat, T_ref, E, Ee)
         r = section_solve(z_edges, E, Ee, hold, value)
         mech[0], mech[1], mech[2], mech[3] = r[0], r[1], r[2], r[3]
@@ -308,6 +443,8 @@ def run_design(grid, light, photo, heat, mat, sched, out):
         out.energy[s + 1, 0] = e_in
         out.energy[s + 1, 1] = e_lb
         out.energy[s + 1, 2] = e_lt
+        out.steps[s + 1, 0] = n_acc
+        out.steps[s + 1, 1] = n_rej
         for i in range(n_cell):
             if not (math.isfinite(x[i]) and math.isfinite(T[i]) and math.isfinite(S[i])):
                 return s

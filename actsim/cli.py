@@ -77,8 +77,25 @@ def summary_table(summary: dict) -> str:
         rows.append((f"cycle {c['cycle']} ({c['kind']}) recovery", ratio(c["recovery_ratio"])))
         if c.get("bend_angle_after_release") is not None:
             rows.append((f"cycle {c['cycle']} bend after release", _fmt_angle(c["bend_angle_after_release"])))
+    if summary.get("grid_error_estimate") is not None:
+        est = summary["grid_error_estimate"]
+        text = f"bend angle within about {100 * est:.2g} % of a finer grid (estimate)"
+        if est > GRID_ERROR_HINT:
+            text += f"; above {100 * GRID_ERROR_HINT:g} %: use about {_cells_factor(est)}x the cells in each layer"
+        rows.append(("grid check", text))
     w = max(len(r[0]) for r in rows)
     return "\n".join(f"  {k:<{w}}  {v}" for k, v in rows)
+
+
+#: Estimated grid error of the bend angle above which `actsim run` suggests more cells (common practice, no source).
+GRID_ERROR_HINT = 1e-3
+
+
+def _cells_factor(est: float) -> int:
+    """Whole factor on the cells that brings a second-order grid error below GRID_ERROR_HINT."""
+    import math
+
+    return max(2, math.ceil(math.sqrt(est / GRID_ERROR_HINT)))
 
 
 def parse_set_options(items):
@@ -117,6 +134,11 @@ def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set
     sc = load_with_overrides(scenario_path, set_items)
     mask = mask_settings(sc)  # a bad [mask] is refused before the run
     ds = simulate(sc, engine=engine)
+    from .solver import grid_error_estimate
+
+    est = grid_error_estimate(sc, ds)
+    if est is not None:
+        ds.attrs["grid_error_estimate"] = est
     summary = write_result_folder(ds, sc, out_dir, figures=figures)
     print(f"{sc.title}")
     print(summary_table(summary))

@@ -159,6 +159,11 @@ def summarize(ds, *, target_bend_angle=None, protocol=None):
         out["peak_front_depth"] = float(front.max())
     if "peak_temperature" in ds:
         out["peak_temperature"] = float(ds["peak_temperature"].values.max())
+    if "grid_error_estimate" in ds.attrs:
+        out["grid_error_estimate"] = float(ds.attrs["grid_error_estimate"])
+    if "time_steps_accepted" in ds.attrs:
+        out["time_steps_accepted"] = int(ds.attrs["time_steps_accepted"])
+        out["time_steps_rejected"] = int(ds.attrs["time_steps_rejected"])
     if protocol is not None and any(s.hold in ("stretch", "bend") for s in protocol):
         from .shape_memory import shape_memory_cycles
 

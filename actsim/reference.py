@@ -17,7 +17,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from . import kinetics, material, mechanics, optics, thermal, thermal_reference
+from . import _kernels, kinetics, material, mechanics, optics, thermal, thermal_reference
+from .errors import ActsimSimulationError
 from .grid import cell_centres
 
 
@@ -93,52 +94,104 @@ def run_reference(p):
     x, T, S = photo.x0.copy(), heat.T0.copy(), np.zeros_like(photo.x0)
     rise = T - heat.T_ref
     store(0, x, T, S, sched.seg_step[0])
-    for s in range(sched.seg_step.size):
-        st = sched.seg_step[s]
+    tol = sched.tolerance
+
+    def take_step(x, T, rise, S, e_start, st, dt):
+        """One step from (x, T, rise, S); returns the new state, its heat ledger and the error norm / tol."""
         q = sched.step_flux[st]
         tb, hb, tt, ht = sched.step_env[st]
-        dt = sched.seg_dt[s]
+        ledger = np.zeros(3)
+        err_T = 0.0
+        mf, ab, _ = light_at(x, q)
+        kf0, kb0 = rate(mf, T)
+        xp = kinetics.exact_first_order_update(conversion=x, k_forward=kf0, k_backward=kb0, dt=dt,
+                                               reactive_fraction=photo.x_max)
+        mf1, ab1, _ = light_at(xp, q)
+        if heat.mode != thermal.HEAT_OFF:
+            # the heat state is the rise above T_ref (as in the kernel), so the stored heat is not rounded at 293 K
+            kw = dict(dz=dz, conductivity=heat.k_cond, volumetric_heat_capacity=heat.rho_c,
+                      source_old=heat_power(ab), source_new=heat_power(ab1), dt=dt, h_bottom=hb,
+                      ambient_bottom=tb - heat.T_ref, h_top=ht, ambient_top=tt - heat.T_ref)
+        if heat.mode == thermal.HEAT_CN:
+            rise_n = thermal_reference.theta_step_reference(temperature=rise, theta=0.5, **kw)
+            # Crank–Nicolson's own quadrature of the face losses is the trapezoid rule
+            l0 = thermal.face_heat_loss(rise, dz, heat.k_cond, hb, tb - heat.T_ref, ht, tt - heat.T_ref)
+            l1 = thermal.face_heat_loss(rise_n, dz, heat.k_cond, hb, tb - heat.T_ref, ht, tt - heat.T_ref)
+            ledger[1:] = 0.5 * dt * (np.array(l0) + np.array(l1))
+        elif heat.mode == thermal.HEAT_TRBDF2:
+            rise_n, losses, e_T = thermal_reference.trbdf2_step_reference(temperature=rise, return_losses=True,
+                                                                          return_error=True, **kw)
+            ledger[1:] = losses
+            err_T = float(np.max(np.abs(e_T)))
+        if heat.mode != thermal.HEAT_OFF:
+            Tn = rise_n + heat.T_ref
+            ledger[0] = 0.5 * dt * np.sum((heat_power(ab) + heat_power(ab1)) * dz)
+        else:
+            Tn, rise_n = T, rise
+        kf1, kb1 = rate(mf1, Tn)
+        xn = kinetics.exact_first_order_update(conversion=x, k_forward=0.5 * (kf0 + kf1),
+                                               k_backward=0.5 * (kb0 + kb1), dt=dt, reactive_fraction=photo.x_max)
+        Sn, e_next, err_S = S, e_start, 0.0
         if has_network:
-            _, _, r = mech(x, T, S, st)
-            e_start = mechanical_strain(r, T)
-        for _ in range(sched.seg_n[s]):
-            mf, ab, _ = light_at(x, q)
-            kf0, kb0 = rate(mf, T)
-            xp = kinetics.exact_first_order_update(conversion=x, k_forward=kf0, k_backward=kb0, dt=dt,
-                                                   reactive_fraction=photo.x_max)
-            mf1, ab1, _ = light_at(xp, q)
-            if heat.mode != thermal.HEAT_OFF:
-                # the heat state is the rise above T_ref (as in the kernel), so the stored heat is not rounded at 293 K
-                kw = dict(dz=dz, conductivity=heat.k_cond, volumetric_heat_capacity=heat.rho_c,
-                          source_old=heat_power(ab), source_new=heat_power(ab1), dt=dt, h_bottom=hb,
-                          ambient_bottom=tb - heat.T_ref, h_top=ht, ambient_top=tt - heat.T_ref)
-            if heat.mode == thermal.HEAT_CN:
-                rise_n = thermal_reference.theta_step_reference(temperature=rise, theta=0.5, **kw)
-                # Crank–Nicolson's own quadrature of the face losses is the trapezoid rule
-                l0 = thermal.face_heat_loss(rise, dz, heat.k_cond, hb, tb - heat.T_ref, ht, tt - heat.T_ref)
-                l1 = thermal.face_heat_loss(rise_n, dz, heat.k_cond, hb, tb - heat.T_ref, ht, tt - heat.T_ref)
-                energy[1:] += 0.5 * dt * (np.array(l0) + np.array(l1))
-            elif heat.mode == thermal.HEAT_TRBDF2:
-                rise_n, losses = thermal_reference.trbdf2_step_reference(temperature=rise, return_losses=True, **kw)
-                energy[1:] += losses
-            if heat.mode != thermal.HEAT_OFF:
-                Tn = rise_n + heat.T_ref
-                energy[0] += 0.5 * dt * np.sum((heat_power(ab) + heat_power(ab1)) * dz)
-            else:
-                Tn, rise_n = T, rise
-            kf1, kb1 = rate(mf1, Tn)
-            xn = kinetics.exact_first_order_update(conversion=x, k_forward=0.5 * (kf0 + kf1),
-                                                   k_backward=0.5 * (kb0 + kb1), dt=dt, reactive_fraction=photo.x_max)
-            if has_network:
-                Sp = np.where(on, material.update_network_strain(network_strain=S, conversion_old=x, conversion_new=xn,
-                                                                 strain=e_start), S)
-                _, _, r = mech(xn, Tn, Sp, st)
-                e_end = mechanical_strain(r, Tn)
-                S = np.where(on, material.update_network_strain(network_strain=S, conversion_old=x, conversion_new=xn,
-                                                                strain=0.5 * (e_start + e_end)), S)
-                _, _, r = mech(xn, Tn, S, st)
-                e_start = mechanical_strain(r, Tn)
-            x, T, rise = xn, Tn, rise_n
+            Sp = np.where(on, material.update_network_strain(network_strain=S, conversion_old=x, conversion_new=xn,
+                                                             strain=e_start), S)
+            _, _, r = mech(xn, Tn, Sp, st)
+            e_end = mechanical_strain(r, Tn)
+            Sn = np.where(on, material.update_network_strain(network_strain=S, conversion_old=x, conversion_new=xn,
+                                                             strain=0.5 * (e_start + e_end)), S)
+            _, _, r = mech(xn, Tn, Sn, st)
+            e_next = mechanical_strain(r, Tn)
+            err_S = float(np.max(np.abs(Sn - Sp))) / _kernels.STRAIN_SCALE
+        target = _kernels.LOCAL_TARGET * tol
+        err = max(float(np.max(np.abs(xn - xp))), err_S) / target if tol else 0.0
+        err_T = err_T / _kernels.TEMPERATURE_SCALE / target if tol else 0.0
+        return xn, Tn, rise_n, Sn, e_next, ledger, (err, err_T)
+
+    dt_next = 0.0
+    n_acc = n_rej = 0
+    for s in range(sched.seg_step.size):
+        st = sched.seg_step[s]
+        seg_len = sched.times[s + 1] - sched.times[s]
+        e_start = mechanical_strain(mech(x, T, S, st)[2], T) if has_network else None
+        if tol and (s == 0 or st != sched.seg_step[s - 1]):
+            kf, kb = rate(light_at(x, sched.step_flux[st])[0], T)
+            k_max = float(np.max(kf + kb))
+            h0 = seg_len if k_max == 0.0 else min(seg_len, np.sqrt(tol) / k_max)
+            dt_next = h0 if dt_next == 0.0 or h0 < dt_next else dt_next
+        if not tol:
+            for _ in range(sched.seg_n[s]):
+                x, T, rise, S, e_start, ledger, _ = take_step(x, T, rise, S, e_start, st, sched.seg_dt[s])
+                energy += ledger
+                n_acc += 1
+        else:
+            t, rejected_last = 0.0, False
+            while t < seg_len:
+                dt = dt_unclipped = dt_next
+                last = dt * 1.01 >= seg_len - t
+                if last:
+                    dt = seg_len - t
+                if dt < _kernels.MIN_STEP_FRACTION * seg_len:
+                    raise ActsimSimulationError(f"step size collapsed at t = {sched.times[s] + t:g} s")
+                trial = take_step(x, T, rise, S, e_start, st, dt)
+                err, err_T = trial[-1]
+                factor = min(_kernels.STEP_GROW_MAX,
+                             _kernels.STEP_SAFETY * err ** -_kernels.STEP_EXPONENT if err > 0 else np.inf,
+                             _kernels.STEP_SAFETY * err_T ** -_kernels.STEP_EXPONENT_HEAT if err_T > 0 else np.inf)
+                if err > 1.0 or err_T > 1.0:
+                    n_rej += 1
+                    dt_next = dt * max(_kernels.STEP_SHRINK_MIN, factor)
+                    rejected_last = True
+                    continue
+                grow = max(_kernels.STEP_SHRINK_MIN, factor)
+                dt_next = dt * (min(grow, 1.0) if rejected_last else grow)
+                if last and dt_unclipped > dt_next:
+                    dt_next = dt_unclipped
+                rejected_last = False
+                x, T, rise, S, e_start, ledger, _ = trial
+                energy += ledger
+                n_acc += 1
+                t = seg_len if last else t + dt
         store(s + 1, x, T, S, st)
         o.energy[s + 1] = energy
+        o.steps[s + 1] = (n_acc, n_rej)
     return o

@@ -41,6 +41,8 @@ class Schedule(NamedTuple):
         Number of time steps in each segment.
     times : numpy.ndarray, shape (n_seg + 1,)
         Output times: 0 and the end of every segment [s].
+    tolerance : float
+        Local error bound of one error-controlled step [1]; 0 for fixed steps (``seg_dt``, ``seg_n``).
     """
 
     step_flux: np.ndarray
@@ -52,6 +54,7 @@ class Schedule(NamedTuple):
     seg_dt: np.ndarray
     seg_n: np.ndarray
     times: np.ndarray
+    tolerance: float
 
 
 def segments(*, durations, output_interval, time_step):
@@ -64,7 +67,7 @@ def segments(*, durations, output_interval, time_step):
     output_interval : float
         Interval between output times [s].
     time_step : float
-        Largest time step [s].
+        Largest time step [s] (inf: one step per segment, for error-controlled stepping).
 
     Returns
     -------
@@ -113,7 +116,7 @@ def build_schedule(scenario, light) -> Schedule:
         step_hold=np.array([HOLD_CODES[st.hold] for st in protocol], np.int64),
         step_value=np.array([st.hold_value for st in protocol], float),
         step_env=np.array([[st.ambient_bottom, st.h_bottom, st.ambient_top, st.h_top] for st in protocol], float),
-        seg_step=seg_step, seg_dt=seg_dt, seg_n=seg_n, times=times,
+        seg_step=seg_step, seg_dt=seg_dt, seg_n=seg_n, times=times, tolerance=float(scenario.time_tolerance),
     )
 
 

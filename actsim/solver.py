@@ -70,6 +70,65 @@ def run_kernel(p: Problem) -> RawOutput:
     return o
 
 
+def fixed_step_equivalent(scenario: Scenario) -> Scenario:
+    """The scenario with fixed steps that are as fine as its error-controlled run needs on average.
+
+    An error-controlled run's step sequence jumps when a parameter changes a little, so its outputs are
+    not smooth in the parameters; fits that take finite-difference derivatives use fixed steps instead:
+    half the mean accepted step of the error-controlled run at the scenario's own parameters. A scenario
+    with fixed steps is returned unchanged.
+    """
+    if not scenario.time_tolerance:
+        return scenario
+    o = run_kernel(build_problem(scenario))
+    n = max(int(o.steps[-1, 0]), 1)
+    return scenario.replace(time_step=scenario.duration / (2 * n), time_tolerance=0.0)
+
+
+def grid_error_estimate(scenario: Scenario, ds: xr.Dataset | None = None) -> float | None:
+    """Estimated relative discretisation error of the bend angle due to the cell grid.
+
+    Richardson's estimate for a second-order scheme from a second run with half the cells in every
+    layer (at least one):
+
+    .. math:: \\epsilon \\approx \\frac{\\max_t |\\theta_N(t) - \\theta_{N/2}(t)|}{(2^2 - 1)\\,\\max_t |\\theta_N(t)|}
+
+    Parameters
+    ----------
+    scenario : Scenario
+        The scenario as run.
+    ds : xarray.Dataset, optional
+        Its result (simulated here when not given).
+
+    Returns
+    -------
+    float or None
+        The estimate [1]; None when no layer can be halved or the strip does not bend.
+
+    References
+    ----------
+    .. [1] Richardson, L. F. "The approximate arithmetical solution by finite differences of physical
+       problems." Phil. Trans. R. Soc. A 210 (1911) 307–357.
+    """
+    import dataclasses
+
+    if all(layer.cells < 2 for layer in scenario.layers):
+        return None
+    if ds is None:
+        ds = simulate(scenario)
+    layers = tuple(dataclasses.replace(layer, cells=max(1, layer.cells // 2)) for layer in scenario.layers)
+    coarse = scenario.replace(layers=layers,
+                              optics=dataclasses.replace(scenario.optics, max_cell_optical_depth=float("inf")))
+    p = build_problem(coarse)
+    o = run_kernel(p)
+    theta_c = o.mech[:, 1] * scenario.strip.free_length
+    theta = ds["bend_angle"].values
+    scale = float(np.max(np.abs(theta)))
+    if scale == 0.0 or theta_c.shape != theta.shape:
+        return None
+    return float(np.max(np.abs(theta - theta_c))) / 3.0 / scale
+
+
 def _var(dims, data, units, long_name, **extra):
     return xr.Variable(dims, data, attrs={"units": units, "long_name": long_name, **extra})
 
@@ -119,6 +178,10 @@ def simulate(scenario: Scenario, *, engine: str = "kernel") -> xr.Dataset:
         free_length=scenario.strip.free_length,
         width=scenario.strip.width,
         heat_modelled=int(scenario.heat.enabled),
+        time_stepping=(f"error-controlled, local error per step <= {scenario.time_tolerance:g}" if scenario.time_tolerance
+                       else f"fixed steps of at most {scenario.time_step:g} s"),
+        time_steps_accepted=int(o.steps[-1, 0]),
+        time_steps_rejected=int(o.steps[-1, 1]),
     )
     return ds
 

@@ -217,6 +217,7 @@ def trbdf2_step_reference(
     h_top,
     ambient_top,
     return_losses=False,
+    return_error=False,
 ):
     r"""Readable numpy version of :func:`trbdf2_step` (assembles the banded matrices, uses scipy).
 
@@ -268,12 +269,16 @@ def trbdf2_step_reference(
         Ambient temperatures below and above, constant over the step [K].
     return_losses : bool
         Also return the heat lost through the bottom and top faces over the step.
+    return_error : bool
+        Also return the estimated local error of each cell temperature [K]
+        (:func:`actsim.thermal.trbdf2_error`: Hosea and Shampine's embedded estimate).
 
     Returns
     -------
     ndarray, shape (n,)
         Temperatures at the end of the step [K]; with ``return_losses``, the tuple
-        ``(temperatures, (loss_bottom, loss_top))``, the losses in [J/m^2], positive leaving the strip.
+        ``(temperatures, (loss_bottom, loss_top))``, the losses in [J/m^2], positive leaving the strip;
+        with ``return_error`` the estimated error [K] follows as the last item.
 
     References
     ----------
@@ -328,14 +333,24 @@ def trbdf2_step_reference(
     T_gamma = solve(c, cap * T - c * a_times(T) + c * (b_of(q_old) + b_of(q_gamma)))
     rhs = cap * (T_gamma - (1.0 - gamma) ** 2 * T) / (gamma * (2.0 - gamma)) + d * dt * b_of(q_new)
     T_new = solve(d * dt, rhs)
-    if not return_losses:
-        return T_new
-    w = 1.0 / (2.0 * (2.0 - gamma))
-    losses = tuple(
-        dt * (w * g * (T[i] - amb) + w * g * (T_gamma[i] - amb) + d * g * (T_new[i] - amb))
-        for g, i, amb in ((g_b, 0, ambient_bottom), (g_t, -1, ambient_top))
-    )
-    return T_new, losses
+    out = [T_new]
+    if return_losses:
+        w = 1.0 / (2.0 * (2.0 - gamma))
+        out.append(tuple(
+            dt * (w * g * (T[i] - amb) + w * g * (T_gamma[i] - amb) + d * g * (T_new[i] - amb))
+            for g, i, amb in ((g_b, 0, ambient_bottom), (g_t, -1, ambient_top))
+        ))
+    if return_error:
+        # Hosea & Shampine's embedded estimate, filtered by the step's own matrix (C + d dt A)
+        kk = (-3.0 * gamma**2 + 4.0 * gamma - 2.0) / (12.0 * (2.0 - gamma))
+
+        def f(temp, q):
+            return -a_times(temp) + b_of(q)
+
+        raw = 2.0 * kk * dt * (f(T, q_old) / gamma - f(T_gamma, q_gamma) / (gamma * (1.0 - gamma))
+                               + f(T_new, q_new) / (1.0 - gamma))
+        out.append(solve(d * dt, raw))
+    return out[0] if len(out) == 1 else tuple(out)
 
 
 @dataclass(frozen=True)

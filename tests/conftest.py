@@ -12,8 +12,11 @@ from actsim.scenario import parse_scenario
 def film_toml(*, thickness="20 um", cells=40, conc="0.5 mol/L", eps_a="1.2e4 L/(mol*cm)", eps_b="0 L/(mol*cm)",
               phi_f=0.3, phi_b=0.0, k_th="0 1/s", irradiance="50 mW/cm^2", wavelength="365 nm",
               duration="20 s", output="1 s", step="0.05 s", reflection="false", substrate=None,
-              photo_strain=-0.01, background="0 1/m", extra_sources="", face="top", protocol=None):
-    """A single active film (optionally on a substrate) under one line source."""
+              photo_strain=-0.01, background="0 1/m", extra_sources="", face="top", protocol=None, tolerance=None):
+    """A single active film (optionally on a substrate) under one line source.
+
+    Fixed steps of ``step``; with ``tolerance``, error-controlled steps instead.
+    """
     sub_layer = ""
     sub_mat = ""
     if substrate:
@@ -71,7 +74,7 @@ def film_toml(*, thickness="20 um", cells=40, conc="0.5 mol/L", eps_a="1.2e4 L/(
     {protocol}
     [time]
     output_interval = "{output}"
-    step = "{step}"
+    {f'tolerance = {tolerance}' if tolerance is not None else f'step = "{step}"'}
     """
     return textwrap.dedent(text)
 

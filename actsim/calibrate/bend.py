@@ -532,8 +532,9 @@ def fit_bend(scenario, curves, *, parameters=None, confidence=0.95, max_iteratio
     .. [2] M. A. Branch, T. F. Coleman and Y. Li, SIAM J. Sci. Comput. 21 (1999) 1-23.
     """
     from ..scenario import apply_overrides
-    from ..solver import simulate
+    from ..solver import fixed_step_equivalent, simulate
 
+    scenario = fixed_step_equivalent(scenario)  # finite-difference derivatives need outputs smooth in the parameters
     curves = list(curves)
     if not curves:
         raise ActsimInputError("curves: at least one bend-angle curve is needed")

@@ -137,7 +137,8 @@ class Scenario:
     optics: OpticsSettings
     heat: HeatSettings
     output_interval: float  # s
-    time_step: float  # s
+    time_step: float  # s (fixed steps; inf when the step is error-controlled)
+    time_tolerance: float = 0.0  # local error bound of one step (see docs/scenario.md); 0: fixed steps
     text: str = ""
     path: str = ""
     description: str = ""

@@ -26,7 +26,10 @@ from ..spectra import LightSource, SpectralFunction, gaussian_bands, line_bands,
 from ..units import SI_UNITS, check_range, parse_dimensionless, parse_quantity
 from .model import HOLDS, HeatSettings, Layer, Material, OpticsSettings, Scenario, Step, Strip
 
-__all__ = ["JOB_SECTIONS", "parse_scenario", "load_scenario"]
+__all__ = ["JOB_SECTIONS", "DEFAULT_TIME_TOLERANCE", "parse_scenario", "load_scenario"]
+
+#: Default local error bound of one error-controlled time step (``[time] tolerance``).
+DEFAULT_TIME_TOLERANCE = 1e-4
 
 #: Optional top-level sections that belong to a job, with the job that reads each. The scenario
 #: keeps them as raw tables (``Scenario.sections``) and never imports the job; the job parses
@@ -426,9 +429,18 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
     if output_interval is None:
         output_interval = total / 200.0
     time_step = tt.quantity("step", "time", default=None, lo=0.0, lo_open=True)
+    if time_step is not None and tt.has("tolerance"):
+        raise ActsimInputError("time: give either time.step (fixed steps) or time.tolerance (error-controlled steps), "
+                               "not both")
+    tolerance = tt.number("tolerance", default=DEFAULT_TIME_TOLERANCE, lo=1e-10, hi=1e-1)
     if time_step is None:
-        time_step = min(output_interval, total / 1000.0)
+        time_step = math.inf
+    else:
+        tolerance = 0.0
     tt.finish()
+    if tolerance and heat.enabled and heat.scheme == "crank-nicolson":
+        raise ActsimInputError("heat.scheme: 'crank-nicolson' needs a fixed time.step (it rings when an error-controlled "
+                               "step grows past the cell diffusion time); use 'tr-bdf2' or give time.step")
     if output_interval > total:
         raise ActsimInputError(
             f"time.output_interval: {output_interval:g} s is longer than the whole protocol ({total:g} s)"
@@ -446,7 +458,7 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
             "(allowed <= 2e8 values per field); use a longer interval or fewer cells"
         )
     n_steps = sum(math.ceil(s.duration / time_step - 1e-9) for s in protocol) + n_outputs
-    if n_steps > 5_000_000:
+    if not tolerance and n_steps > 5_000_000:
         raise ActsimInputError(
             f"time.step: {time_step:g} s gives {n_steps} steps over {total:g} s (allowed <= 5e6); use a longer step"
         )
@@ -464,7 +476,7 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
     top.finish(allowed_extra=tuple(JOB_SECTIONS))
     return Scenario(
         title=title, strip=strip, layers=tuple(layers), sources=tuple(sources), protocol=tuple(protocol),
-        optics=optics, heat=heat, output_interval=output_interval, time_step=time_step, text=text, path=str(path),
+        optics=optics, heat=heat, output_interval=output_interval, time_step=time_step, time_tolerance=tolerance, text=text, path=str(path),
         description=description, target_bend_angle=target, sections=sections, base_dir=str(base),
         material_names=tuple(materials),
     )
