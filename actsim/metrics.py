@@ -111,7 +111,7 @@ def conversion_front_depth(*, z, conversion, thickness, from_top=True, active=No
 
 
 #: Elements of (time, cell) temporaries :func:`conversion_front_depth` holds at once.
-_FRONT_CHUNK = 1 << 18
+_FRONT_CHUNK = 1 << 16
 
 
 def _front_rows(rows, d, deepest):

@@ -142,8 +142,8 @@ def assemble_solution(scenario: Scenario, p: Problem, o: RawOutput) -> Solution:
     return _assemble(scenario, p, o._asdict(), reuse=False)
 
 
-#: Rows of (time, z) work arrays computed at once, so temporaries stay small beside the result.
-_ROW_CHUNK = 4096
+#: Elements of (time, z) work arrays computed at once, so temporaries stay small beside the result.
+_CHUNK = 1 << 16
 
 
 def _assemble(scenario: Scenario, p: Problem, raw: dict, *, reuse: bool) -> Solution:
@@ -167,6 +167,7 @@ def _assemble(scenario: Scenario, p: Problem, raw: dict, *, reuse: bool) -> Solu
     z_edges, dz = p.grid.z_edges, p.grid.dz
     sched = p.schedule
     times = p.times
+    rows = max(1, _CHUNK // dz.size)  # rows of (time, z) temporaries at once
     h = scenario.thickness
     b, L = strip.width, strip.free_length
     step_of_time = np.concatenate([[sched.seg_step[0]], sched.seg_step])
@@ -182,8 +183,8 @@ def _assemble(scenario: Scenario, p: Problem, raw: dict, *, reuse: bool) -> Solu
             h_top=env[:, 3], ambient_top=env[:, 2])
         pabs = raw["pabs"]
         absorbed_total = np.empty(times.size)
-        for i in range(0, times.size, _ROW_CHUNK):
-            absorbed_total[i:i + _ROW_CHUNK] = (pabs[i:i + _ROW_CHUNK] * dz).sum(axis=1)
+        for i in range(0, times.size, rows):
+            absorbed_total[i:i + rows] = (pabs[i:i + rows] * dz).sum(axis=1)
         heat = dict(temperature=T, peak_temperature=T.max(axis=1), surface_temperature_bottom=t_bottom,
                     surface_temperature_top=t_top, absorbed_power_total=absorbed_total,
                     heat_absorbed=raw["energy"][:, 0], heat_lost_bottom=raw["energy"][:, 1],
@@ -195,8 +196,8 @@ def _assemble(scenario: Scenario, p: Problem, raw: dict, *, reuse: bool) -> Solu
     _, kappa_free, d_eff = mechanics.free_strip_response(z_edges=z_edges, modulus=E, eigenstrain=e_star)
     z_c = cell_centres(z_edges)
     stress = np.empty_like(E)
-    for i in range(0, times.size, _ROW_CHUNK):
-        r = slice(i, i + _ROW_CHUNK)
+    for i in range(0, times.size, rows):
+        r = slice(i, i + rows)
         stress[r] = mechanics.stress_profile(z_centres=z_c, modulus=E[r], eigenstrain=e_star[r], strain_bottom=e0[r],
                                              curvature=kappa[r])
     if not (np.all(np.isfinite(kappa)) and np.all(np.isfinite(stress))):
