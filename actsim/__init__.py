@@ -22,6 +22,7 @@ __all__ = [
     "ActsimWarning",
     "load_scenario",
     "simulate",
+    "solve",
 ]
 
 
@@ -35,4 +36,8 @@ def __getattr__(name):
         from .solver import simulate
 
         return simulate
+    if name == "solve":
+        from .solver import solve
+
+        return solve
     raise AttributeError(f"module 'actsim' has no attribute {name!r}")

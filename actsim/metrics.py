@@ -88,32 +88,47 @@ def conversion_front_depth(*, z, conversion, thickness, from_top=True, active=No
     """
     x = np.asarray(conversion, float)
     depth = thickness - z if from_top else z
+    cols = np.arange(depth.size)
     if active is not None:
         sel = np.asarray(active, bool)
         if not sel.any():
             return np.zeros(x.shape[0])
         far = depth[sel] + (0.5 * np.asarray(dz)[sel] if dz is not None else 0.0)
-        x, depth = x[:, sel], depth[sel]
+        cols, depth = cols[sel], depth[sel]
         deepest = float(far.max())
     else:
         deepest = float(depth.max())
     order = np.argsort(depth)
     d = depth[order]
+    cols = cols[order]
+    if np.array_equal(cols, np.arange(x.shape[1])):
+        cols = slice(None)  # every cell, already sorted by depth: rows are read as they are, without a copy
     out = np.zeros(x.shape[0])
-    for t in range(x.shape[0]):
-        row = x[t, order]
-        xmax = row.max()
-        if xmax <= 1e-12:
-            continue
-        level = 0.5 * xmax
-        imax = int(np.argmax(row))
-        below = np.nonzero(row[imax:] < level)[0]
-        if below.size == 0:
-            out[t] = deepest
-            continue
-        j = imax + int(below[0])
-        x0, x1 = row[j - 1], row[j]
-        out[t] = d[j - 1] + (x0 - level) * (d[j] - d[j - 1]) / (x0 - x1)
+    step = max(1, _FRONT_CHUNK // d.size)
+    for start in range(0, x.shape[0], step):  # chunks of rows bound the temporaries
+        out[start:start + step] = _front_rows(x[start:start + step][:, cols], d, deepest)
+    return out
+
+
+#: Elements of (time, cell) temporaries :func:`conversion_front_depth` holds at once.
+_FRONT_CHUNK = 1 << 16
+
+
+def _front_rows(rows, d, deepest):
+    """Front depth of each row of ``rows`` (n_row, n_cell), cells sorted by depth ``d`` [m]."""
+    n_row, n_cell = rows.shape
+    out = np.zeros(n_row)
+    xmax = rows.max(axis=1)
+    level = 0.5 * xmax
+    imax = np.argmax(rows, axis=1)
+    below = (rows < level[:, None]) & (np.arange(n_cell) >= imax[:, None])  # below half, deeper than the peak
+    has_front = below.any(axis=1)
+    converted = xmax > 1e-12
+    out[converted & ~has_front] = deepest
+    r = np.nonzero(converted & has_front)[0]
+    j = np.argmax(below[r], axis=1)  # first cell below half the maximum past the peak (j > imax >= 0)
+    x0, x1, lv = rows[r, j - 1], rows[r, j], level[r]
+    out[r] = d[j - 1] + (x0 - lv) * (d[j] - d[j - 1]) / (x0 - x1)
     return out
 
 

@@ -1,18 +1,19 @@
-"""Thin orchestrator: scenario -> arrays -> time loop -> labelled result.
+"""Thin orchestrator: scenario -> arrays -> time loop -> result arrays -> labelled result.
 
-:func:`simulate` builds the SI arrays of a scenario (:func:`build_problem`),
+:func:`solve` builds the SI arrays of a scenario (:func:`build_problem`),
 runs the time loop (the numba kernel, or the readable reference path built
 from the stage functions), applies the layered-beam mechanics to every output
-time, and returns an :class:`xarray.Dataset` whose every variable carries
-``units`` and ``long_name``.
+time (vectorised over time) and returns a :class:`actsim.solution.Solution` of
+NumPy arrays; :func:`simulate` labels it as an :class:`xarray.Dataset` whose
+every variable carries ``units`` and ``long_name``.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
-import xarray as xr
 
 from . import kinetics, material, mechanics, optics, thermal
 from ._kernels import RawOutput, allocate_output, run_design
@@ -20,6 +21,10 @@ from .errors import ActsimInputError, ActsimSimulationError
 from .grid import Grid, build_grid, cell_centres
 from .scenario import Scenario
 from .schedule import Schedule, build_schedule, incident_dose
+from .solution import Solution
+
+if TYPE_CHECKING:
+    import xarray as xr
 
 
 @dataclass(frozen=True)
@@ -129,12 +134,39 @@ def grid_error_estimate(scenario: Scenario, ds: xr.Dataset | None = None) -> flo
     return float(np.max(np.abs(theta - theta_c))) / 3.0 / scale
 
 
-def _var(dims, data, units, long_name, **extra):
-    return xr.Variable(dims, data, attrs={"units": units, "long_name": long_name, **extra})
+def solve(scenario: Scenario, *, engine: str = "kernel") -> Solution:
+    """Simulate a scenario over its whole protocol; the result as NumPy arrays (no xarray).
+
+    Parameters
+    ----------
+    scenario : Scenario
+        From :func:`actsim.load_scenario`.
+    engine : {"kernel", "reference"}
+        The numba kernel (fast) or the readable stage functions (slow, for checking).
+
+    Returns
+    -------
+    actsim.solution.Solution
+        ``time`` [s], ``z`` [m], (time, z) fields bottom cell first and (time,)
+        strip responses, SI; the variables and their units are in
+        :data:`actsim.solution.VARIABLES`. Raw kernel outputs a run does not
+        report (temperature without heat, network strain without a network)
+        are released before the mechanics are assembled.
+    """
+    if engine not in ("kernel", "reference"):
+        raise ActsimInputError(f"engine: '{engine}' is not one of 'kernel', 'reference'")
+    p = build_problem(scenario)
+    if engine == "kernel":
+        raw = run_kernel(p)._asdict()
+    else:
+        from .reference import run_reference
+
+        raw = run_reference(p)._asdict()
+    return _assemble(scenario, p, raw, reuse=True)
 
 
 def simulate(scenario: Scenario, *, engine: str = "kernel") -> xr.Dataset:
-    """Simulate a scenario over its whole protocol.
+    """Simulate a scenario over its whole protocol; the labelled result.
 
     Parameters
     ----------
@@ -146,6 +178,7 @@ def simulate(scenario: Scenario, *, engine: str = "kernel") -> xr.Dataset:
     Returns
     -------
     xarray.Dataset
+        :meth:`actsim.solution.Solution.to_dataset` of :func:`solve`.
         Coordinates ``time`` [s] and ``z`` [m, cell centres]; (time, z) fields
         ``irradiance``, ``conversion``, ``eigenstrain``, ``modulus``, ``stress``,
         ``absorbed_power`` (and ``temperature``, ``network_density``,
@@ -155,122 +188,136 @@ def simulate(scenario: Scenario, *, engine: str = "kernel") -> xr.Dataset:
         and moment, photon budget and optical dose. Attributes hold the
         scenario text and the actsim version.
     """
-    from . import __version__
-
-    if engine not in ("kernel", "reference"):
-        raise ActsimInputError(f"engine: '{engine}' is not one of 'kernel', 'reference'")
-    p = build_problem(scenario)
-    if engine == "kernel":
-        o = run_kernel(p)
-    else:
-        from .reference import run_reference
-
-        o = run_reference(p)
-    ds = assemble_dataset(scenario, p, o)
-    ds.attrs.update(
-        title=scenario.title,
-        scenario=scenario.text,
-        scenario_path=scenario.path,
-        actsim_version=__version__,
-        sign_convention="curvature > 0 bends the strip toward +z (top face concave); z = 0 is the bottom face",
-        Conventions="CF-1.8",
-        thickness=scenario.thickness,
-        free_length=scenario.strip.free_length,
-        width=scenario.strip.width,
-        heat_modelled=int(scenario.heat.enabled),
-        time_stepping=(f"error-controlled, local error per step <= {scenario.time_tolerance:g}" if scenario.time_tolerance
-                       else f"fixed steps of at most {scenario.time_step:g} s"),
-        time_steps_accepted=int(o.steps[-1, 0]),
-        time_steps_rejected=int(o.steps[-1, 1]),
-    )
-    return ds
+    return solve(scenario, engine=engine).to_dataset()
 
 
-def assemble_dataset(scenario: Scenario, p: Problem, o: dict) -> xr.Dataset:
-    """Mechanics on every output time, and the labelled result."""
+def assemble_dataset(scenario: Scenario, p: Problem, o: RawOutput) -> xr.Dataset:
+    """Mechanics on every output time, and the labelled result (``o`` is left as it is)."""
+    return assemble_solution(scenario, p, o).to_dataset()
+
+
+def assemble_solution(scenario: Scenario, p: Problem, o: RawOutput) -> Solution:
+    """Mechanics on every output time from the raw outputs of the time loop (``o`` is left as it is)."""
+    return _assemble(scenario, p, o._asdict(), reuse=False)
+
+
+#: Elements of (time, z) work arrays computed at once, so temporaries stay small beside the result.
+_CHUNK = 1 << 16
+
+
+def _assemble(scenario: Scenario, p: Problem, raw: dict, *, reuse: bool) -> Solution:
+    """Build the :class:`Solution` from ``raw`` (a dict of the :class:`RawOutput` fields).
+
+    Fields the run does not report are popped from ``raw`` first, so with no
+    other reference they are freed before the mechanics; with ``reuse`` the
+    eigenstrain is divided into the buffer of ``raw["Ee"]``.
+    """
     from .metrics import conversion_front_depth
 
     strip = scenario.strip
-    x, E, Ee = o.x, o.E, o.Ee
-    e_star = Ee / E
-    e0, kappa, n_hold, m_hold = o.mech.T
+    heat_on = scenario.heat.enabled
+    network_on = p.material.network_mod > 0
+    has_network = bool(np.any(network_on))
+    if not heat_on:
+        raw.pop("T")
+    if not has_network:
+        raw.pop("S")
+    x, E, budget, mech = raw["x"], raw["E"], raw["budget"], raw["mech"]
     z_edges, dz = p.grid.z_edges, p.grid.dz
     sched = p.schedule
+    times = p.times
+    rows = max(1, _CHUNK // dz.size)  # rows of (time, z) temporaries at once
+    h = scenario.thickness
+    b, L = strip.width, strip.free_length
+    step_of_time = np.concatenate([[sched.seg_step[0]], sched.seg_step])
+    for name, arr in (("conversion", x), ("temperature", raw.get("T"))):
+        if arr is not None and not np.all(np.isfinite(arr)):
+            raise ActsimSimulationError(f"non-finite {name} in the result; nothing was written")
+    heat = {}
+    if heat_on:
+        T = raw["T"]
+        env = sched.step_env[step_of_time]  # T_amb_bottom, h_bottom, T_amb_top, h_top
+        t_bottom, t_top = thermal.face_temperatures_series(
+            temperature=T, dz=dz, conductivity=p.heat.k_cond, h_bottom=env[:, 1], ambient_bottom=env[:, 0],
+            h_top=env[:, 3], ambient_top=env[:, 2])
+        pabs = raw["pabs"]
+        absorbed_total = np.empty(times.size)
+        for i in range(0, times.size, rows):
+            absorbed_total[i:i + rows] = (pabs[i:i + rows] * dz).sum(axis=1)
+        heat = dict(temperature=T, peak_temperature=T.max(axis=1), surface_temperature_bottom=t_bottom,
+                    surface_temperature_top=t_top, absorbed_power_total=absorbed_total,
+                    heat_absorbed=raw["energy"][:, 0], heat_lost_bottom=raw["energy"][:, 1],
+                    heat_lost_top=raw["energy"][:, 2])
+    Ee = raw.pop("Ee")
+    e_star = np.divide(Ee, E, out=Ee if reuse else None)
+    del Ee
+    e0, kappa, n_hold, m_hold = mech.T
     _, kappa_free, d_eff = mechanics.free_strip_response(z_edges=z_edges, modulus=E, eigenstrain=e_star)
     z_c = cell_centres(z_edges)
-    stress = mechanics.stress_profile(z_centres=z_c, modulus=E, eigenstrain=e_star, strain_bottom=e0, curvature=kappa)
-    x_tip, y_tip = mechanics.arc_tip_position(curvature=kappa, free_length=strip.free_length)
-    m_block = mechanics.blocked_moment(bending_stiffness=d_eff, curvature=kappa_free, width=strip.width)
-    f_block = mechanics.blocked_tip_force(bending_stiffness=d_eff, curvature=kappa_free, width=strip.width,
-                                          free_length=strip.free_length)
-    h = scenario.thickness
-    times = p.times
-    step_of_time = np.concatenate([[sched.seg_step[0]], sched.seg_step])
-    incident_power = sched.step_irradiance.sum(axis=1)[step_of_time]
-    dose = incident_dose(sched)
-    for name, arr in (("conversion", x), ("temperature", o.T), ("curvature", kappa), ("stress", stress)):
-        if not np.all(np.isfinite(arr)):
-            raise ActsimSimulationError(f"non-finite {name} in the result; nothing was written")
-    layer_names = np.array([scenario.layers[i].name for i in p.grid.layer_index])
+    stress = np.empty_like(E)
+    for i in range(0, times.size, rows):
+        r = slice(i, i + rows)
+        stress[r] = mechanics.stress_profile(z_centres=z_c, modulus=E[r], eigenstrain=e_star[r], strain_bottom=e0[r],
+                                             curvature=kappa[r])
+    if not (np.all(np.isfinite(kappa)) and np.all(np.isfinite(stress))):
+        raise ActsimSimulationError(
+            f"non-finite {'curvature' if not np.all(np.isfinite(kappa)) else 'stress'} in the result; nothing was written")
+    x_tip, y_tip = mechanics.arc_tip_position(curvature=kappa, free_length=L)
+    m_block = mechanics.blocked_moment(bending_stiffness=d_eff, curvature=kappa_free, width=b)
+    f_block = mechanics.blocked_tip_force(bending_stiffness=d_eff, curvature=kappa_free, width=b, free_length=L)
     lit_from_top = not scenario.sources or scenario.sources[0].face == "top"
-    front = conversion_front_depth(z=z_c, conversion=x, thickness=h, from_top=lit_from_top, active=p.light.c0 > 0, dz=dz)
-    b, L = strip.width, strip.free_length
-    section = "plane strain" if strip.section == "plate" else "plane stress"
-    hold_names = np.array([scenario.protocol[i].hold for i in step_of_time])
-    data_vars = {
-        "irradiance": _var(("time", "z"), o.irr, "W m-2", "cell-mean irradiance (all bands)"),
-        "conversion": _var(("time", "z"), x, "1", "fraction of chromophore in the product form"),
-        "eigenstrain": _var(("time", "z"), e_star, "1", "effective eigenstrain along the strip (photo, thermal, network)"),
-        "modulus": _var(("time", "z"), E, "Pa", f"effective section modulus ({section})"),
-        "stress": _var(("time", "z"), stress, "Pa", "axial stress at cell centres"),
-        "absorbed_power": _var(("time", "z"), o.pabs, "W m-3", "absorbed optical power density"),
-        "curvature": _var(("time",), kappa, "m-1", "curvature (positive bends toward +z)"),
-        "free_curvature": _var(("time",), kappa_free, "m-1", "curvature the strip takes when free at this state"),
-        "bend_angle": _var(("time",), kappa * L, "rad", "tip rotation of the free length"),
-        "tip_deflection": _var(("time",), y_tip, "m", "tip travel normal to the clamped tangent (toward +z)"),
-        "tip_position_x": _var(("time",), x_tip, "m", "tip position along the clamped tangent"),
-        "axial_strain": _var(("time",), e0 - kappa * 0.5 * h, "1", "axial strain at the mid-thickness"),
-        "bending_stiffness": _var(("time",), b * d_eff, "N m2", "bending stiffness EI about the neutral axis"),
-        "blocked_moment": _var(("time",), m_block, "N m", "moment that holds the strip flat"),
-        "blocked_force": _var(("time",), f_block, "N", "force the tip exerts on a support holding it in place (positive toward +z; free rotation, small deflection)"),
-        "holding_force": _var(("time",), b * n_hold, "N", "axial force the grips apply (zero when free)"),
-        "holding_moment": _var(("time",), b * (m_hold - n_hold * 0.5 * h), "N m", "moment the grips or mandrel apply about the mid-thickness"),
-        "photon_flux_incident": _var(("time",), o.budget[:, 0], "mol m-2 s-1", "incident photon flux (all sources)"),
-        "photon_flux_reflected": _var(("time",), o.budget[:, 1], "mol m-2 s-1", "photon flux reflected at the entry faces"),
-        "photon_flux_absorbed": _var(("time",), o.budget[:, 2], "mol m-2 s-1", "photon flux absorbed in the stack"),
-        "photon_flux_transmitted": _var(("time",), o.budget[:, 3], "mol m-2 s-1", "photon flux leaving through the far faces"),
-        "incident_irradiance": _var(("time",), incident_power, "W m-2", "total incident irradiance of the sources on"),
-        "optical_dose": _var(("time",), dose, "J m-2", "incident radiant exposure since t = 0"),
-        "protocol_step": _var(("time",), step_of_time.astype(np.int32), "1", "index of the protocol step (0-based) that ends at or contains this time"),
-        "hold": _var(("time",), hold_names, "1", "mechanical condition of that protocol step"),
-    }
+    front = None
     if np.any(p.light.c0 > 0):
-        data_vars["conversion_front_depth"] = _var(
-            ("time",), front, "m", f"depth below the {'top' if lit_from_top else 'bottom'} face where conversion falls to half its maximum")
-    if scenario.heat.enabled:
-        from .thermal import face_temperatures
-
-        T = o.T
-        env = sched.step_env[step_of_time]  # T_amb_bottom, h_bottom, T_amb_top, h_top
-        faces = np.array([face_temperatures(T[i], dz, p.heat.k_cond, env[i, 1], env[i, 0], env[i, 3], env[i, 2])
-                          for i in range(times.size)])
-        data_vars["temperature"] = _var(("time", "z"), T, "K", "temperature")
-        data_vars["peak_temperature"] = _var(("time",), T.max(axis=1), "K", "highest cell temperature")
-        data_vars["surface_temperature_bottom"] = _var(("time",), faces[:, 0], "K", "temperature of the bottom face")
-        data_vars["surface_temperature_top"] = _var(("time",), faces[:, 1], "K", "temperature of the top face")
-        data_vars["absorbed_power_total"] = _var(("time",), (o.pabs * dz).sum(axis=1), "W m-2", "absorbed optical power per unit area")
-        data_vars["heat_absorbed"] = _var(("time",), o.energy[:, 0], "J m-2", "heat deposited by absorbed light since t = 0")
-        data_vars["heat_lost_bottom"] = _var(("time",), o.energy[:, 1], "J m-2", "heat lost through the bottom face since t = 0")
-        data_vars["heat_lost_top"] = _var(("time",), o.energy[:, 2], "J m-2", "heat lost through the top face since t = 0")
-    if np.any(p.material.network_mod > 0):
-        on = p.material.network_mod > 0
-        data_vars["network_density"] = _var(("time", "z"), np.where(on, x, 0.0), "1", "density of the light-formed network (1 = fully formed)")
-        data_vars["network_strain"] = _var(("time", "z"), o.S, "1", "network-weighted strain the light-formed network remembers")
-    return xr.Dataset(
-        data_vars=data_vars,
-        coords={
-            "time": _var(("time",), times, "s", "time since the start of the protocol"),
-            "z": _var(("z",), z_c, "m", "height of the cell centre above the bottom face"),
-            "layer": _var(("z",), layer_names, "1", "layer of the cell"),
-        },
+        front = conversion_front_depth(z=z_c, conversion=x, thickness=h, from_top=lit_from_top,
+                                       active=p.light.c0 > 0, dz=dz)
+    network = {}
+    if has_network:
+        network = dict(network_density=np.where(network_on, x, 0.0), network_strain=raw["S"])
+    holds = [step.hold for step in scenario.protocol]
+    width = max(len(holds[i]) for i in np.unique(step_of_time))  # the string width of the holds that occur
+    return Solution(
+        time=times,
+        z=z_c,
+        layer=np.array([scenario.layers[i].name for i in p.grid.layer_index]),
+        irradiance=raw["irr"],
+        conversion=x,
+        eigenstrain=e_star,
+        modulus=E,
+        stress=stress,
+        absorbed_power=raw["pabs"],
+        curvature=kappa,
+        free_curvature=kappa_free,
+        bend_angle=kappa * L,
+        tip_deflection=y_tip,
+        tip_position_x=x_tip,
+        axial_strain=e0 - kappa * 0.5 * h,
+        bending_stiffness=b * d_eff,
+        blocked_moment=m_block,
+        blocked_force=f_block,
+        holding_force=b * n_hold,
+        holding_moment=b * (m_hold - n_hold * 0.5 * h),
+        photon_flux_incident=budget[:, 0],
+        photon_flux_reflected=budget[:, 1],
+        photon_flux_absorbed=budget[:, 2],
+        photon_flux_transmitted=budget[:, 3],
+        incident_irradiance=sched.step_irradiance.sum(axis=1)[step_of_time],
+        optical_dose=incident_dose(sched),
+        protocol_step=step_of_time.astype(np.int32),
+        hold=np.array(holds, dtype=f"<U{width}")[step_of_time],
+        title=scenario.title,
+        scenario_text=scenario.text,
+        scenario_path=scenario.path,
+        thickness=scenario.thickness,
+        free_length=L,
+        width=b,
+        heat_modelled=bool(heat_on),
+        time_stepping=(f"error-controlled, local error per step <= {scenario.time_tolerance:g} / 2"
+                       if scenario.time_tolerance else f"fixed steps of at most {scenario.time_step:g} s"),
+        time_steps_accepted=int(raw["steps"][-1, 0]),
+        time_steps_rejected=int(raw["steps"][-1, 1]),
+        section="plane strain" if strip.section == "plate" else "plane stress",
+        lit_face="top" if lit_from_top else "bottom",
+        conversion_front_depth=front,
+        **heat,
+        **network,
     )
