@@ -53,6 +53,27 @@ def test_console_script_help():
     assert r.returncode == 0 and "example:" in r.stdout
 
 
+def test_parser_imports_no_heavy_library():
+    # `actsim --help` and the start of every verb must not pay for the libraries only some verbs use
+    # (common practice, no source: import cost on start-up is what a user waits for before any output).
+    code = (
+        "import sys, actsim.cli\n"
+        "parser = actsim.cli.build_parser()\n"
+        "parser.parse_args(['sweep', 'x.toml', '--force', 'peak'])\n"
+        "print(' '.join(sorted(m for m in ('matplotlib', 'dask', 'distributed', 'xarray', 'pint', 'numba', 'scipy',"
+        " 'pandas') if m in sys.modules)))\n"
+    )
+    r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert r.stdout.split() == []
+
+
+def test_sweep_force_choices_match_the_tradeoff_metrics():
+    from actsim.commands.sweep import FORCE_CHOICES
+    from actsim.study.tradeoff import FORCE_METRICS
+
+    assert FORCE_CHOICES == tuple(FORCE_METRICS)
+
+
 def write(tmp_path, text, name="s.toml"):
     p = tmp_path / name
     p.write_text(text)

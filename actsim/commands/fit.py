@@ -13,8 +13,6 @@ import math
 import tomllib
 from pathlib import Path
 
-import numpy as np
-
 from ..errors import ActsimInputError
 
 EPILOG = """\
@@ -48,6 +46,8 @@ KINDS = ("tensile", "dma", "spectra", "bend", "demo")
 
 def _clean(obj):
     """JSON-safe copy: numpy to Python, non-finite floats to None."""
+    import numpy as np
+
     if isinstance(obj, dict):
         return {str(k): _clean(v) for k, v in obj.items()}
     if isinstance(obj, (list, tuple)):
@@ -108,6 +108,8 @@ def fit_tensile_to(path, out: Path, *, toe=False, confidence=0.95):
 
 def plot_dma(res, path):
     """Storage modulus data and the fitted smooth step (log scale) to a PNG."""
+    import numpy as np
+
     from ..io import save_figure
 
     fig = _figure()
@@ -180,6 +182,8 @@ def _absorptivity_csv(path, wl, eps, what, synthetic):
 
 def fit_spectra_to(paths, out: Path, *, concentration, thickness, conversion=None, absorbance_matrix=0.0):
     """Absorptivities from spectra into ``out``; returns (result, files)."""
+    import numpy as np
+
     from ..calibrate.readers import read_xy_csv
     from ..calibrate.spectra import fit_spectra
     from ..units import parse_quantity
@@ -204,6 +208,8 @@ def fit_spectra_to(paths, out: Path, *, concentration, thickness, conversion=Non
 
 def spectra_table(res) -> str:
     """Short text summary of a spectra fit (absorptivities at their peaks and at 365/405 nm)."""
+    import numpy as np
+
     wl = res.wavelength
     lines = [f"absorptivities from spectra, conversion {res.conversion:.4g} ({res.conversion_method})"]
     for lab, e in (("reactant", res.epsilon10_reactant), ("product", res.epsilon10_product)):
@@ -337,6 +343,8 @@ def _calibration_folder() -> Path:
 
 def run_demo(out: Path) -> str:
     """Fit every bundled synthetic data set; return the recovered-vs-true table."""
+    import numpy as np
+
     from ..units import parse_quantity
 
     folder = _calibration_folder()

@@ -245,11 +245,9 @@ def _cmd_optimise(args, sc, out, target, within):
     return 0
 
 
-def tradeoff_force_choices():
-    """Names accepted by ``--force`` (keys of :data:`actsim.study.tradeoff.FORCE_METRICS`)."""
-    from ..study.tradeoff import FORCE_METRICS
-
-    return FORCE_METRICS.keys()
+#: Names accepted by ``--force``: the keys of :data:`actsim.study.tradeoff.FORCE_METRICS`, written out
+#: here so that building the parser imports no study module (xarray, matplotlib); a test keeps the two equal.
+FORCE_CHOICES = ("at-target", "peak")
 
 
 def register(subparsers) -> None:
@@ -282,7 +280,7 @@ def register(subparsers) -> None:
                    help="Pareto front of time to target against blocked force (see --force)")
     p.add_argument("--recommend", metavar="FIELD",
                    help="best value of FIELD: reaches the target within --within with the largest force (see --force)")
-    p.add_argument("--force", choices=tuple(tradeoff_force_choices()), default="at-target",
+    p.add_argument("--force", choices=FORCE_CHOICES, default="at-target",
                    help="force of --pareto and --recommend: 'at-target' (default), the blocked force when the target "
                         "angle is reached; 'peak', the largest blocked force over the whole protocol")
     p.add_argument("--within", metavar="TIME", help="time limit for --recommend and --optimise, e.g. \"20 s\"")
