@@ -116,7 +116,10 @@ def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set
 
     sc = load_with_overrides(scenario_path, set_items)
     mask = mask_settings(sc)  # a bad [mask] is refused before the run
-    ds = simulate(sc, engine=engine)
+    from .jitcache import compile_notice
+
+    with compile_notice():
+        ds = simulate(sc, engine=engine)
     summary = write_result_folder(ds, sc, out_dir, figures=figures)
     print(f"{sc.title}")
     print(summary_table(summary))

@@ -437,18 +437,25 @@ def cmd_fit(args) -> int:
                                     conversion=args.conversion, absorbance_matrix=args.absorbance_matrix)
         text = spectra_table(res)
     elif args.kind == "bend":
+        from ..jitcache import compile_notice
+
         plan = None
         files_in = list(args.data)
         if len(files_in) == 1 and files_in[0].lower().endswith(".toml") and not args.scenario:
             plan = files_in.pop()
-        fit, files, notes = fit_bend_to(out, plan=plan, scenario=args.scenario, files=files_in, curve_specs=args.curve,
-                                        param_specs=args.param, confidence=conf, max_iterations=args.max_iterations)
+        with compile_notice():
+            fit, files, notes = fit_bend_to(out, plan=plan, scenario=args.scenario, files=files_in,
+                                            curve_specs=args.curve, param_specs=args.param, confidence=conf,
+                                            max_iterations=args.max_iterations)
         text = fit.to_table() + "".join(f"\nnote: {n}" for n in notes)
         text += f"\n\nfitted scenario: {out / 'fitted.toml'}  (actsim run {out / 'fitted.toml'} --uncertainty 100)"
     else:  # demo
         if args.data:
             raise ActsimInputError("fit demo: takes no DATA (it fits the bundled synthetic data)")
-        text = run_demo(out)
+        from ..jitcache import compile_notice
+
+        with compile_notice():
+            text = run_demo(out)
         files = [out / k for k in ("tensile", "dma", "spectra", "bend")]
     print(text)
     names = ", ".join(str(Path(f).relative_to(out)) if Path(f).is_relative_to(out) else str(f) for f in files)
