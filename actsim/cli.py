@@ -133,9 +133,11 @@ def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set
 
     sc = load_with_overrides(scenario_path, set_items)
     mask = mask_settings(sc)  # a bad [mask] is refused before the run
-    ds = simulate(sc, engine=engine)
+    from .jitcache import compile_notice
     from .solver import grid_error_estimate
 
+    with compile_notice():
+        ds = simulate(sc, engine=engine)
     est = grid_error_estimate(sc, ds)
     if est is not None:
         ds.attrs["grid_error_estimate"] = est

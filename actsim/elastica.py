@@ -52,7 +52,6 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.integrate import cumulative_trapezoid, quad, solve_bvp, trapezoid
 
 from .errors import ActsimInputError, ActsimSimulationError
 
@@ -439,6 +438,8 @@ class _System:
 
 def _solve(system, bc, guess, p0=None):
     """One solve_bvp call; returns the solution object or None."""
+    from scipy.integrate import solve_bvp  # here, not at the top: mechanics imports this module for a closed form
+
     t, y = guess
     kw = dict(tol=_BVP_TOL, max_nodes=_MAX_NODES, verbose=0)
     try:
@@ -467,6 +468,8 @@ def _initial_mesh(profile, n=41):
 
 def _unloaded_guess(profile, t):
     """Exact unloaded state phi = 0, m = 0; x, y by quadrature of cos/sin K."""
+    from scipy.integrate import cumulative_trapezoid
+
     fine = np.union1d(np.linspace(0.0, 1.0, 4001), t)
     th = profile.K(fine)
     x = cumulative_trapezoid(np.cos(th), fine, initial=0.0)
@@ -824,6 +827,8 @@ def load_line(*, length, bending_stiffness, spontaneous_curvature, n=21, n_point
     .. [1] Timoshenko, S. P. and Gere, J. M., *Mechanics of Materials*,
        Van Nostrand Reinhold, 1972 (cantilever deflection formulas).
     """
+    from scipy.integrate import quad, trapezoid
+
     L = _positive(length, "length", "m")
     EI = _positive(bending_stiffness, "bending_stiffness", "N m^2")
     n = _n_points(n, "n")

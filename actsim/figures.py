@@ -1,4 +1,8 @@
-"""Figures of a simulation result (matplotlib, Agg backend, PNG)."""
+"""Figures of a simulation result (matplotlib, Agg canvas, PNG).
+
+Figures are drawn on :class:`matplotlib.figure.Figure` objects with the Agg canvas, not through
+pyplot: no global figure state, no GUI backend chosen for the caller, and pyplot's import time saved.
+"""
 
 from __future__ import annotations
 
@@ -7,19 +11,20 @@ import numpy as np
 from .io import save_figure
 
 
-def _plt():
-    import matplotlib
+def new_figure(figsize):
+    """A matplotlib Figure of ``figsize`` (inches) drawn by the Agg canvas, without pyplot."""
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
 
-    matplotlib.use("Agg", force=True)
-    import matplotlib.pyplot as plt
-
-    return plt
+    fig = Figure(figsize=figsize)
+    FigureCanvasAgg(fig)
+    return fig
 
 
 def bend_angle_figure(ds, path, *, target_bend_angle=None):
     """Bend angle [deg] and blocked force [mN] against time."""
-    plt = _plt()
-    fig, ax = plt.subplots(figsize=(6.4, 3.8))
+    fig = new_figure((6.4, 3.8))
+    ax = fig.subplots()
     t = ds["time"].values
     ax.plot(t, np.degrees(ds["bend_angle"].values), color="C0", label="bend angle")
     if target_bend_angle is not None:
@@ -37,13 +42,12 @@ def bend_angle_figure(ds, path, *, target_bend_angle=None):
     h2, l2 = ax2.get_legend_handles_labels()
     ax.legend(h1 + h2, l1 + l2, fontsize=8, loc="best")
     save_figure(fig, path)
-    plt.close(fig)
 
 
 def profiles_figure(ds, path, n_times=5):
     """Conversion and irradiance against depth below the top face at a few times."""
-    plt = _plt()
-    fig, (a1, a2) = plt.subplots(1, 2, figsize=(8.4, 3.6), sharey=True)
+    fig = new_figure((8.4, 3.6))
+    a1, a2 = fig.subplots(1, 2, sharey=True)
     z = ds["z"].values
     h = float(ds.attrs.get("thickness", z.max() + (z[-1] - z[-2]) / 2 if z.size > 1 else z.max() * 2))
     depth_um = (h - z) * 1e6
@@ -64,7 +68,6 @@ def profiles_figure(ds, path, n_times=5):
     a1.legend(fontsize=7)
     fig.suptitle("Conversion and irradiance through the thickness (light on)", fontsize=10)
     save_figure(fig, path)
-    plt.close(fig)
 
 
 def _layer_interfaces(ds, h):
@@ -79,8 +82,8 @@ def _layer_interfaces(ds, h):
 
 def shape_memory_figure(ds, path):
     """Axial strain, bend angle and mean light-formed network density through a programming cycle."""
-    plt = _plt()
-    fig, axes = plt.subplots(3, 1, figsize=(6.4, 6.6), sharex=True)
+    fig = new_figure((6.4, 6.6))
+    axes = fig.subplots(3, 1, sharex=True)
     t = ds["time"].values
     axes[0].plot(t, 100 * ds["axial_strain"].values, color="C0")
     axes[0].set_ylabel("axial strain [%]")
@@ -101,13 +104,12 @@ def shape_memory_figure(ds, path):
             ax.axvline(t[k], color="0.7", lw=0.8)
     fig.suptitle("Programming and recovery (grey lines: protocol steps)", fontsize=10)
     save_figure(fig, path)
-    plt.close(fig)
 
 
 def temperature_figure(ds, path):
     """Peak and face temperatures against time [degC]."""
-    plt = _plt()
-    fig, ax = plt.subplots(figsize=(6.4, 3.6))
+    fig = new_figure((6.4, 3.6))
+    ax = fig.subplots()
     t = ds["time"].values
     ax.plot(t, ds["peak_temperature"].values - 273.15, label="peak (inside)")
     ax.plot(t, ds["surface_temperature_top"].values - 273.15, ls="--", label="top face")
@@ -117,7 +119,6 @@ def temperature_figure(ds, path):
     ax.legend(fontsize=8)
     ax.set_title("Photothermal heating", fontsize=10)
     save_figure(fig, path)
-    plt.close(fig)
 
 
 def write_standard_figures(ds, folder, *, target_bend_angle=None):

@@ -98,7 +98,49 @@ def write_netcdf(ds, path):
                 raise ActsimSimulationError(f"{path}: variable '{name}' has NaN values; nothing was written")
             encoding[name] = {"_FillValue": MISSING_FILL}
     with atomic_path(path) as tmp:
-        ds.to_netcdf(tmp, encoding=encoding)
+        _to_netcdf(ds, tmp, encoding)
+
+
+def _to_netcdf(ds, path, encoding):
+    """``ds.to_netcdf(path, encoding=encoding)`` (netCDF4 engine, NETCDF4 format), without dask.
+
+    ``Dataset.to_netcdf`` asks dask which scheduler is active before every write, and that
+    question imports ``dask.distributed`` (about 0.3 s) even when no array is chunked. For arrays
+    in memory this goes through the same xarray encoder and netCDF4 store with xarray's own
+    netCDF4/HDF5 lock, so the file is the one ``to_netcdf`` writes. Chunked (dask) arrays, or an
+    xarray without these pieces, take ``to_netcdf`` itself.
+    """
+    try:
+        import netCDF4  # noqa: F401  (the engine to_netcdf picks first when it is installed)
+        from xarray.backends import NetCDF4DataStore
+        from xarray.backends.netCDF4_ import NETCDF4_PYTHON_LOCK
+    except ImportError:  # no netCDF4, or another xarray layout: the documented way
+        NetCDF4DataStore = None
+    if NetCDF4DataStore is None or any(v.chunks is not None for v in ds.variables.values()):
+        ds.to_netcdf(path, encoding=encoding)
+        return
+    _validate_for_netcdf(ds)
+    unlimited = ds.encoding.get("unlimited_dims")
+    if isinstance(unlimited, str):
+        unlimited = [unlimited]
+    store = NetCDF4DataStore.open(os.fspath(path), mode="w", format="NETCDF4", lock=NETCDF4_PYTHON_LOCK)
+    try:
+        ds.dump_to_store(store, encoding=encoding, unlimited_dims=set(unlimited) if unlimited else None)
+    finally:
+        store.close()
+
+
+def _validate_for_netcdf(ds):
+    """xarray's checks of variable names and attribute values before a netCDF4 write, where it has them."""
+    try:
+        from xarray.backends.writers import _validate_attrs, _validate_dataset_names
+    except ImportError:
+        try:
+            from xarray.backends.api import _validate_attrs, _validate_dataset_names
+        except ImportError:
+            return
+    _validate_dataset_names(ds)
+    _validate_attrs(ds, "netcdf4", False)
 
 
 def write_timeseries_csv(ds, path):

@@ -313,14 +313,11 @@ def patterned_summary(ds) -> dict:
 
 def folded_shape_figure(ds, path, n_times: int = 6):
     """Folded shape y(x) of the masked strip at a few times, with the lit regions marked."""
-    import matplotlib
-
-    matplotlib.use("Agg", force=True)
-    import matplotlib.pyplot as plt
-
+    from .figures import new_figure
     from .io import save_figure
 
-    fig, ax = plt.subplots(figsize=(6.0, 4.2))
+    fig = new_figure((6.0, 4.2))
+    ax = fig.subplots()
     nt = ds.sizes["time"]
     ipk = int(np.argmax(np.abs(ds["tip_angle"].values)))
     idx = np.unique(np.linspace(0, ipk, n_times).round().astype(int)) if ipk > 0 else np.array([0, nt - 1])
@@ -336,7 +333,6 @@ def folded_shape_figure(ds, path, n_times: int = 6):
     ax.set_title("Folded shape through the mask (thick: lit regions)", fontsize=10)
     ax.legend(fontsize=7)
     save_figure(fig, path)
-    plt.close(fig)
 
 
 def write_patterned(ds, out_dir, *, figures=True) -> dict:

@@ -34,10 +34,9 @@ from importlib import resources
 from pathlib import Path
 
 import numpy as np
-import pint
 
 from .errors import ActsimInputError
-from .units import Q_, SI_UNITS, ureg
+from .units import SI_UNITS, registry
 
 __all__ = ["XYData", "KINDS", "CSVTable", "read_csv_table", "read_xy_csv", "as_xy", "data_file"]
 
@@ -126,7 +125,7 @@ def _split(line: str, delim: str):
 def _parse_unit(unit: str, *, where: str):
     u = _UNIT_ALIASES.get(unit.strip(), unit.strip())
     try:
-        return ureg.parse_units(u)
+        return registry().parse_units(u)
     except Exception:
         raise ActsimInputError(f"{where}: unit {unit!r} is not a unit actsim can read (e.g. MPa, degC, nm, %, 1)") from None
 
@@ -134,9 +133,11 @@ def _parse_unit(unit: str, *, where: str):
 def _to_si(values, unit: str, kind: str, *, where: str):
     si_key = KINDS[kind]
     si_unit = "dimensionless" if si_key is None else SI_UNITS[si_key][0]
+    import pint
+
     u = _parse_unit(unit, where=where)
     try:
-        return np.asarray(Q_(values, u).to(si_unit).magnitude, dtype=float)
+        return np.asarray(registry().Quantity(values, u).to(si_unit).magnitude, dtype=float)
     except pint.DimensionalityError:
         ex = "1 or %" if si_key is None else SI_UNITS[si_key][1].split(" ", 1)[1]
         raise ActsimInputError(f"{where}: unit {unit!r} is not a unit of {kind} (expected e.g. {ex})") from None
@@ -246,9 +247,11 @@ class CSVTable:
         values = self.numbers((i,), allow_infinite=allow_infinite)[:, 0]
         if given == unit:
             return values
+        import pint
+
         want = _parse_unit(unit, where=f"{self.source} column '{self.header[i]}'")
         try:
-            return np.asarray(Q_(values, _parse_unit(given, where=f"{self.source} column '{self.header[i]}'")).to(want).magnitude,
+            return np.asarray(registry().Quantity(values, _parse_unit(given, where=f"{self.source} column '{self.header[i]}'")).to(want).magnitude,
                               dtype=float)
         except pint.DimensionalityError:
             raise ActsimInputError(f"{self.source}: column '{self.header[i]}' unit {given!r} cannot be converted to "

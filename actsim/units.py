@@ -9,16 +9,81 @@ from __future__ import annotations
 
 import functools
 import math
+import os
 import re
+import threading
 
 import numpy as np
-import pint
 
 from .errors import ActsimInputError
 
-ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
-ureg.define("percent = 0.01 = %")
-Q_ = ureg.Quantity
+#: Environment variable naming the folder of actsim's caches (the unit registry's is ``units/`` in it);
+#: empty: no cache. Default: the user's cache folder (``~/.cache/actsim`` on Linux).
+CACHE_ENV = "ACTSIM_CACHE_DIR"
+
+_registry = None
+_registry_lock = threading.Lock()
+
+
+def unit_cache_folder():
+    """Folder of the unit registry's cache, or None when caching is off or the folder cannot be written."""
+    root = os.environ.get(CACHE_ENV)
+    if root is None:
+        try:
+            import platformdirs  # a dependency of pint
+
+            root = str(platformdirs.user_cache_path("actsim", appauthor=False))
+        except Exception:
+            return None
+    if not root:
+        return None
+    folder = os.path.join(root, "units")
+    try:
+        os.makedirs(folder, exist_ok=True)
+    except OSError:
+        return None
+    return folder if os.access(folder, os.W_OK | os.X_OK) else None
+
+
+def _build_registry(cache_folder):
+    import pint
+
+    ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True, cache_folder=cache_folder)
+    ureg.define("percent = 0.01 = %")
+    return ureg
+
+
+def registry():
+    """The unit registry (pint), built on first use.
+
+    Building it from pint's definition files takes about 0.2 s; pint keeps the parsed definitions in
+    :func:`unit_cache_folder` (keyed by the pint and Python versions and the files' contents), which
+    cuts that to a few milliseconds on later runs. A cache that cannot be read or written is ignored
+    and the registry is built from the files.
+    """
+    global _registry
+    if _registry is None:
+        with _registry_lock:
+            if _registry is None:
+                folder = unit_cache_folder()
+                try:
+                    ureg = _build_registry(folder)
+                except Exception:
+                    if folder is None:
+                        raise
+                    ureg = _build_registry(None)  # unreadable or unwritable cache: the slow, sure way
+                _registry = ureg
+    return _registry
+
+
+def __getattr__(name):
+    # ``ureg`` and ``Q_`` are built on first use, so that importing this module (every stage
+    # module does, for check_range) does not import pint.
+    if name == "ureg":
+        return registry()
+    if name == "Q_":
+        return registry().Quantity
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
 
 #: SI unit used inside the code for each physical kind, with a typical example
 #: shown in error messages.
@@ -107,6 +172,8 @@ _OFFSET_UNIT = re.compile(r"((?<!delta_)deg\s*[CF]\b|°\s*[CF]|(?<!delta_)celsiu
 
 def _quantity_to_si(q, si_unit):
     """("ok", SI float) or ("bare" | "dimension" | "parse", detail) for a parsed value."""
+    import pint
+
     if not isinstance(q, pint.Quantity) or q.unitless or (q.dimensionless and si_unit not in ("1", "rad")):
         return "bare", None
     try:
@@ -123,7 +190,7 @@ def _string_to_si(text: str, si_unit: str, absolute_temperature: bool = False):
         # difference or a compound unit (1/degC, W/(m^2*degC)), so they are refused there
         return "offset", None
     try:
-        q = Q_(text)
+        q = registry().Quantity(text)
     except Exception as exc:  # pint raises many kinds
         return "parse", exc.__class__.__name__
     return _quantity_to_si(q, si_unit)
@@ -136,8 +203,10 @@ def parse_dimensionless(value, *, field: str) -> float:
     if isinstance(value, (int, float)):
         v = float(value)
     else:
+        import pint
+
         try:
-            q = Q_(value) if isinstance(value, str) else value
+            q = registry().Quantity(value) if isinstance(value, str) else value
             v = float(q.to("dimensionless").magnitude) if isinstance(q, pint.Quantity) else float(q)
         except pint.DimensionalityError:
             raise ActsimInputError(f"{field}: {value!r} must be dimensionless (a plain number or a percentage)") from None
@@ -241,14 +310,15 @@ def unit_kind(unit: str, *, field: str):
     u = str(unit).strip()
     if u in DIMENSIONLESS_UNITS:
         return "1", None
+    ureg = registry()
     try:
-        dim = Q_(1.0, ureg.parse_units(u)).dimensionality
+        dim = ureg.Quantity(1.0, ureg.parse_units(u)).dimensionality
     except Exception:
         raise ActsimInputError(f"{field}: unit {unit!r} is not a unit actsim can read (e.g. 1, 1/s, W/m^2)") from None
     if not dim:
         return "1", None
     for kind, (si, _ex) in SI_UNITS.items():
-        if Q_(1.0, si).dimensionality == dim:
+        if ureg.Quantity(1.0, si).dimensionality == dim:
             return si, kind
     raise ActsimInputError(f"{field}: unit {unit!r} is not the unit of any scenario quantity (e.g. 1, 1/s, W/m^2, m)")
 

@@ -53,6 +53,41 @@ def test_console_script_help():
     assert r.returncode == 0 and "example:" in r.stdout
 
 
+def test_parser_imports_no_heavy_library():
+    # `actsim --help` and the start of every verb must not pay for the libraries only some verbs use
+    # (common practice, no source: import cost on start-up is what a user waits for before any output).
+    code = (
+        "import sys, actsim.cli\n"
+        "parser = actsim.cli.build_parser()\n"
+        "parser.parse_args(['sweep', 'x.toml', '--force', 'peak'])\n"
+        "print(' '.join(sorted(m for m in ('matplotlib', 'dask', 'distributed', 'xarray', 'pint', 'numba', 'scipy',"
+        " 'pandas') if m in sys.modules)))\n"
+    )
+    r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert r.stdout.split() == []
+
+
+def test_demo_imports_neither_pyplot_nor_dask_distributed(tmp_path):
+    # Figures are drawn on Figure objects with the Agg canvas, and the NetCDF writer does not ask dask for a
+    # scheduler: a run pays for neither import (common practice, no source).
+    code = (
+        "import sys\n"
+        "from actsim.cli import main\n"
+        f"assert main(['demo', '-o', {str(tmp_path / 'demo')!r}]) == 0\n"
+        "print('IMPORTED', ' '.join(m for m in ('matplotlib.pyplot', 'distributed') if m in sys.modules))\n"
+    )
+    r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert r.stdout.splitlines()[-1].split() == ["IMPORTED"]
+    assert (tmp_path / "demo" / "figures" / "bend_angle.png").is_file()
+
+
+def test_sweep_force_choices_match_the_tradeoff_metrics():
+    from actsim.commands.sweep import FORCE_CHOICES
+    from actsim.study.tradeoff import FORCE_METRICS
+
+    assert FORCE_CHOICES == tuple(FORCE_METRICS)
+
+
 def write(tmp_path, text, name="s.toml"):
     p = tmp_path / name
     p.write_text(text)

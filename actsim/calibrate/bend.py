@@ -50,7 +50,7 @@ import numpy as np
 from scipy.optimize import least_squares
 
 from ..errors import ActsimError, ActsimInputError, ActsimSimulationError
-from ..units import DIMENSIONLESS_UNITS, Q_, parse_dimensionless, parse_quantity, unit_kind, ureg
+from ..units import DIMENSIONLESS_UNITS, parse_dimensionless, parse_quantity, registry, unit_kind
 from .fitstats import FitResult, fit_statistics
 from .readers import XYData, as_xy
 
@@ -84,10 +84,11 @@ def _value_si(value, *, unit: str, field: str):
             v = float(value)
         except (TypeError, ValueError):
             raise ActsimInputError(f"{field}: {value!r} is not a number") from None
+        ureg = registry()
         if kind is not None:
-            v = float(Q_(v, ureg.parse_units(str(unit).strip())).to(si).magnitude)
+            v = float(ureg.Quantity(v, ureg.parse_units(str(unit).strip())).to(si).magnitude)
         elif str(unit).strip() not in DIMENSIONLESS_UNITS:
-            v = float(Q_(v, ureg.parse_units(str(unit).strip())).to("dimensionless").magnitude)
+            v = float(ureg.Quantity(v, ureg.parse_units(str(unit).strip())).to("dimensionless").magnitude)
     if not math.isfinite(v):
         raise ActsimInputError(f"{field}: {value!r} is not finite")
     return v

@@ -77,7 +77,10 @@ def cmd_check(args) -> int:
     for read_section in (checks_settings, safety_settings, joint_settings):
         read_section(sc)  # a bad [checks], [safety] or [joint] field is refused before the simulation
     out = Path(args.output or (Path("actsim-out") / (Path(args.scenario).stem + "-check")))
-    ds = simulate(sc)
+    from ..jitcache import compile_notice
+
+    with compile_notice():
+        ds = simulate(sc)
     results, details = run_checks(sc, ds, elastica=not args.no_elastica)
     if not results:
         raise ActsimInputError("check: nothing to check in this scenario; add a [checks] section (see docs/checks.md)")

@@ -13,8 +13,6 @@ import math
 import tomllib
 from pathlib import Path
 
-import numpy as np
-
 from ..errors import ActsimInputError
 
 EPILOG = """\
@@ -48,6 +46,8 @@ KINDS = ("tensile", "dma", "spectra", "bend", "demo")
 
 def _clean(obj):
     """JSON-safe copy: numpy to Python, non-finite floats to None."""
+    import numpy as np
+
     if isinstance(obj, dict):
         return {str(k): _clean(v) for k, v in obj.items()}
     if isinstance(obj, (list, tuple)):
@@ -108,6 +108,8 @@ def fit_tensile_to(path, out: Path, *, toe=False, confidence=0.95):
 
 def plot_dma(res, path):
     """Storage modulus data and the fitted smooth step (log scale) to a PNG."""
+    import numpy as np
+
     from ..io import save_figure
 
     fig = _figure()
@@ -180,6 +182,8 @@ def _absorptivity_csv(path, wl, eps, what, synthetic):
 
 def fit_spectra_to(paths, out: Path, *, concentration, thickness, conversion=None, absorbance_matrix=0.0):
     """Absorptivities from spectra into ``out``; returns (result, files)."""
+    import numpy as np
+
     from ..calibrate.readers import read_xy_csv
     from ..calibrate.spectra import fit_spectra
     from ..units import parse_quantity
@@ -204,6 +208,8 @@ def fit_spectra_to(paths, out: Path, *, concentration, thickness, conversion=Non
 
 def spectra_table(res) -> str:
     """Short text summary of a spectra fit (absorptivities at their peaks and at 365/405 nm)."""
+    import numpy as np
+
     wl = res.wavelength
     lines = [f"absorptivities from spectra, conversion {res.conversion:.4g} ({res.conversion_method})"]
     for lab, e in (("reactant", res.epsilon10_reactant), ("product", res.epsilon10_product)):
@@ -337,6 +343,8 @@ def _calibration_folder() -> Path:
 
 def run_demo(out: Path) -> str:
     """Fit every bundled synthetic data set; return the recovered-vs-true table."""
+    import numpy as np
+
     from ..units import parse_quantity
 
     folder = _calibration_folder()
@@ -429,18 +437,25 @@ def cmd_fit(args) -> int:
                                     conversion=args.conversion, absorbance_matrix=args.absorbance_matrix)
         text = spectra_table(res)
     elif args.kind == "bend":
+        from ..jitcache import compile_notice
+
         plan = None
         files_in = list(args.data)
         if len(files_in) == 1 and files_in[0].lower().endswith(".toml") and not args.scenario:
             plan = files_in.pop()
-        fit, files, notes = fit_bend_to(out, plan=plan, scenario=args.scenario, files=files_in, curve_specs=args.curve,
-                                        param_specs=args.param, confidence=conf, max_iterations=args.max_iterations)
+        with compile_notice():
+            fit, files, notes = fit_bend_to(out, plan=plan, scenario=args.scenario, files=files_in,
+                                            curve_specs=args.curve, param_specs=args.param, confidence=conf,
+                                            max_iterations=args.max_iterations)
         text = fit.to_table() + "".join(f"\nnote: {n}" for n in notes)
         text += f"\n\nfitted scenario: {out / 'fitted.toml'}  (actsim run {out / 'fitted.toml'} --uncertainty 100)"
     else:  # demo
         if args.data:
             raise ActsimInputError("fit demo: takes no DATA (it fits the bundled synthetic data)")
-        text = run_demo(out)
+        from ..jitcache import compile_notice
+
+        with compile_notice():
+            text = run_demo(out)
         files = [out / k for k in ("tensile", "dma", "spectra", "bend")]
     print(text)
     names = ", ".join(str(Path(f).relative_to(out)) if Path(f).is_relative_to(out) else str(f) for f in files)
