@@ -24,7 +24,8 @@ ROOT = Path(__file__).resolve().parent.parent
 CORE_TESTS = [
     "tests/test_outputs_independent.py", "tests/test_kernels.py", "tests/test_photokinetics.py",
     "tests/test_mechanics.py", "tests/test_heat_coupled.py", "tests/test_thermal.py", "tests/test_shape_memory.py",
-    "tests/test_batch.py", "tests/test_optics.py", "tests/test_conversion_cap.py",
+    "tests/test_batch.py", "tests/test_optics.py", "tests/test_conversion_cap.py", "tests/test_schedule.py",
+    "tests/test_time_stepping.py",
 ]
 
 #: name -> (file, original text, broken text)
@@ -89,7 +90,7 @@ MUTATIONS = {
     'light marched from the wrong face': (
         'actsim/optics.py', 'i = n_cell - 1 - j if light.from_top[b] else j', 'i = j if light.from_top[b] else n_cell - 1 - j'),
     'sign of the thermal back rate': (
-        'actsim/kinetics.py', 'k_b[i] = LN10 * sb + k_th', 'k_b[i] = LN10 * sb - k_th'),
+        'actsim/kinetics.py', 'kb = LN10 * sb + k_th', 'kb = LN10 * sb - k_th'),
     'photostationary state from the wrong rate': (
         'actsim/kinetics.py', 'xss = k_f[i] / k\n', 'xss = k_b[i] / k\n'),
     "sign of the free curvature in the kernel's section solve": (
