@@ -25,8 +25,9 @@ CORE_TESTS = [
     "tests/test_outputs_independent.py", "tests/test_kernels.py", "tests/test_photokinetics.py",
     "tests/test_mechanics.py", "tests/test_heat_coupled.py", "tests/test_thermal.py", "tests/test_shape_memory.py",
     "tests/test_batch.py", "tests/test_optics.py", "tests/test_conversion_cap.py", "tests/test_schedule.py",
-    "tests/test_time_stepping.py",
 ]
+#: The error-controlled steps' mutations ("adaptive: ...") are checked against tests/test_time_stepping.py (slow):
+#: python3 tools/mutations.py -k adaptive tests/test_time_stepping.py
 
 #: name -> (file, original text, broken text)
 MUTATIONS = {
@@ -35,7 +36,8 @@ MUTATIONS = {
     "holding_moment: about z = 0": (
         "actsim/solver.py", "b * (m_hold - n_hold * 0.5 * h)", "b * m_hold"),
     "holding_force: per unit width": (
-        "actsim/solver.py", '_var(("time",), b * n_hold,', '_var(("time",), n_hold,'),
+        "actsim/solver.py", 'holding_force=b * n_hold,',
+        'holding_force=n_hold,'),
     "face temperatures: h and T_amb swapped (bottom)": (
         "actsim/thermal.py",
         "lb, lt = face_heat_loss(T, dz, k, h_bottom, T_amb_bottom, h_top, T_amb_top)",
@@ -45,32 +47,32 @@ MUTATIONS = {
         "return T[0] - lb * 0.5 * dz[0] / k[0], T[n - 1] - lt * 0.5 * dz[n - 1] / k[n - 1]",
         "return T[0], T[n - 1]"),
     "face temperatures: ambients of the faces swapped": (
-        "actsim/solver.py",
-        "face_temperatures(T[i], dz, p.heat.k_cond, env[i, 1], env[i, 0], env[i, 3], env[i, 2])",
-        "face_temperatures(T[i], dz, p.heat.k_cond, env[i, 1], env[i, 2], env[i, 3], env[i, 0])"),
+        "actsim/solver.py", 'h_bottom=env[:, 1], ambient_bottom=env[:, 0],\n            h_top=env[:, 3], ambient_top=env[:, 2])',
+        'h_bottom=env[:, 1], ambient_bottom=env[:, 2],\n            h_top=env[:, 3], ambient_top=env[:, 0])'),
     "face temperatures: h of the faces swapped": (
-        "actsim/solver.py",
-        "face_temperatures(T[i], dz, p.heat.k_cond, env[i, 1], env[i, 0], env[i, 3], env[i, 2])",
-        "face_temperatures(T[i], dz, p.heat.k_cond, env[i, 3], env[i, 0], env[i, 1], env[i, 2])"),
+        "actsim/solver.py", 'h_bottom=env[:, 1], ambient_bottom=env[:, 0],\n            h_top=env[:, 3], ambient_top=env[:, 2])',
+        'h_bottom=env[:, 3], ambient_bottom=env[:, 0],\n            h_top=env[:, 1], ambient_top=env[:, 2])'),
     "axial_strain: e0 + kappa h/2": (
         "actsim/solver.py", "e0 - kappa * 0.5 * h,", "e0 + kappa * 0.5 * h,"),
     "bend_angle: free curvature": (
-        "actsim/solver.py", "kappa * L, \"rad\"", "kappa_free * L, \"rad\""),
+        "actsim/solver.py", 'bend_angle=kappa * L,',
+        'bend_angle=kappa_free * L,'),
     "tip: x and y swapped": (
         "actsim/solver.py", "x_tip, y_tip = mechanics.arc_tip_position", "y_tip, x_tip = mechanics.arc_tip_position"),
     "tip: small-angle deflection": (
-        "actsim/solver.py", '_var(("time",), y_tip, "m"', '_var(("time",), 0.5 * kappa * L**2, "m"'),
+        "actsim/solver.py", 'tip_deflection=y_tip,',
+        'tip_deflection=0.5 * kappa * L**2,'),
     "blocked_force: 3 EI kappa / L": (
         "actsim/mechanics.py", "return 1.5 * ei * np.asarray(curvature) / free_length",
         "return 3.0 * ei * np.asarray(curvature) / free_length"),
     "blocked_moment: held curvature": (
-        "actsim/solver.py", "bending_stiffness=d_eff, curvature=kappa_free, width=strip.width)\n",
-        "bending_stiffness=d_eff, curvature=kappa, width=strip.width)\n"),
+        "actsim/solver.py", 'm_block = mechanics.blocked_moment(bending_stiffness=d_eff, curvature=kappa_free, width=b)',
+        'm_block = mechanics.blocked_moment(bending_stiffness=d_eff, curvature=kappa, width=b)'),
     "bending stiffness: D instead of D - B^2/A": (
         "actsim/mechanics.py", "return e0, kappa, det / s[\"A\"]", "return e0, kappa, s[\"D\"]"),
     "stress: at the mid-thickness strain": (
-        "actsim/solver.py", "eigenstrain=e_star, strain_bottom=e0, curvature=kappa)",
-        "eigenstrain=e_star, strain_bottom=e0 - kappa * 0.5 * scenario.thickness, curvature=kappa)"),
+        "actsim/solver.py", 'eigenstrain=e_star[r], strain_bottom=e0[r],',
+        'eigenstrain=e_star[r], strain_bottom=e0[r] - kappa[r] * 0.5 * scenario.thickness,'),
     "dose: one segment late": (
         "actsim/schedule.py", "np.cumsum(seg_power * np.diff(schedule.times))",
         "np.cumsum(seg_power[::-1] * np.diff(schedule.times))"),
@@ -86,7 +88,8 @@ MUTATIONS = {
     "trbdf2 (reference): top ambient on the bottom face": (
         "actsim/thermal_reference.py", "        b[0] += g_b * ambient_bottom\n", "        b[0] += g_b * ambient_top\n"),
     'h and ambient temperature swapped for the bottom face': (
-        'actsim/solver.py', 'face_temperatures(T[i], dz, p.heat.k_cond, env[i, 1], env[i, 0], env[i, 3], env[i, 2])', 'face_temperatures(T[i], dz, p.heat.k_cond, env[i, 0], env[i, 1], env[i, 3], env[i, 2])'),
+        "actsim/solver.py", 'h_bottom=env[:, 1], ambient_bottom=env[:, 0],\n            h_top=env[:, 3], ambient_top=env[:, 2])',
+        'h_bottom=env[:, 0], ambient_bottom=env[:, 1],\n            h_top=env[:, 3], ambient_top=env[:, 2])'),
     'light marched from the wrong face': (
         'actsim/optics.py', 'i = n_cell - 1 - j if light.from_top[b] else j', 'i = j if light.from_top[b] else n_cell - 1 - j'),
     'sign of the thermal back rate': (
@@ -112,6 +115,12 @@ MUTATIONS = {
     "conversion cap: readable x_ss without x_max": (
         "actsim/kinetics.py", "x_ss = np.where(k > 0, reactive_fraction * k_forward / safe_k, conversion)",
         "x_ss = np.where(k > 0, k_forward / safe_k, conversion)"),
+    "adaptive: error estimate ignores the conversion": (
+        "actsim/_kernels.py", "d = abs(xp[i] - x_pred[i])", "d = 0.0 * abs(xp[i] - x_pred[i])"),
+    "adaptive: the whole tolerance instead of half": (
+        "actsim/_kernels.py", "err = err / (LOCAL_TARGET * tol)", "err = err / (4.0 * tol)"),
+    "adaptive: last step overshoots the segment end": (
+        "actsim/_kernels.py", "t = seg_len if last else t + dt", "t = seg_len if last else t + 1.01 * dt"),
 }
 
 
