@@ -99,11 +99,15 @@ class RawOutput(NamedTuple):
 OUTPUT_WIDTH = {"mech": 4, "budget": 4, "energy": 3, "steps": 2}
 
 
-def allocate_output(n_out: int, n_cell: int, lead: dict | int | None = None) -> RawOutput:
-    """Zeroed output arrays; ``lead`` adds a leading axis (one int for all, or per-field ints)."""
+def allocate_output(n_out: int, n_cell: int, lead: dict | int | None = None, *, skip=()) -> RawOutput:
+    """Zeroed output arrays; ``lead`` adds a leading axis (one int for all, or per-field ints).
+
+    Fields named in ``skip`` get one row only, which :func:`record` overwrites at every output time
+    (temperature without heat, network strain without a network): 8 bytes per output and cell each saved.
+    """
     arrays = []
     for name in RawOutput._fields:
-        shape = (n_out, OUTPUT_WIDTH.get(name, n_cell))
+        shape = (1 if name in skip else n_out, OUTPUT_WIDTH.get(name, n_cell))
         k = lead.get(name) if isinstance(lead, dict) else lead
         arrays.append(np.zeros(shape if k is None else (k,) + shape))
     return RawOutput(*arrays)
@@ -146,8 +150,8 @@ def record(slot, x, T, S, E, Ee, mech, dz, mean_flux, absorbed, beam_emol, q_sur
     total_abs = 0.0
     for i in range(n_cell):
         out.x[slot, i] = x[i]
-        out.T[slot, i] = T[i]
-        out.S[slot, i] = S[i]
+        out.T[min(slot, out.T.shape[0] - 1), i] = T[i]  # one row only when not kept (see allocate_output)
+        out.S[min(slot, out.S.shape[0] - 1), i] = S[i]
         out.E[slot, i] = E[i]
         out.Ee[slot, i] = Ee[i]
         irr = 0.0

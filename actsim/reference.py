@@ -79,7 +79,8 @@ def run_reference(p):
         mf, ab, tr = light_at(x, q)
         E, Ee, r = mech(x, T, S, step)
         for name, val in (("x", x), ("T", T), ("S", S), ("E", E), ("Ee", Ee)):
-            getattr(o, name)[slot] = val
+            arr = getattr(o, name)
+            arr[min(slot, arr.shape[0] - 1)] = val
         o.irr[slot] = mf @ light.beam_emol
         o.pabs[slot] = (ab @ light.beam_emol) / dz
         o.mech[slot] = r

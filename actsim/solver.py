@@ -48,8 +48,9 @@ class Problem:
         return (self.grid, self.light, self.photo, self.heat, self.material, self.schedule)
 
     def allocate_output(self) -> RawOutput:
-        """Zeroed output arrays of this design."""
-        return allocate_output(self.times.size, self.grid.dz.size)
+        """Zeroed output arrays of this design (temperature and network strain only where modelled)."""
+        skip = (() if self.heat.mode else ("T",)) + (() if np.any(self.material.network_mod > 0) else ("S",))
+        return allocate_output(self.times.size, self.grid.dz.size, skip=skip)
 
 
 def build_problem(scenario: Scenario) -> Problem:

@@ -51,7 +51,10 @@ def test_raw_outputs_bitwise_equal_single_kernel(designs):
     for k, p in enumerate(problems):
         ref = run_kernel(p)
         for name, arr in ref._asdict().items():
-            assert np.array_equal(getattr(o["out"], name)[k], arr), name  # bitwise
+            full = getattr(o["out"], name)[k]
+            if arr.shape[0] == 1 and full.shape[0] > 1:  # a field the single run does not keep: its last row
+                full = full[-1:]
+            assert np.array_equal(full, arr), name  # bitwise
 
 
 def test_metrics_equal_simulate(designs):
