@@ -71,22 +71,23 @@ def run_chunk(base_text, base_path, overrides, design_ids, target, keep_series, 
     import numba
 
     from ..errors import ActsimError
-    from ..scenario import apply_overrides, parse_scenario
-    from ..solver import build_problem
+    from ..scenario import parse_scenario
     from .batch import run_batch
+    from .designs import DesignBuilder
 
     if numba_threads:
         numba.set_num_threads(max(1, min(int(numba_threads), numba.config.NUMBA_NUM_THREADS)))
     base_dir = Path(base_path).parent if base_path else Path.cwd()
     base = parse_scenario(base_text, path=base_path, base_dir=base_dir)
+    builder = DesignBuilder(base, dict.fromkeys(p for ov in overrides for p in ov))
     n = len(design_ids)
     status = np.zeros(n, np.int8)
     errors = []
     problems, scen, ok = [], [], []
     for k, ov in enumerate(overrides):
         try:
-            sc = apply_overrides(base, ov)
-            problems.append(build_problem(sc))
+            problem, sc = builder.build(ov)
+            problems.append(problem)
             scen.append(sc)
             ok.append(k)
         except ActsimError as exc:
