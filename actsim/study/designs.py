@@ -216,11 +216,17 @@ class DesignBuilder:
     def __init__(self, base, paths, *, check=True):
         from ..solver import build_problem
 
+        from ..errors import ActsimError
+
         self.base = base
-        self.base_problem = build_problem(base)
         self.raw = tomllib.loads(base.text)
         self._check = check
         self._fast = True
+        try:
+            self.base_problem = build_problem(base)
+        except ActsimError:  # the base itself is not a valid design (its swept values may be): re-parse each
+            self.base_problem = None
+            self._fast = False
         self._specs = {}
         self.mapped = {}
         for path in paths:
