@@ -261,3 +261,13 @@ def test_unit_factor_read_is_the_full_parse():
         assert read(text) == parse_quantity(text, field="x", kind="irradiance")
     read_t = si_reader("temperature")
     assert read_t("25 degC") == parse_quantity("25 degC", field="x", kind="temperature")
+
+
+def test_si_values_of_an_axis_are_those_of_si_of():
+    """The swept coordinates in SI: each unit parsed once, bitwise the per-value conversion (and words, plain numbers)."""
+    from actsim.study.values import si_of, si_values
+
+    vals = [f"{float(v)!r} um" for v in np.linspace(5.0, 200.0, 301)]
+    vals += ["10 mW/cm^2", "0.25 W/cm^2", "30 deg", "25 degC", "3 %", 0.3, 7, "word", "1e-3 mol/L", "5um",
+             "1.5 L/(mol*cm)", "2 GPa"]
+    assert si_values(vals) == [si_of(v) for v in vals]

@@ -41,7 +41,6 @@ way and compared array by array; on a difference the builder warns
 from __future__ import annotations
 
 import math
-import re
 import tomllib
 import warnings
 from dataclasses import dataclass, replace
@@ -51,14 +50,20 @@ import numpy as np
 
 from ..errors import ActsimInputError, ActsimWarning
 from ..units import SI_UNITS, _OFFSET_UNIT, parse_dimensionless, parse_quantity
+from .values import NUMBER_WITH_UNIT
 
 __all__ = ["MAPPED_FIELDS", "DesignBuilder", "si_reader", "problems_equal"]
 
 #: Stage objects in the order they are built (each may read the ones before it).
 STAGE_ORDER = ("grid", "light", "photo", "schedule", "heat", "material")
 
-#: Stage objects rebuilt when the cell grid changes.
+#: Stage objects rebuilt when the cells of a layer change (their arrays have one row per cell).
 GRID_STAGES = frozenset({"grid", "light", "photo", "heat", "material"})
+
+#: Stage objects rebuilt when only cell widths change (a layer thickness): the grid, the optics (its
+#: optical-depth-per-cell check) and the heat stage (its Crank-Nicolson step check); the photoreaction
+#: and material objects read the layer of each cell only.
+THICKNESS_STAGES = frozenset({"grid", "light", "heat"})
 
 # material property -> (reader kind, lo, hi, lo_open, hi_open, stages, needs an active material, needs heat)
 # ranges as in actsim.scenario.parse._parse_material; kind None = dimensionless number
@@ -98,7 +103,6 @@ MAPPED_FIELDS = (
     *(f"materials.NAME.{k}" for k in _MATERIAL_FIELDS), *(f"materials.NAME.{k}" for k in _SPECTRAL_FIELDS),
 )
 
-_NUMBER_UNIT = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s+([A-Za-z%][^\s].*?|[A-Za-z%])\s*$")
 
 #: (unit as written, kind) -> SI factor, or None where the unit is read value by value (offset scales, or a
 #: unit whose factor did not reproduce the full parse of a value).
@@ -162,7 +166,7 @@ def si_reader(kind, *, lo=None, hi=None, lo_open=False, hi_open=False):
         else:
             if not isinstance(value, str):
                 raise _General
-            m = _NUMBER_UNIT.match(value)
+            m = NUMBER_WITH_UNIT.match(value)
             factor = _unit_factor(m.group(2), kind) if m else None
             if factor is not None:
                 v = float(m.group(1)) * factor
@@ -300,7 +304,7 @@ class DesignBuilder:
 
             def apply(e, v):
                 e.layers.setdefault(li, {})[key] = v
-                e.stages.update(GRID_STAGES if key != "initial_conversion" else ("photo",))
+                e.stages.update({"cells": GRID_STAGES, "thickness": THICKNESS_STAGES}.get(key, ("photo",)))
 
             return read, apply
         if len(tok) == 2 and names[0] == "strip" and names[1] in ("free_length", "width"):
