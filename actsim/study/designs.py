@@ -49,7 +49,7 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import ActsimInputError, ActsimWarning
-from ..units import SI_UNITS, _OFFSET_UNIT, parse_dimensionless, parse_quantity
+from ..units import SI_UNITS, parse_dimensionless, parse_quantity
 from .values import NUMBER_WITH_UNIT
 
 __all__ = ["MAPPED_FIELDS", "DesignBuilder", "si_reader", "problems_equal"]
@@ -116,18 +116,17 @@ class _General(Exception):
 def _unit_factor(unit, kind):
     key = (unit, kind)
     if key not in _FACTORS:
-        factor = None
-        if not _OFFSET_UNIT.search(unit):
-            try:
-                factor = parse_quantity(f"1 {unit}", field="unit", kind=kind)
-            except ActsimInputError:
-                factor = None
-            if factor is not None:
-                # the full parse of a value is (number * 1 unit) converted with the same factor: check it on a few
-                for probe in ("3.7", "0.1", "123.456e-3", "7"):
-                    if float(probe) * factor != parse_quantity(f"{probe} {unit}", field="unit", kind=kind):
-                        factor = None
-                        break
+        try:
+            factor = parse_quantity(f"1 {unit}", field="unit", kind=kind)
+        except ActsimInputError:
+            factor = None
+        if factor is not None:
+            # the full parse of a value is (number * 1 unit) converted with the same factor: check it on a few
+            # numbers (an offset scale such as degC fails here and is read value by value)
+            for probe in ("3.7", "0.1", "123.456e-3", "7"):
+                if float(probe) * factor != parse_quantity(f"{probe} {unit}", field="unit", kind=kind):
+                    factor = None
+                    break
         _FACTORS[key] = factor
     return _FACTORS[key]
 
@@ -246,8 +245,7 @@ class DesignBuilder:
     # ------------------------------------------------------------------ field map
     def _classify(self, path):
         """(reader, apply) of one field path, or None (general way)."""
-        from ..scenario import split_field_path
-        from ..scenario.overrides import descend
+        from ..scenario import descend, split_field_path
 
         sc, raw = self.base, self.raw
         tok = split_field_path(path)

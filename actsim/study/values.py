@@ -193,19 +193,17 @@ _SI_FACTORS: dict = {}
 
 
 def _si_factor(unit):
-    from ..units import _OFFSET_UNIT
-
     if unit not in _SI_FACTORS:
         found = None
-        if not _OFFSET_UNIT.search(unit):
-            factor, si_unit = si_of(f"1 {unit}")
-            if isinstance(factor, float) and si_unit:
-                found = (factor, si_unit)
-                # si_of converts (number * 1 unit) with this same factor: check it on a few numbers
-                for probe in ("3.7", "0.1", "123.456e-3", "7"):
-                    if si_of(f"{probe} {unit}") != (float(probe) * factor, si_unit):
-                        found = None
-                        break
+        factor, si_unit = si_of(f"1 {unit}")
+        if isinstance(factor, float) and si_unit:
+            found = (factor, si_unit)
+            # si_of converts (number * 1 unit) with this same factor: check it on a few numbers (an offset
+            # scale such as degC fails here and is read value by value)
+            for probe in ("3.7", "0.1", "123.456e-3", "7"):
+                if si_of(f"{probe} {unit}") != (float(probe) * factor, si_unit):
+                    found = None
+                    break
         _SI_FACTORS[unit] = found
     return _SI_FACTORS[unit]
 
