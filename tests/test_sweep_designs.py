@@ -271,3 +271,16 @@ def test_si_values_of_an_axis_are_those_of_si_of():
     vals += ["10 mW/cm^2", "0.25 W/cm^2", "30 deg", "25 degC", "3 %", 0.3, 7, "word", "1e-3 mol/L", "5um",
              "1.5 L/(mol*cm)", "2 GPa"]
     assert si_values(vals) == [si_of(v) for v in vals]
+
+
+def test_a_missing_range_check_is_caught_by_the_first_design_check(base, monkeypatch):
+    """A reader that forgot the parser's range lets a bad first design through: warn, give the parser's error."""
+    plain = designs.si_reader
+    monkeypatch.setattr(designs, "si_reader", lambda kind, **kw: plain(kind))  # no lo/hi
+    path = "materials.film.poisson_ratio"
+    builder = DesignBuilder(base, [path])
+    with pytest.warns(ActsimWarning, match="the parser refuses it"):
+        with pytest.raises(ActsimInputError, match="poisson_ratio: 0.6 is outside the allowed range"):
+            builder.build({path: 0.6})
+    with pytest.raises(ActsimInputError, match="poisson_ratio: 0.7 is outside the allowed range"):
+        builder.build({path: 0.7})  # now the general way

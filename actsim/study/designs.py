@@ -390,7 +390,14 @@ class DesignBuilder:
             return self._general(overrides)
         if self._check:
             self._check = False
-            ref, ref_sc = self._general(overrides)
+            try:
+                ref, ref_sc = self._general(overrides)
+            except ActsimInputError as exc:  # refused by the parser but not by the patching: a gap in the map
+                warnings.warn(ActsimWarning(
+                    f"sweep: a design patched in {', '.join(overrides)} was accepted but the parser refuses it "
+                    f"({exc}); every design is built by re-parsing (slower)"), stacklevel=2)
+                self._fast = False
+                raise
             diff = problems_equal(problem, ref)
             if diff is None and (sc.strip != ref_sc.strip or sc.heat != ref_sc.heat):
                 diff = "strip or heat settings"
