@@ -44,7 +44,6 @@ import math
 import tomllib
 import warnings
 from dataclasses import dataclass, replace
-from pathlib import Path
 
 import numpy as np
 
@@ -414,7 +413,7 @@ class DesignBuilder:
         from ..grid import build_grid
         from ..schedule import build_schedule
         from ..solver import Problem
-        from ..spectra import gaussian_bands, line_bands
+        from ..spectra import SpectralFunction, gaussian_bands, line_bands
 
         e = _Edit(layers={}, materials={}, sources={}, steps={}, strip={}, stages=set(), flux=[])
         for path, value in overrides.items():
@@ -431,11 +430,10 @@ class DesignBuilder:
                 m = next(layer.material for layer in base.layers if layer.material.name == mname)
                 kw = {}
                 for key, v in ch.items():
-                    if key in _SPECTRAL_FIELDS:
-                        from ..spectra import SpectralFunction
-
+                    if key in _SPECTRAL_FIELDS:  # a constant, as the parser builds it from one value
+                        kind = _SPECTRAL_FIELDS[key][0]
                         kw[key] = SpectralFunction(field=f"materials.{mname}.{key}", kind="constant", constant=v,
-                                                   unit=SI_UNITS[_SPECTRAL_FIELDS[key][0]][0] if _SPECTRAL_FIELDS[key][0] else "1")
+                                                   unit=SI_UNITS[kind][0] if kind else "1")
                     elif key not in ("modulus", "product_modulus"):
                         kw[key] = v
                 if "modulus" in ch or "product_modulus" in ch:
