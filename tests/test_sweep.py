@@ -329,3 +329,30 @@ def test_resume_hash_covers_data_file_contents(tmp_path):
     spec.write_text("\n".join(lines) + "\n")
     with pytest.raises(ActsimInputError, match="different sweep.*data file"):
         sweep(load_scenario(tmp_path / "valve.toml"), vary, store=store, scheduler="inprocess", progress=False)
+
+
+def test_default_runs_in_this_process_on_the_threads_given(base, monkeypatch):
+    """No dask cluster unless asked: the chunks run here, numba on --threads cores (restored afterwards)."""
+    import numba
+
+    from actsim.study import execute
+
+    def no_cluster(n):
+        raise AssertionError("a local dask cluster was started without --scheduler local")
+
+    monkeypatch.setattr(execute, "_local_cluster", no_cluster)
+    seen = []
+    real = execute.run_chunk
+
+    def spy(*args):
+        seen.append(args[-1])
+        return real(*args)
+
+    monkeypatch.setattr(execute, "run_chunk", spy)
+    before = numba.get_num_threads()
+    ds = sweep(base, {"layers[film].thickness": "lin(8 um, 30 um, 4)"}, target_bend_angle=TARGET, chunk_size=2,
+               progress=False, threads=1)
+    assert seen == [1, 1] and numba.get_num_threads() == before
+    assert (ds["status"].values == 0).all()
+    with pytest.raises(ActsimInputError, match="threads: 0 is outside the allowed range"):
+        sweep(base, {"layers[film].thickness": "8 um,9 um"}, progress=False, threads=0)

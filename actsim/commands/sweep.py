@@ -145,13 +145,14 @@ def cmd_sweep(args) -> int:
     from ..jitcache import compile_notice, notify_if_compiling
     from ..study.batch import batch_kernel
 
-    # local worker processes compile the kernel where no listener of this process hears it: look at its cache
-    shown = args.scheduler is None and notify_if_compiling([batch_kernel])
+    # dask worker processes (--scheduler) compile the kernel where no listener of this process hears it:
+    # look at its cache instead
+    shown = args.scheduler is not None and notify_if_compiling([batch_kernel])
     with contextlib.nullcontext() if shown else compile_notice():
         ds = sweep(sc, vary, sampling=sampling, n_samples=args.samples, seed=args.seed, target_bend_angle=target,
                    keep_series=args.series, chunk_size=args.chunk_size, store=out / "chunks",
                    scheduler=args.scheduler, progress=not args.no_progress, yes=args.yes,
-                   connect_timeout=args.timeout)
+                   connect_timeout=args.timeout, threads=args.threads)
     write_netcdf(ds, out / "sweep.nc")
     _metrics_csv(ds, out / "metrics.csv")
     files = ["sweep.nc", "metrics.csv", "chunks/"]
@@ -279,7 +280,10 @@ def register(subparsers) -> None:
     p.add_argument("--series", action="store_true", help="keep the bend, force and temperature time series of every design")
     p.add_argument("-o", "--output", metavar="OUT", help="output folder (default: actsim-out/<scenario>-sweep)")
     p.add_argument("--scheduler", metavar="ADDRESS",
-                   help="dask scheduler address tcp://host:port, or 'inprocess' (default: local worker processes)")
+                   help="where the designs run: a dask scheduler address tcp://host:port, or 'local' (dask worker "
+                        "processes on this machine); default: this process, in parallel over designs")
+    p.add_argument("--threads", type=int, metavar="N",
+                   help="cores used in this process (default: all; or the NUMBA_NUM_THREADS environment variable)")
     p.add_argument("--timeout", type=float, default=10.0, metavar="SECONDS",
                    help="seconds to wait for the scheduler to answer (default 10)")
     p.add_argument("--chunk-size", type=int, metavar="N", help="designs per chunk (default from a memory budget)")

@@ -75,7 +75,7 @@ def batch_kernel(grid, light, photo, heat, mat, protocol, out, bad):
 
 def shape_key(p: Problem) -> tuple:
     """Designs with equal keys stack into one group (same shape of every kernel array)."""
-    return tuple(np.shape(v) for params in p.kernel_inputs() for v in params)
+    return tuple(v.shape if isinstance(v, np.ndarray) else np.shape(v) for params in p.kernel_inputs() for v in params)
 
 
 def group_problems(problems) -> list[list[int]]:
@@ -89,8 +89,9 @@ def group_problems(problems) -> list[list[int]]:
 def stack_problems(problems) -> tuple:
     """The kernel inputs of problems of one shape group, every field stacked along a leading design axis."""
     stacked = []
-    for k, first in enumerate(problems[0].kernel_inputs()):
-        fields = [np.ascontiguousarray(np.stack([np.asarray(p.kernel_inputs()[k][f]) for p in problems]))
+    inputs = [p.kernel_inputs() for p in problems]
+    for k, first in enumerate(inputs[0]):
+        fields = [np.ascontiguousarray(np.stack([np.asarray(inp[k][f]) for inp in inputs]))
                   for f in range(len(first))]
         stacked.append(type(first)(*fields))
     return tuple(stacked)
@@ -203,8 +204,8 @@ def batch_metrics(problems, o, *, free_length, width, target_bend_angle=None, he
     with np.errstate(invalid="ignore", divide="ignore"):
         eff = np.where(energy_at_peak > 0, work / energy_at_peak, 0.0)
     heat = np.zeros(n, bool) if heat is None else np.asarray(heat, bool).reshape(n)
-    t_max = out.T.max(axis=2)
-    peak_T = np.where(heat, t_max.max(axis=1), np.nan)
+    t_max = out.T.max(axis=2) if (heat.any() or keep_series) else None  # (n, n_time) of no use without heat
+    peak_T = np.where(heat, t_max.max(axis=1), np.nan) if t_max is not None else np.full(n, np.nan)
     m = {
         "final_bend_angle": theta[:, -1],
         "peak_bend_angle": peak_theta,

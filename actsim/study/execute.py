@@ -9,17 +9,17 @@ an existing dask scheduler.
 
 Where the work runs
 -------------------
-``scheduler=None`` (default): when more than one chunk is left, a
-``dask.distributed.LocalCluster`` of worker processes (one per core, one thread
-each, numba single-threaded inside) runs the chunks. Processes, not threads:
-building a design (parsing its scenario, the optical tables) is Python code that
-holds the GIL and costs several milliseconds per design, as much as the time
-loop itself, so only processes run it in parallel; the distributed scheduler
-(rather than dask's multiprocessing ``get``) hands back each chunk as it
-finishes, which is what lets the main process write chunks as they come, and it
-is the same code path as a remote cluster. A single chunk runs in this process.
-``scheduler="inprocess"``: every chunk in this process, numba parallel over the
-designs of the chunk (no start-up cost; best for small sweeps).
+``scheduler=None`` or ``"inprocess"`` (default): every chunk in this process,
+numba parallel over the designs of the chunk on ``threads`` cores (default: all
+that numba may use, ``NUMBA_NUM_THREADS``). Building a design costs about a
+tenth of a millisecond (:class:`actsim.study.designs.DesignBuilder` parses the
+scenario once per chunk and patches each design), against a millisecond or so of
+its time loop, so worker processes do not pay for their start-up on one machine
+(see ``docs/studies.md`` for the measurement).
+``scheduler="local"``: a ``dask.distributed.LocalCluster`` of worker processes
+(``n_workers``, default one per core; one thread each, numba single-threaded
+inside); the distributed scheduler hands back each chunk as it finishes, and the
+main process writes it at once.
 ``scheduler="tcp://host:port"``: an existing dask cluster; the connection
 gives up after ``connect_timeout`` seconds with a one-line error.
 
@@ -61,7 +61,8 @@ def run_chunk(base_text, base_path, overrides, design_ids, target, keep_series, 
     keep_series : bool
         Keep the (design, time) series.
     numba_threads : int, optional
-        Threads of numba's parallel loop in this process.
+        Threads of numba's parallel loop over the designs (default: numba's current number;
+        restored afterwards).
 
     Returns
     -------
@@ -71,30 +72,37 @@ def run_chunk(base_text, base_path, overrides, design_ids, target, keep_series, 
     import numba
 
     from ..errors import ActsimError
-    from ..scenario import apply_overrides, parse_scenario
-    from ..solver import build_problem
+    from ..scenario import parse_scenario
     from .batch import run_batch
+    from .designs import DesignBuilder
 
-    if numba_threads:
-        numba.set_num_threads(max(1, min(int(numba_threads), numba.config.NUMBA_NUM_THREADS)))
     base_dir = Path(base_path).parent if base_path else Path.cwd()
     base = parse_scenario(base_text, path=base_path, base_dir=base_dir)
+    builder = DesignBuilder(base, dict.fromkeys(p for ov in overrides for p in ov))
     n = len(design_ids)
     status = np.zeros(n, np.int8)
     errors = []
     problems, scen, ok = [], [], []
     for k, ov in enumerate(overrides):
         try:
-            sc = apply_overrides(base, ov)
-            problems.append(build_problem(sc))
+            problem, sc = builder.build(ov)
+            problems.append(problem)
             scen.append(sc)
             ok.append(k)
         except ActsimError as exc:
             status[k] = 2
             errors.append((int(design_ids[k]), str(exc)))
-    res = run_batch(problems, free_length=[s.strip.free_length for s in scen], width=[s.strip.width for s in scen],
-                    target_bend_angle=target, heat=[s.heat.enabled for s in scen], keep_series=keep_series,
-                    raise_on_failure=False) if problems else None
+    res = None
+    if problems:
+        previous = numba.get_num_threads()
+        if numba_threads:
+            numba.set_num_threads(max(1, min(int(numba_threads), numba.config.NUMBA_NUM_THREADS)))
+        try:
+            res = run_batch(problems, free_length=[s.strip.free_length for s in scen],
+                            width=[s.strip.width for s in scen], target_bend_angle=target,
+                            heat=[s.heat.enabled for s in scen], keep_series=keep_series, raise_on_failure=False)
+        finally:
+            numba.set_num_threads(previous)
     metrics, series = {}, None
     names = list(METRIC_INFO) if target is not None else [m for m in METRIC_INFO if m not in
                                                           ("time_to_target", "reached_target", "blocked_force_at_target")]
@@ -132,7 +140,7 @@ def connect(scheduler, *, timeout=10.0):
 
     if not re.match(r"^(tcp|tls|inproc|ucx|ws|wss)://", str(scheduler)):
         raise ActsimInputError(f"--scheduler: '{scheduler}' is not an address such as tcp://127.0.0.1:8786 "
-                               "(or 'inprocess', or leave it out for local processes)")
+                               "(or 'local' for worker processes on this machine, 'inprocess', or leave it out)")
     try:
         return Client(scheduler, timeout=timeout)
     except (OSError, TimeoutError) as exc:
@@ -150,8 +158,13 @@ def _local_cluster(n_workers):
     return Client(cluster), cluster
 
 
-def execute(plan: SweepPlan, *, store=None, scheduler=None, progress=True, connect_timeout=10.0, n_workers=None):
-    """Run the chunks of a plan not yet in ``store``; returns the chunk Datasets (all of them, in order)."""
+def execute(plan: SweepPlan, *, store=None, scheduler=None, progress=True, connect_timeout=10.0, n_workers=None,
+            threads=None):
+    """Run the chunks of a plan not yet in ``store``; returns the chunk Datasets (all of them, in order).
+
+    ``scheduler``: None or ``"inprocess"`` (this process, numba parallel over the designs of a chunk on
+    ``threads`` cores), ``"local"`` (a local dask cluster of ``n_workers`` processes) or a scheduler address.
+    """
     from ..io import write_netcdf
 
     done: set = set()
@@ -167,6 +180,9 @@ def execute(plan: SweepPlan, *, store=None, scheduler=None, progress=True, conne
         ids = list(plan.chunk_designs(c))
         return (sc.text, sc.path, [plan.overrides(i) for i in ids], ids, plan.target, plan.keep_series)
 
+    if threads is not None and (isinstance(threads, bool) or not isinstance(threads, int) or threads < 1):
+        raise ActsimInputError(f"threads: {threads!r} is outside the allowed range (a whole number >= 1)")
+
     pause = float(os.environ.get("ACTSIM_SWEEP_PAUSE", "0") or 0)  # seconds after each chunk (interruption tests)
 
     def finish(c, res):
@@ -180,15 +196,13 @@ def execute(plan: SweepPlan, *, store=None, scheduler=None, progress=True, conne
 
             time.sleep(pause)
 
-    mode = scheduler
-    if mode is None:
-        mode = "local" if len(pending) > 1 else "inprocess"
+    mode = "inprocess" if scheduler is None else scheduler
     try:
         if not pending:
             pass
         elif mode == "inprocess":
             for c in pending:
-                finish(c, run_chunk(*args_of(c)))
+                finish(c, run_chunk(*args_of(c), threads))
         else:
             from distributed import as_completed
 

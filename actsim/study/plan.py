@@ -30,6 +30,10 @@ MAX_GRID_WITHOUT_YES = 20_000
 #: Memory budget for the raw output arrays of one chunk [bytes] (sets the default chunk size).
 CHUNK_MEMORY = 256 * 2**20
 
+#: Most designs in one chunk by default (fewer, larger chunks: less writing and per-chunk set-up; a resume
+#: loses at most the chunk that was running, about a second of work at this size).
+MAX_CHUNK = 1024
+
 
 @dataclass
 class Axis:
@@ -259,7 +263,7 @@ def plan_sweep(scenario, vary, *, sampling="grid", n_samples=None, seed=0, targe
         n_cell = sum(layer.cells for layer in scenario.layers)
         n_out = int(math.floor(scenario.duration / scenario.output_interval + 1e-9)) + len(scenario.protocol) + 1
         per_design = 8 * n_cell * n_out * 3 + 1
-        chunk_size = int(min(max(1, CHUNK_MEMORY // per_design), 256, max(8, math.ceil(n / 8))))
+        chunk_size = int(min(max(1, CHUNK_MEMORY // per_design), MAX_CHUNK, max(8, math.ceil(n / 8))))
     if chunk_size < 1:
         raise ActsimInputError(f"chunk_size: {chunk_size} is outside the allowed range (>= 1)")
     definition = {
@@ -285,4 +289,4 @@ def plan_sweep(scenario, vary, *, sampling="grid", n_samples=None, seed=0, targe
                      hash=digest)
 
 
-__all__ = ["MAX_GRID_WITHOUT_YES", "CHUNK_MEMORY", "Axis", "SweepPlan", "data_file_digests", "plan_sweep"]
+__all__ = ["MAX_GRID_WITHOUT_YES", "CHUNK_MEMORY", "MAX_CHUNK", "Axis", "SweepPlan", "data_file_digests", "plan_sweep"]

@@ -33,7 +33,7 @@ from ..errors import ActsimInputError
 from .execute import execute
 from .plan import SweepPlan, plan_sweep
 from .store import EFFICIENCY_DEFINITION, METRIC_INFO, variable_attrs
-from .values import dim_name, json_value, si_of
+from .values import dim_name, json_value, si_values
 
 
 def assemble(plan: SweepPlan, chunks) -> xr.Dataset:
@@ -62,7 +62,7 @@ def assemble(plan: SweepPlan, chunks) -> xr.Dataset:
             new[name] = xr.Variable(tuple(dims) + rest, data, attrs=var.attrs)
         for ax in plan.axes:
             for j, (p, vals) in enumerate(zip(ax.paths, ax.values)):
-                si = [si_of(v) for v in vals]
+                si = si_values(vals)
                 cname = ax.name if j == 0 else dim_name(p)
                 coords[cname] = xr.Variable((ax.name,), np.array([s[0] for s in si]),
                                             attrs={"units": si[0][1], "field": p,
@@ -76,7 +76,7 @@ def assemble(plan: SweepPlan, chunks) -> xr.Dataset:
         out = ds
         for ax in plan.axes:
             for j, (p, vals) in enumerate(zip(ax.paths, ax.values)):
-                si = [si_of(v) for v in vals]
+                si = si_values(vals)
                 cname = dim_name(p)
                 out = out.assign_coords({cname: xr.Variable(("design",), np.array([s[0] for s in si]),
                                                             attrs={"units": si[0][1], "field": p,
@@ -105,7 +105,7 @@ def assemble(plan: SweepPlan, chunks) -> xr.Dataset:
 
 def sweep(scenario, vary, *, sampling="grid", n_samples=None, seed=0, metrics=None, target_bend_angle=None,
           keep_series=False, chunk_size=None, store=None, scheduler=None, progress=True, yes=False,
-          connect_timeout=10.0, n_workers=None) -> xr.Dataset:
+          connect_timeout=10.0, n_workers=None, threads=None) -> xr.Dataset:
     """Run a design sweep and return its metrics as one Dataset.
 
     Parameters
@@ -137,8 +137,9 @@ def sweep(scenario, vary, *, sampling="grid", n_samples=None, seed=0, metrics=No
         Designs per chunk (default from a memory budget of the raw outputs).
     store : str or Path, optional
         Folder for the manifest and one NetCDF per chunk; a re-run resumes.
-    scheduler : None, "inprocess" or str
-        Where the chunks run: see :mod:`actsim.study.execute`.
+    scheduler : None, "inprocess", "local" or str
+        Where the chunks run: this process (default), a local dask cluster or a
+        scheduler address; see :mod:`actsim.study.execute`.
     progress : bool
         Show a progress bar (only on a terminal and when CI is not set).
     yes : bool
@@ -147,6 +148,8 @@ def sweep(scenario, vary, *, sampling="grid", n_samples=None, seed=0, metrics=No
         Seconds to wait for a remote scheduler [s].
     n_workers : int, optional
         Worker processes of the local cluster (default: the number of cores).
+    threads : int, optional
+        Cores of the parallel loop over designs in this process (default: all numba may use).
 
     Returns
     -------
@@ -165,7 +168,7 @@ def sweep(scenario, vary, *, sampling="grid", n_samples=None, seed=0, metrics=No
                 extra = f"; did you mean '{hint[0]}'?" if hint else f"; metrics are: {', '.join(METRIC_INFO)}"
                 raise ActsimInputError(f"metrics: no metric '{m}'{extra}")
     chunks = execute(plan, store=store, scheduler=scheduler, progress=progress, connect_timeout=connect_timeout,
-                     n_workers=n_workers)
+                     n_workers=n_workers, threads=threads)
     ds = assemble(plan, chunks)
     if metrics is not None:
         drop = [m for m in METRIC_INFO if m in ds and m not in metrics]

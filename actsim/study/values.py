@@ -185,6 +185,49 @@ def si_of(value):
     return float(q.to_base_units().magnitude), f"{q.to_base_units().units:~}"
 
 
+#: A number, white space and a unit (``"5.0 um"``, ``"10 mW/cm^2"``): group 1 the number, group 2 the unit.
+NUMBER_WITH_UNIT = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s+([A-Za-z%][^\s].*?|[A-Za-z%])\s*$")
+
+#: unit as written -> (SI factor, SI unit) of :func:`si_of`, or None where values are read one by one.
+_SI_FACTORS: dict = {}
+
+
+def _si_factor(unit):
+    if unit not in _SI_FACTORS:
+        found = None
+        factor, si_unit = si_of(f"1 {unit}")
+        if isinstance(factor, float) and si_unit:
+            found = (factor, si_unit)
+            # si_of converts (number * 1 unit) with this same factor: check it on a few numbers (an offset
+            # scale such as degC fails here and is read value by value)
+            for probe in ("3.7", "0.1", "123.456e-3", "7"):
+                if si_of(f"{probe} {unit}") != (float(probe) * factor, si_unit):
+                    found = None
+                    break
+        _SI_FACTORS[unit] = found
+    return _SI_FACTORS[unit]
+
+
+def si_values(values) -> list:
+    """:func:`si_of` of many values as written, each distinct unit string parsed once.
+
+    A value ``"<number> <unit>"`` is the number times the SI factor of its unit (what the
+    unit library computes for the whole string, so the result is bitwise that of
+    :func:`si_of`); anything else (plain numbers, words, offset temperatures) goes
+    through :func:`si_of`.
+    """
+    out = []
+    for v in values:
+        if isinstance(v, str):
+            m = NUMBER_WITH_UNIT.match(v)
+            fu = _si_factor(m.group(2)) if m else None
+            if fu is not None:
+                out.append((float(m.group(1)) * fu[0], fu[1]))
+                continue
+        out.append(si_of(v))
+    return out
+
+
 def dim_name(path: str) -> str:
     """A NetCDF-friendly name of a field path: ``layers[active film].thickness`` -> ``layers_active_film_thickness``."""
     from ..scenario import split_field_path
@@ -202,4 +245,4 @@ def json_value(v):
 
 
 __all__ = ["Range", "lin", "log", "split_number_unit", "range_values", "format_value", "parse_values",
-           "parse_vary_option", "si_of", "dim_name", "json_value"]
+           "parse_vary_option", "si_of", "si_values", "NUMBER_WITH_UNIT", "dim_name", "json_value"]
