@@ -164,15 +164,15 @@ def test_patched_design_is_bitwise_the_reparsed_one(base, path, value):
     _assert_same(base, {path: value}, builder)
 
 
-def test_duration_moves_the_default_step_and_its_crank_nicolson_limit():
-    """Without [time], the step is total/1000: a longer step can break the Crank-Nicolson limit of the heat stage."""
-    base = apply_overrides(parse_scenario(_text(time=False, scheme="crank-nicolson")),
+def test_duration_keeps_a_fixed_step_and_its_crank_nicolson_limit():
+    """With a fixed [time] step, a longer protocol step keeps the step: the Crank-Nicolson limit still holds."""
+    base = apply_overrides(parse_scenario(_text(scheme="crank-nicolson", step="1 ms")),
                            {"materials.film.conductivity": "0.02 W/(m*K)", "materials.passive.conductivity": "0.05 W/(m*K)"})
     path = "protocol[1].duration"
     builder = DesignBuilder(base, [path], check=False)
     assert builder.mapped[path]
     assert _assert_same(base, {path: "1 s"}, builder)
-    assert not _assert_same(base, {path: "1000 s"}, builder)  # refused by both, with the same line
+    assert _assert_same(base, {path: "1000 s"}, builder)
 
 
 def test_base_that_is_not_a_valid_design():

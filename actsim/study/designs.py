@@ -511,17 +511,15 @@ class DesignBuilder:
         total = sum(s.duration for s in steps)
         out = {}
         output_interval = sc.output_interval if "output_interval" in tt else total / 200.0
-        time_step = sc.time_step if "step" in tt else min(output_interval, total / 1000.0)
         if "output_interval" not in tt:
             out["output_interval"] = output_interval
-        if "step" not in tt:
-            out["time_step"] = time_step
         if output_interval > total:
             raise _General
         n_outputs = int(math.floor(total / output_interval + 1e-9)) + len(steps)
         if n_outputs > 1_000_000 or n_outputs * sum(layer.cells for layer in layers) > 200_000_000:
             raise _General
-        if sum(math.ceil(s.duration / time_step - 1e-9) for s in steps) + n_outputs > 5_000_000:
+        # fixed steps ([time] step) keep their step; error-controlled ones (the default) have no step to move
+        if not sc.time_tolerance and sum(math.ceil(s.duration / sc.time_step - 1e-9) for s in steps) + n_outputs > 5_000_000:
             raise _General
         return out
 
