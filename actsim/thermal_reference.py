@@ -115,6 +115,52 @@ def check_conduction_inputs(
     return np.ascontiguousarray(dz), np.ascontiguousarray(k), np.ascontiguousarray(rc)
 
 
+class _ConductionOperator:
+    """The cell heat balance C dT/dt = -A T + b(q) of the readable steps, with scipy's banded solver.
+
+    ``cap`` = C [J/(m^2 K)], ``a_times(T)`` = A T [W/m^2], ``b_of(q)`` = q dz + face exchange with the
+    ambients [W/m^2], ``solve(coef, rhs)`` solves (C + coef A) x = rhs.
+    """
+
+    def __init__(self, *, dz, conductivity, volumetric_heat_capacity, h_bottom, ambient_bottom, h_top, ambient_top):
+        dz = np.asarray(dz, dtype=float)
+        k = np.asarray(conductivity, dtype=float)
+        self.dz = dz
+        self.cap = np.asarray(volumetric_heat_capacity, dtype=float) * dz
+        self.g_int = 1.0 / (dz[:-1] / (2 * k[:-1]) + dz[1:] / (2 * k[1:]))
+
+        def g_face(h, dzc, kc):
+            return 0.0 if h <= 0 else 1.0 / (1.0 / h + dzc / (2 * kc))
+
+        self.g_b = g_face(h_bottom, dz[0], k[0])
+        self.g_t = g_face(h_top, dz[-1], k[-1])
+        self.ambient_bottom, self.ambient_top = ambient_bottom, ambient_top
+        self.a_diag = np.zeros_like(dz)
+        self.a_diag[:-1] += self.g_int
+        self.a_diag[1:] += self.g_int
+        self.a_diag[0] += self.g_b
+        self.a_diag[-1] += self.g_t
+
+    def a_times(self, x):
+        y = self.a_diag * x
+        y[:-1] -= self.g_int * x[1:]
+        y[1:] -= self.g_int * x[:-1]
+        return y
+
+    def b_of(self, q):
+        b = q * self.dz
+        b[0] += self.g_b * self.ambient_bottom
+        b[-1] += self.g_t * self.ambient_top
+        return b
+
+    def solve(self, coef, rhs):
+        ab = np.zeros((3, self.dz.size))
+        ab[0, 1:] = -coef * self.g_int
+        ab[1] = self.cap + coef * self.a_diag
+        ab[2, :-1] = -coef * self.g_int
+        return solve_banded((1, 1), ab, rhs)
+
+
 def theta_step_reference(
     *,
     temperature,
@@ -168,39 +214,11 @@ def theta_step_reference(
     J. Crank and P. Nicolson, Proc. Cambridge Philos. Soc. 43, 50-67, 1947.
     """
     T = np.asarray(temperature, dtype=float)
-    dz = np.asarray(dz, dtype=float)
-    k = np.asarray(conductivity, dtype=float)
-    cap = np.asarray(volumetric_heat_capacity, dtype=float) * dz  # [J/(m^2 K)]
-    g_int = 1.0 / (dz[:-1] / (2 * k[:-1]) + dz[1:] / (2 * k[1:]))
-
-    def g_face(h, dzc, kc):
-        return 0.0 if h <= 0 else 1.0 / (1.0 / h + dzc / (2 * kc))
-
-    g_b = g_face(h_bottom, dz[0], k[0])
-    g_t = g_face(h_top, dz[-1], k[-1])
-    a_diag = np.zeros_like(T)
-    a_diag[:-1] += g_int
-    a_diag[1:] += g_int
-    a_diag[0] += g_b
-    a_diag[-1] += g_t
-
-    def a_times(x):
-        y = a_diag * x
-        y[:-1] -= g_int * x[1:]
-        y[1:] -= g_int * x[:-1]
-        return y
-
-    amb = np.zeros_like(T)
-    amb[0] += g_b * ambient_bottom
-    amb[-1] += g_t * ambient_top
-    b_old = np.asarray(source_old, dtype=float) * dz + amb
-    b_new = np.asarray(source_new, dtype=float) * dz + amb
-    rhs = cap * T - (1 - theta) * dt * a_times(T) + dt * (theta * b_new + (1 - theta) * b_old)
-    ab = np.zeros((3, T.size))
-    ab[0, 1:] = -theta * dt * g_int
-    ab[1] = cap + theta * dt * a_diag
-    ab[2, :-1] = -theta * dt * g_int
-    return solve_banded((1, 1), ab, rhs)
+    op = _ConductionOperator(dz=dz, conductivity=conductivity, volumetric_heat_capacity=volumetric_heat_capacity,
+                             h_bottom=h_bottom, ambient_bottom=ambient_bottom, h_top=h_top, ambient_top=ambient_top)
+    b_old, b_new = op.b_of(np.asarray(source_old, dtype=float)), op.b_of(np.asarray(source_new, dtype=float))
+    rhs = op.cap * T - (1 - theta) * dt * op.a_times(T) + dt * (theta * b_new + (1 - theta) * b_old)
+    return op.solve(theta * dt, rhs)
 
 
 def trbdf2_step_reference(
@@ -290,43 +308,12 @@ def trbdf2_step_reference(
     gamma = 2.0 - math.sqrt(2.0)
     d = (1.0 - gamma) / (2.0 - gamma)
     T = np.asarray(temperature, dtype=float)
-    dz = np.asarray(dz, dtype=float)
-    k = np.asarray(conductivity, dtype=float)
-    cap = np.asarray(volumetric_heat_capacity, dtype=float) * dz  # C [J/(m^2 K)]
+    op = _ConductionOperator(dz=dz, conductivity=conductivity, volumetric_heat_capacity=volumetric_heat_capacity,
+                             h_bottom=h_bottom, ambient_bottom=ambient_bottom, h_top=h_top, ambient_top=ambient_top)
+    cap, a_times, b_of, solve = op.cap, op.a_times, op.b_of, op.solve
+    g_b, g_t = op.g_b, op.g_t
     q_old = np.asarray(source_old, dtype=float)
     q_new = np.asarray(source_new, dtype=float)
-    g_int = 1.0 / (dz[:-1] / (2 * k[:-1]) + dz[1:] / (2 * k[1:]))
-
-    def g_face(h, dzc, kc):
-        return 0.0 if h <= 0 else 1.0 / (1.0 / h + dzc / (2 * kc))
-
-    g_b = g_face(h_bottom, dz[0], k[0])
-    g_t = g_face(h_top, dz[-1], k[-1])
-    a_diag = np.zeros_like(T)
-    a_diag[:-1] += g_int
-    a_diag[1:] += g_int
-    a_diag[0] += g_b
-    a_diag[-1] += g_t
-
-    def a_times(x):
-        y = a_diag * x
-        y[:-1] -= g_int * x[1:]
-        y[1:] -= g_int * x[:-1]
-        return y
-
-    def b_of(q):
-        b = q * dz
-        b[0] += g_b * ambient_bottom
-        b[-1] += g_t * ambient_top
-        return b
-
-    def solve(coef, rhs):
-        # (C + coef A) x = rhs, A in scipy's banded storage (upper, diagonal, lower)
-        ab = np.zeros((3, T.size))
-        ab[0, 1:] = -coef * g_int
-        ab[1] = cap + coef * a_diag
-        ab[2, :-1] = -coef * g_int
-        return solve_banded((1, 1), ab, rhs)
 
     c = 0.5 * gamma * dt
     q_gamma = (1.0 - gamma) * q_old + gamma * q_new
