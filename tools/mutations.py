@@ -85,8 +85,8 @@ MUTATIONS = {
     "trbdf2 (reference): backward Euler second stage": (
         "actsim/thermal_reference.py", "    T_new = solve(d * dt, rhs)\n",
         "    T_new = solve(dt, cap * T + dt * b_of(q_new))\n"),
-    "trbdf2 (reference): top ambient on the bottom face": (
-        "actsim/thermal_reference.py", "        b[0] += g_b * ambient_bottom\n", "        b[0] += g_b * ambient_top\n"),
+    "readable heat steps: top ambient on the bottom face": (
+        "actsim/thermal_reference.py", "b[0] += self.g_b * self.ambient_bottom", "b[0] += self.g_b * self.ambient_top"),
     'h and ambient temperature swapped for the bottom face': (
         "actsim/solver.py", 'h_bottom=env[:, 1], ambient_bottom=env[:, 0],\n            h_top=env[:, 3], ambient_top=env[:, 2])',
         'h_bottom=env[:, 0], ambient_bottom=env[:, 1],\n            h_top=env[:, 3], ambient_top=env[:, 2])'),
