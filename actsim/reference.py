@@ -97,6 +97,26 @@ def run_reference(p):
     store(0, x, T, S, sched.seg_step[0])
     tol = sched.tolerance
 
+    one_way = not (np.any(photo.k_ref != 0) or np.any(photo.phi_b != 0))  # no photo or thermal back reaction
+    four_stage = bool(tol) and heat.mode == thermal.HEAT_OFF and not has_network and one_way
+
+    def take_four_stage_step(x, T, rise, S, e_start, st, dt):
+        """One-way reaction, no heat, no light network: the rates at four stages, RK4's weights, the exact update."""
+        q = sched.step_flux[st]
+
+        def update(rates, h):
+            return kinetics.exact_first_order_update(conversion=x, k_forward=rates[0], k_backward=rates[1], dt=h,
+                                                     reactive_fraction=photo.x_max)
+
+        kA = rate(light_at(x, q)[0], T)
+        kB = rate(light_at(update(kA, 0.5 * dt), q)[0], T)
+        kC = rate(light_at(update(kB, 0.5 * dt), q)[0], T)
+        kD = rate(light_at(update(kC, dt), q)[0], T)
+        xn = update([(a + 2 * b + 2 * c + d) / 6 for a, b, c, d in zip(kA, kB, kC, kD)], dt)
+        x_low = update([0.5 * (a + d) for a, d in zip(kA, kD)], dt)  # embedded trapezoid-rate step
+        err = float(np.max(np.abs(xn - x_low))) / (_kernels.LOCAL_TARGET * tol)
+        return xn, T, rise, S, e_start, np.zeros(3), (err, 0.0)
+
     def take_step(x, T, rise, S, e_start, st, dt):
         """One step from (x, T, rise, S); returns the new state, its heat ledger and the error norm / tol."""
         q = sched.step_flux[st]
@@ -173,10 +193,11 @@ def run_reference(p):
                     dt = seg_len - t
                 if dt < _kernels.MIN_STEP_FRACTION * seg_len:
                     raise ActsimSimulationError(f"step size collapsed at t = {sched.times[s] + t:g} s")
-                trial = take_step(x, T, rise, S, e_start, st, dt)
+                trial = (take_four_stage_step if four_stage else take_step)(x, T, rise, S, e_start, st, dt)
                 err, err_T = trial[-1]
                 factor = min(_kernels.STEP_GROW_MAX,
-                             _kernels.STEP_SAFETY * err ** -_kernels.STEP_EXPONENT if err > 0 else np.inf,
+                             _kernels.STEP_SAFETY * err ** -(_kernels.STEP_EXPONENT_FOUR if four_stage
+                                                             else _kernels.STEP_EXPONENT) if err > 0 else np.inf,
                              _kernels.STEP_SAFETY * err_T ** -_kernels.STEP_EXPONENT_HEAT if err_T > 0 else np.inf)
                 if err > 1.0 or err_T > 1.0:
                     n_rej += 1

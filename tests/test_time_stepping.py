@@ -10,6 +10,7 @@ global error scales like the tolerance itself (steps ~ tol^-1/2, global error ~ 
 
 from __future__ import annotations
 
+import dataclasses
 import math
 import re
 from pathlib import Path
@@ -31,7 +32,7 @@ from actsim.spectra import photon_flux
 SCENARIOS = Path(__file__).resolve().parents[1] / "scenarios"
 
 
-def test_global_error_follows_tolerance_bleaching_front(make_scenario):
+def _bleaching_errors(make_scenario, **kw):
     # Bleaching front, closed form (Wegscheider; Corbett, van Oosten and Warner, Phys. Rev. A 78 (2008) 013823):
     # on 400 cells the grid error is ~1e-8, so the error against the closed form is the time error.
     eps10, conc, h, cells = 1.2e4 * 0.1, 500.0, 20e-6, 400
@@ -40,19 +41,37 @@ def test_global_error_follows_tolerance_bleaching_front(make_scenario):
     zeta = alpha0 * (h - np.linspace(0, h, cells + 1))
     errs, steps = [], []
     for tol in (1e-3, 1e-4, 1e-5):
-        sc = make_scenario(cells=cells, tolerance=tol, duration="8 s", output="2 s", phi_f=0.3)
+        sc = make_scenario(cells=cells, tolerance=tol, duration="8 s", output="2 s", phi_f=0.3, **kw)
         ds = actsim.simulate(sc)
         err = max(float(np.max(np.abs((1 - ds.conversion.values[i]) - bleach_cell_average(zeta[1:], zeta[:-1], k0 * t))))
                   for i, t in enumerate(ds.time.values))
         errs.append(err)
         steps.append(ds.attrs["time_steps_accepted"])
-        print(f"tol {tol:.0e}: max conversion error {err:.2e} ({err / tol:.2f} x tol), {steps[-1]} steps")
+        print(f"tol {tol:.0e}: max conversion error {err:.2e} ({err / tol:.2g} x tol), {steps[-1]} steps")
+    return errs, steps
+
+
+def test_global_error_follows_tolerance_two_stage_step(make_scenario):
+    # A (negligible, 1e-9 1/s) thermal back rate selects the general two-stage step: its global error is
+    # proportional to the tolerance, steps grow like tol^-1/2 (second-order step, first-order error estimate).
+    errs, steps = _bleaching_errors(make_scenario, k_th="1e-9 1/s")
     for tol, err in zip((1e-3, 1e-4, 1e-5), errs):
-        assert err < tol  # measured 0.76 x tol
-    # proportional to the tolerance (a factor 10 per decade; measured 10.1 and 10.0)
-    assert 7 < errs[0] / errs[1] < 14 and 7 < errs[1] / errs[2] < 14
-    # steps grow like tol^-1/2 for a second-order step with a first-order error estimate: sqrt(10) = 3.16 per decade
-    assert 2.5 < steps[1] / steps[0] < 4.0 and 2.5 < steps[2] / steps[1] < 4.0
+        assert err < tol  # measured 0.38 x tol
+    assert 7 < errs[0] / errs[1] < 14 and 7 < errs[1] / errs[2] < 14  # measured 10.1, 10.0
+    assert 2.5 < steps[1] / steps[0] < 4.0 and 2.5 < steps[2] / steps[1] < 4.0  # sqrt(10) = 3.16
+
+
+def test_one_way_reaction_four_stage_step_is_fourth_order(make_scenario):
+    # Without back reaction the four-stage step is classical RK4 in ln(1 - x) (the exact update with RK4-averaged
+    # rates), so fourth order: errors fall like steps^-4. Its estimate (against the embedded trapezoid-rate step)
+    # is O(dt^3), so steps grow like tol^-1/3 and the error like tol^(4/3).
+    errs, steps = _bleaching_errors(make_scenario)
+    for tol, err in zip((1e-3, 1e-4, 1e-5), errs):
+        assert err < 0.05 * tol  # measured 4.3e-6, 2.4e-7, 1.2e-8
+    orders = [math.log(errs[i] / errs[i + 1]) / math.log(steps[i + 1] / steps[i]) for i in range(2)]
+    print("observed orders", orders)  # measured 3.98, 4.20
+    assert all(3.5 < p < 4.6 for p in orders)
+    assert all(1.8 < steps[i + 1] / steps[i] < 2.5 for i in range(2))  # 10^(1/3) = 2.15
 
 
 def test_global_error_follows_tolerance_with_heat():
@@ -125,6 +144,27 @@ def test_kernel_matches_reference_error_controlled():
         for v in ("conversion", "curvature", "modulus"):
             np.testing.assert_allclose(fast[v].values, slow[v].values, rtol=1e-10, atol=1e-12 * np.abs(slow[v].values).max(),
                                        err_msg=f"{name} {v}")
+
+
+def test_kernel_matches_reference_four_stage(make_scenario):
+    # one-way reaction with a substrate, two sources from both faces and a conversion cap: the readable loop
+    # averages per-molecule rates and caps the update, the kernel averages the equivalent capped rates
+    extra = """
+    [[sources]]
+    name = "blue"
+    wavelength = "405 nm"
+    irradiance = "30 mW/cm^2"
+    face = "bottom"
+    """
+    protocol = '[[protocol]]\nduration = "3 s"\nlight = ["lamp", "blue"]\n[[protocol]]\nduration = "2 s"\nlight = ["blue"]\n'
+    sc = make_scenario(tolerance=1e-5, cells=15, extra_sources=extra, protocol=protocol, output="0.5 s",
+                       substrate={"modulus": "3 GPa", "thickness": "30 um", "background": "40 1/cm", "cells": 5})
+    capped = dataclasses.replace(sc.layers[-1].material, reactive_fraction=0.6)
+    sc = sc.replace(layers=sc.layers[:-1] + (dataclasses.replace(sc.layers[-1], material=capped),))
+    fast, slow = actsim.simulate(sc), actsim.simulate(sc, engine="reference")
+    assert fast.attrs["time_steps_accepted"] == slow.attrs["time_steps_accepted"]
+    np.testing.assert_allclose(fast.conversion.values, slow.conversion.values, rtol=1e-12, atol=1e-14)
+    assert float(fast.conversion.max()) <= 0.6 + 1e-12 and float(fast.conversion.max()) > 0.3
 
 
 def test_steps_land_on_boundaries_and_outputs(make_scenario):
