@@ -121,6 +121,8 @@ MUTATIONS = {
         "actsim/_kernels.py", "err = err / (LOCAL_TARGET * tol)", "err = err / (4.0 * tol)"),
     "adaptive: last step overshoots the segment end": (
         "actsim/_kernels.py", "t = seg_len if last else t + dt", "t = seg_len if last else t + 1.01 * dt"),
+    "adaptive: four-stage rates averaged with equal weights": (
+        "actsim/_kernels.py", "kf_sum[i] = (kf_sum[i] + kf1[i]) / 6.0", "kf_sum[i] = (kf_sum[i] - kf0[i] + kf1[i]) / 4.0"),
 }
 
 
