@@ -23,8 +23,8 @@ Conventions
   [W/m^2]. A flux ``q0`` [W/m^2] prescribed on a face is, in this discretisation, *exactly* the same as
   a source ``q0/dz`` in the cell next to that face.
 * Face losses are positive when heat leaves the strip (strip to ambient), in W/m^2.
-* The numba kernels (``face_conductances``, ``theta_step``,
-  ``trbdf2_step``, ``face_heat_loss``, ``face_temperatures`` and the ``*_nb``
+* The numba kernels (``face_conductances``, the factored conduction steps,
+  :func:`trbdf2_error`, ``face_heat_loss``, ``face_temperatures`` and the ``*_nb``
   radiation coefficient) take float64 arrays and floats only, do not check their inputs and do not allocate, so
   the solver kernel can call them every step. The readable path (input checks, numpy/scipy steps,
   a steady solve, a marching driver) is in :mod:`actsim.thermal_reference`, for tests and scripts.
@@ -41,9 +41,9 @@ slowly: the profile rings. Measured here (``tests/test_thermal.py::test_crank_ni
 strip, the cell next to the face falls 8.6 K *below* the new ambient after the first step, the error
 there changes sign every step, and after ten steps the largest error is still 65 % of the step. A
 hot/cold step inside an insulated strip (measured while writing this module, not a test) gives an
-error of 44 % of the step at the jump that alternates in sign and is 33 % after ten steps. TR-BDF2 (:func:`trbdf2_step`) is second order and L-stable: in the same
+error of 44 % of the step at the jump that alternates in sign and is 33 % after ten steps. TR-BDF2 (:func:`actsim.thermal_reference.trbdf2_step`) is second order and L-stable: in the same
 runs it undershoots by 1.8 % of the step once and its error is below 0.2 % after four steps.
-Backward Euler (``theta_step`` with ``theta = 1``) is first order but obeys a discrete maximum
+Backward Euler (``thermal_reference.theta_step`` with ``theta = 1``) is first order but obeys a discrete maximum
 principle (its matrix is an M-matrix), so it never leaves the physical bounds. Use Crank–Nicolson for smooth forcing with ``dt`` of the order of the cell diffusion time,
 TR-BDF2 when light switches on and off in steps much longer than that.
 
@@ -71,9 +71,6 @@ __all__ = [
     "WORK_ROWS",
     "make_work",
     "face_conductances",
-    "theta_step",
-    "crank_nicolson_step",
-    "trbdf2_step",
     "face_heat_loss",
     "face_temperatures",
     "linearised_radiation_coefficient",
@@ -81,7 +78,7 @@ __all__ = [
 ]
 
 #: Rows of the scratch array every stepper accepts (``work.shape == (WORK_ROWS, n)``).
-#: ``theta_step`` uses rows 0-3, ``steady_temperature`` rows 0-4, ``trbdf2_step`` rows 0-5.
+#: ``thermal_reference.theta_step`` uses rows 0-3, ``steady_temperature`` rows 0-4, ``trbdf2_step`` rows 0-5.
 WORK_ROWS = 6
 
 #: TR-BDF2 stage fraction gamma = 2 - sqrt(2) (Hosea & Shampine 1996): both stages then share one matrix.
@@ -507,7 +504,7 @@ def conduction_theta_factored(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, Tb, T
 
 @njit(cache=True)
 def conduction_trbdf2_factored(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, Tb, Tt, fac, work, out):
-    """TR-BDF2 heat step (:func:`trbdf2_step`) with the shared matrix already factored for gamma dt / 2 (``fac``).
+    """TR-BDF2 heat step (:func:`actsim.thermal_reference.trbdf2_step`) with the shared matrix already factored for gamma dt / 2 (``fac``).
 
     Parameters
     ----------
@@ -627,196 +624,6 @@ def trbdf2_error(T, T_g, T_new, cap, dz, g_int, gb, gt, q_old, q_g, q_new, dt, T
         if abs(out[i]) > worst:
             worst = abs(out[i])
     return worst
-
-
-@njit(cache=True)
-def theta_step(T, dz, k, rho_c, q_old, q_new, dt, h_bottom, T_amb_bottom, h_top, T_amb_top, theta, work, out):
-    r"""One theta-method step of the cell heat balance (theta = 1/2 Crank–Nicolson, 1 backward Euler).
-
-    .. math::
-
-       (C + \theta\Delta t A)\,T^{n+1} = (C - (1-\theta)\Delta t A)\,T^n
-       + \Delta t\,[\theta b^{n+1} + (1-\theta) b^n],
-
-    with :math:`C = \mathrm{diag}(\rho c_i \Delta z_i)`, :math:`A` the conduction operator (interior
-    and face conductances) and :math:`b = q\,\Delta z + G_b T_{\infty,b} e_0 + G_t T_{\infty,t} e_{n-1}`.
-
-    Parameters
-    ----------
-    T : ndarray, shape (n,)
-        Cell temperatures at the start of the step [K].
-    dz : ndarray, shape (n,)
-        Cell widths [m].
-    k : ndarray, shape (n,)
-        Cell conductivities [W/(m K)].
-    rho_c : ndarray, shape (n,)
-        Volumetric heat capacities, density times specific heat [J/(m^3 K)].
-    q_old, q_new : ndarray, shape (n,)
-        Cell-averaged heat source at the start and at the end of the step [W/m^3].
-    dt : float
-        Time step [s].
-    h_bottom, h_top : float
-        Surface coefficients at z = 0 and z = h (0 insulated, inf fixed temperature) [W/(m^2 K)].
-    T_amb_bottom, T_amb_top : float
-        Ambient temperatures, constant over the step [K].
-    theta : float
-        Implicitness, 0.5 for Crank–Nicolson, 1 for backward Euler [1].
-    work : ndarray, shape (>= 4, n)
-        Scratch, overwritten [-].
-    out : ndarray, shape (n,)
-        Receives the temperatures at the end of the step; may be ``T`` itself [K].
-
-    Returns
-    -------
-    energy_bottom, energy_top : float
-        Heat lost through each face during the step,
-        :math:`\Delta t[\theta\,\dot q(T^{n+1}) + (1-\theta)\,\dot q(T^n)]` [J/m^2].
-
-    References
-    ----------
-    J. Crank and P. Nicolson, "A practical method for numerical evaluation of solutions of partial
-    differential equations of the heat-conduction type", Proc. Cambridge Philos. Soc. 43, 50-67, 1947.
-    S. V. Patankar, *Numerical Heat Transfer and Fluid Flow*, Hemisphere, 1980, ch. 4.
-    """
-    n = T.shape[0]
-    cap = np.empty(n)
-    g_int = np.empty(max(n - 1, 1))
-    for i in range(n):
-        cap[i] = rho_c[i] * dz[i]
-    interior_conductances(dz, k, g_int)
-    gb = face_conductance(h_bottom, dz[0], k[0])
-    gt = face_conductance(h_top, dz[n - 1], k[n - 1])
-    factor_conduction(cap, g_int, gb, gt, theta * dt, work[0:3])
-    return conduction_theta_factored(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, T_amb_bottom, T_amb_top, theta,
-                                     work[0:3], work[3], out)
-
-
-@njit(cache=True)
-def crank_nicolson_step(T, dz, k, rho_c, q_old, q_new, dt, h_bottom, T_amb_bottom, h_top, T_amb_top, work, out):
-    r"""One Crank–Nicolson step (theta = 1/2) of the cell heat balance, source averaged over the step.
-
-    .. math::
-
-       \left(C + \tfrac{\Delta t}{2}A\right)T^{n+1} = \left(C - \tfrac{\Delta t}{2}A\right)T^n
-       + \Delta t\left[\tfrac{q^n + q^{n+1}}{2}\Delta z + G_b T_{\infty,b} e_0 + G_t T_{\infty,t} e_{n-1}\right]
-
-    Parameters
-    ----------
-    T : ndarray, shape (n,)
-        Cell temperatures at the start of the step [K].
-    dz : ndarray, shape (n,)
-        Cell widths [m].
-    k : ndarray, shape (n,)
-        Cell conductivities [W/(m K)].
-    rho_c : ndarray, shape (n,)
-        Volumetric heat capacities [J/(m^3 K)].
-    q_old, q_new : ndarray, shape (n,)
-        Cell-averaged heat source at the start and end of the step [W/m^3].
-    dt : float
-        Time step [s].
-    h_bottom : float
-        Surface coefficient at z = 0 [W/(m^2 K)].
-    T_amb_bottom : float
-        Ambient temperature below [K].
-    h_top : float
-        Surface coefficient at z = h [W/(m^2 K)].
-    T_amb_top : float
-        Ambient temperature above [K].
-    work : ndarray, shape (>= 4, n)
-        Scratch, overwritten [-].
-    out : ndarray, shape (n,)
-        Receives the new temperatures; may be ``T`` itself [K].
-
-    Returns
-    -------
-    energy_bottom, energy_top : float
-        Heat lost through each face during the step (trapezoid rule) [J/m^2].
-
-    Notes
-    -----
-    Not L-stable: rings for ``dt >> rho_c dz^2/k`` with sharp data; see the module notes and
-    :func:`trbdf2_step`.
-
-    References
-    ----------
-    J. Crank and P. Nicolson, Proc. Cambridge Philos. Soc. 43, 50-67, 1947.
-    """
-    return theta_step(T, dz, k, rho_c, q_old, q_new, dt, h_bottom, T_amb_bottom, h_top, T_amb_top, 0.5, work, out)
-
-
-@njit(cache=True)
-def trbdf2_step(T, dz, k, rho_c, q_old, q_new, dt, h_bottom, T_amb_bottom, h_top, T_amb_top, work, out):
-    r"""One TR-BDF2 step: a trapezoid stage to :math:`t+\gamma\Delta t`, then BDF2 to :math:`t+\Delta t`.
-
-    .. math::
-
-       C\,T^{\gamma} = C\,T^n + \tfrac{\gamma\Delta t}{2}\,[F(T^n, q^n) + F(T^\gamma, q^\gamma)]
-
-       C\,T^{n+1} - d\,\Delta t\,F(T^{n+1}, q^{n+1}) =
-       C\left[\frac{T^\gamma}{\gamma(2-\gamma)} - \frac{(1-\gamma)^2}{\gamma(2-\gamma)}T^n\right]
-
-    with :math:`\gamma = 2-\sqrt2`, :math:`d = (1-\gamma)/(2-\gamma) = \gamma/2`,
-    :math:`F(T, q) = -AT + b(q)` and the source interpolated linearly,
-    :math:`q^\gamma = (1-\gamma)q^n + \gamma q^{n+1}`.
-
-    Parameters
-    ----------
-    T : ndarray, shape (n,)
-        Cell temperatures at the start of the step [K].
-    dz : ndarray, shape (n,)
-        Cell widths [m].
-    k : ndarray, shape (n,)
-        Cell conductivities [W/(m K)].
-    rho_c : ndarray, shape (n,)
-        Volumetric heat capacities [J/(m^3 K)].
-    q_old, q_new : ndarray, shape (n,)
-        Cell-averaged heat source at the start and end of the step [W/m^3].
-    dt : float
-        Time step [s].
-    h_bottom : float
-        Surface coefficient at z = 0 [W/(m^2 K)].
-    T_amb_bottom : float
-        Ambient temperature below [K].
-    h_top : float
-        Surface coefficient at z = h [W/(m^2 K)].
-    T_amb_top : float
-        Ambient temperature above [K].
-    work : ndarray, shape (>= 6, n)
-        Scratch, overwritten [-].
-    out : ndarray, shape (n,)
-        Receives the new temperatures; may be ``T`` itself [K].
-
-    Returns
-    -------
-    energy_bottom, energy_top : float
-        Heat lost through each face during the step, with the scheme's own quadrature weights
-        :math:`\Delta t\,[w\,\dot q(T^n) + w\,\dot q(T^\gamma) + d\,\dot q(T^{n+1})]`,
-        :math:`w = 1/(2(2-\gamma))`; with these the energy balance closes to round-off, and the
-        absorbed energy is exactly the trapezoid :math:`\Delta t\,\Delta z\,(q^n + q^{n+1})/2` [J/m^2].
-
-    Notes
-    -----
-    Second order and L-stable: modes with :math:`\lambda\Delta t \gg 1` are damped in one step, so no
-    ringing after sudden changes. Costs two tridiagonal solves per step.
-
-    References
-    ----------
-    R. E. Bank, W. M. Coughran, W. Fichtner, E. H. Grosse, D. J. Rose and R. K. Smith, "Transient
-    simulation of silicon devices and circuits", IEEE Trans. Computer-Aided Design 4(4), 436-451, 1985.
-    M. E. Hosea and L. F. Shampine, "Analysis and implementation of TR-BDF2", Applied Numerical
-    Mathematics 20, 21-37, 1996.
-    """
-    n = T.shape[0]
-    cap = np.empty(n)
-    g_int = np.empty(max(n - 1, 1))
-    for i in range(n):
-        cap[i] = rho_c[i] * dz[i]
-    interior_conductances(dz, k, g_int)
-    gb = face_conductance(h_bottom, dz[0], k[0])
-    gt = face_conductance(h_top, dz[n - 1], k[n - 1])
-    factor_conduction(cap, g_int, gb, gt, 0.5 * TRBDF2_GAMMA * dt, work[0:3])
-    return conduction_trbdf2_factored(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, T_amb_bottom, T_amb_top,
-                                      work[0:3], work, out)
 
 
 @njit(cache=True)

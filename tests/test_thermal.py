@@ -48,7 +48,7 @@ def _two_layer():
 
 
 def _be_step(T, dz, k, rc, q0, q1, dt, hb, tb, ht, tt, work, out):
-    return th.theta_step(T, dz, k, rc, q0, q1, dt, hb, tb, ht, tt, 1.0, work, out)
+    return thr.theta_step(T, dz, k, rc, q0, q1, dt, hb, tb, ht, tt, 1.0, work, out)
 
 
 def _run(step, T0, dz, k, rc, q_of_t, dt, nsteps, hb, tb, ht, tt):
@@ -114,7 +114,7 @@ def test_numba_step_matches_readable_reference(theta):
     q1 = rng.uniform(0, 1e7, dz.size)
     work = th.make_work(dz.size)
     out = np.empty(dz.size)
-    th.theta_step(T, dz, k, rc, q0, q1, 0.01, 8.0, 295.0, 15.0, 301.0, theta, work, out)
+    thr.theta_step(T, dz, k, rc, q0, q1, 0.01, 8.0, 295.0, 15.0, 301.0, theta, work, out)
     ref = thr.theta_step_reference(
         temperature=T, dz=dz, conductivity=k, volumetric_heat_capacity=rc, source_old=q0, source_new=q1,
         dt=0.01, h_bottom=8.0, ambient_bottom=295.0, h_top=15.0, ambient_top=301.0, theta=theta,
@@ -122,9 +122,9 @@ def test_numba_step_matches_readable_reference(theta):
     np.testing.assert_allclose(out, ref, rtol=1e-13)
     if theta == 0.5:
         out_cn = np.empty(dz.size)
-        th.crank_nicolson_step(T, dz, k, rc, q0, q1, 0.01, 8.0, 295.0, 15.0, 301.0, work, out_cn)
+        thr.crank_nicolson_step(T, dz, k, rc, q0, q1, 0.01, 8.0, 295.0, 15.0, 301.0, work, out_cn)
         np.testing.assert_array_equal(out_cn, out)
-        th.crank_nicolson_step(T, dz, k, rc, q0, q1, 0.01, 8.0, 295.0, 15.0, 301.0, work, T)  # out may alias T
+        thr.crank_nicolson_step(T, dz, k, rc, q0, q1, 0.01, 8.0, 295.0, 15.0, 301.0, work, T)  # out may alias T
         np.testing.assert_array_equal(T, out)
 
 
@@ -137,9 +137,9 @@ def _kernel_loop(T, dz, k, rc, q, dt, nsteps, hb, tb, ht, tt, use_trbdf2):
     lost = 0.0
     for _ in range(nsteps):
         if use_trbdf2:
-            eb, et = th.trbdf2_step(T, dz, k, rc, q, q, dt, hb, tb, ht, tt, work, out)
+            eb, et = thr.trbdf2_step(T, dz, k, rc, q, q, dt, hb, tb, ht, tt, work, out)
         else:
-            eb, et = th.crank_nicolson_step(T, dz, k, rc, q, q, dt, hb, tb, ht, tt, work, out)
+            eb, et = thr.crank_nicolson_step(T, dz, k, rc, q, q, dt, hb, tb, ht, tt, work, out)
         lost += eb + et
         T[:] = out
     lb, lt = th.face_heat_loss(T, dz, k, hb, tb, ht, tt)
@@ -153,7 +153,7 @@ def test_kernels_callable_from_njit(use_trbdf2):
     q = np.full(dz.size, 2e6)
     T = np.full(dz.size, 300.0)
     lost, _, _ = _kernel_loop(T, dz, k, rc, q, 0.01, 50, 5.0, 300.0, 10.0, 300.0, use_trbdf2)
-    step = th.trbdf2_step if use_trbdf2 else th.crank_nicolson_step
+    step = thr.trbdf2_step if use_trbdf2 else thr.crank_nicolson_step
     T_py = _run(step, np.full(dz.size, 300.0), dz, k, rc, lambda t: q, 0.01, 50, 5.0, 300.0, 10.0, 300.0)
     np.testing.assert_allclose(T, T_py, rtol=1e-14)
     assert lost > 0
@@ -267,7 +267,7 @@ def test_steady_beer_lambert_second_order_in_space():
     q = _beer_lambert_cells(z, alpha=alpha, irradiance=P0, thickness=thickness)
     T_ss = np.empty(n)
     thr.steady_temperature(dz, np.full(n, K_POLY), q, h_b, Tb, h_t, Tt, th.make_work(n), T_ss)
-    T_end = _run(th.crank_nicolson_step, np.full(n, 297.0), dz, np.full(n, K_POLY), np.full(n, RC_POLY),
+    T_end = _run(thr.crank_nicolson_step, np.full(n, 297.0), dz, np.full(n, K_POLY), np.full(n, RC_POLY),
                  lambda t: q, 2e-3, 2000, h_b, Tb, h_t, Tt)  # 4 s = 35 time constants rho c h/(h_b+h_t)
     np.testing.assert_allclose(T_end, T_ss, rtol=0, atol=1e-9)
 
@@ -416,7 +416,7 @@ def _time_convergence(step, dts, dt_ref):
 
 @pytest.mark.parametrize(
     "name, step, order",
-    [("crank-nicolson", th.crank_nicolson_step, 2.0), ("tr-bdf2", th.trbdf2_step, 2.0), ("backward-euler", _be_step, 1.0)],
+    [("crank-nicolson", thr.crank_nicolson_step, 2.0), ("tr-bdf2", thr.trbdf2_step, 2.0), ("backward-euler", _be_step, 1.0)],
 )
 def test_order_in_time(name, step, order):
     # [CN] and [HS]: both schemes are second order in time; backward Euler first order (textbook result).
@@ -450,9 +450,9 @@ def test_crank_nicolson_rings_trbdf2_does_not():
             out.append(T.copy())
         return np.array(out)
 
-    ref = np.array([_run(th.trbdf2_step, T0, dz, k, rc, zero, dt / 200, 200 * (j + 1), 0.0, 300.0, np.inf, 300.0)
+    ref = np.array([_run(thr.trbdf2_step, T0, dz, k, rc, zero, dt / 200, 200 * (j + 1), 0.0, 300.0, np.inf, 300.0)
                     for j in range(10)])
-    cn, tb, be = (history(s, dt, 10) for s in (th.crank_nicolson_step, th.trbdf2_step, _be_step))
+    cn, tb, be = (history(s, dt, 10) for s in (thr.crank_nicolson_step, thr.trbdf2_step, _be_step))
     err_cn = np.abs(cn - ref).max(axis=1) / 10.0
     err_tb = np.abs(tb - ref).max(axis=1) / 10.0
     print(f"ringing: CN undershoot below ambient after step 1: {300 - cn[0].min():.2f} K; CN max error per step"
@@ -553,7 +553,7 @@ def test_trbdf2_numba_matches_readable_reference(seed, dt, hb, ht):
     q1 = rng.uniform(0, 1e8, dz.size)
     work = th.make_work(dz.size)
     out = np.empty(dz.size)
-    eb, et = th.trbdf2_step(T, dz, k, rc, q0, q1, dt, hb, 295.0, ht, 301.0, work, out)
+    eb, et = thr.trbdf2_step(T, dz, k, rc, q0, q1, dt, hb, 295.0, ht, 301.0, work, out)
     ref, (rb, rt) = thr.trbdf2_step_reference(
         temperature=T, dz=dz, conductivity=k, volumetric_heat_capacity=rc, source_old=q0, source_new=q1, dt=dt,
         h_bottom=hb, ambient_bottom=295.0, h_top=ht, ambient_top=301.0, return_losses=True,
@@ -621,7 +621,7 @@ def test_trbdf2_second_order_in_time_against_modal_solution():
     counts = [20, 40, 80, 160]
     for m in counts:
         dt = t_end / m
-        errs["numba"].append(np.max(np.abs(_run(th.trbdf2_step, T0, dz, k, rc, q_of_t, dt, m, hb, tb, ht, tt) - exact)))
+        errs["numba"].append(np.max(np.abs(_run(thr.trbdf2_step, T0, dz, k, rc, q_of_t, dt, m, hb, tb, ht, tt) - exact)))
         T = T0.copy()
         for j in range(m):
             T = thr.trbdf2_step_reference(
