@@ -103,7 +103,8 @@ MUTATIONS = {
     'heat source not divided by the cell width': (
         'actsim/thermal.py', 'out[i] = heat_frac[i] * p / dz[i]', 'out[i] = heat_frac[i] * p'),
     'corrector drops the end-of-step back rate': (
-        'actsim/_kernels.py', 'kb1[i] = 0.5 * (kb0[i] + kb1[i])', 'kb1[i] = kb0[i]'),
+        'actsim/_kernels.py', 'kb1[i] = 0.5 * (kb0[i] + kb1[i])\n                exact_update(x, kf1, kb1, dt, xp)',
+        'kb1[i] = kb0[i]\n                exact_update(x, kf1, kb1, dt, xp)'),
     'tip coordinates swapped': (
         'actsim/solver.py', 'x_tip, y_tip = mechanics.arc_tip_position(', 'y_tip, x_tip = mechanics.arc_tip_position('),
     'one time step too few per segment (off by one)': (
