@@ -607,6 +607,18 @@ def steady_temperature(dz, k, q, h_bottom, T_amb_bottom, h_top, T_amb_top, work,
 
 
 @njit(cache=True)
+def _cell_conductances(dz, k, rho_c, h_bottom, h_top):
+    # rho c dz of each cell [J/(m^2 K)], interior and face conductances [W/(m^2 K)] of the array-level steps
+    n = dz.shape[0]
+    cap = np.empty(n)
+    g_int = np.empty(max(n - 1, 1))
+    for i in range(n):
+        cap[i] = rho_c[i] * dz[i]
+    interior_conductances(dz, k, g_int)
+    return cap, g_int, face_conductance(h_bottom, dz[0], k[0]), face_conductance(h_top, dz[n - 1], k[n - 1])
+
+
+@njit(cache=True)
 def theta_step(T, dz, k, rho_c, q_old, q_new, dt, h_bottom, T_amb_bottom, h_top, T_amb_top, theta, work, out):
     r"""One theta-method step of the cell heat balance (theta = 1/2 Crank–Nicolson, 1 backward Euler).
 
@@ -655,14 +667,7 @@ def theta_step(T, dz, k, rho_c, q_old, q_new, dt, h_bottom, T_amb_bottom, h_top,
     differential equations of the heat-conduction type", Proc. Cambridge Philos. Soc. 43, 50-67, 1947.
     S. V. Patankar, *Numerical Heat Transfer and Fluid Flow*, Hemisphere, 1980, ch. 4.
     """
-    n = T.shape[0]
-    cap = np.empty(n)
-    g_int = np.empty(max(n - 1, 1))
-    for i in range(n):
-        cap[i] = rho_c[i] * dz[i]
-    interior_conductances(dz, k, g_int)
-    gb = face_conductance(h_bottom, dz[0], k[0])
-    gt = face_conductance(h_top, dz[n - 1], k[n - 1])
+    cap, g_int, gb, gt = _cell_conductances(dz, k, rho_c, h_bottom, h_top)
     factor_conduction(cap, g_int, gb, gt, theta * dt, work[0:3])
     return conduction_theta_factored(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, T_amb_bottom, T_amb_top, theta,
                                      work[0:3], work[3], out)
@@ -783,14 +788,7 @@ def trbdf2_step(T, dz, k, rho_c, q_old, q_new, dt, h_bottom, T_amb_bottom, h_top
     M. E. Hosea and L. F. Shampine, "Analysis and implementation of TR-BDF2", Applied Numerical
     Mathematics 20, 21-37, 1996.
     """
-    n = T.shape[0]
-    cap = np.empty(n)
-    g_int = np.empty(max(n - 1, 1))
-    for i in range(n):
-        cap[i] = rho_c[i] * dz[i]
-    interior_conductances(dz, k, g_int)
-    gb = face_conductance(h_bottom, dz[0], k[0])
-    gt = face_conductance(h_top, dz[n - 1], k[n - 1])
+    cap, g_int, gb, gt = _cell_conductances(dz, k, rho_c, h_bottom, h_top)
     factor_conduction(cap, g_int, gb, gt, 0.5 * TRBDF2_GAMMA * dt, work[0:3])
     return conduction_trbdf2_factored(T, cap, dz, g_int, gb, gt, q_old, q_new, dt, T_amb_bottom, T_amb_top,
                                       work[0:3], work, out)
