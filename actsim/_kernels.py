@@ -296,6 +296,10 @@ def run_design(grid, light, photo, heat, mat, sched, out):
     mech[0], mech[1], mech[2], mech[3] = r[0], r[1], r[2], r[3]
     tr = light_pass(x, dz, light, q, mf, ab)
     record(0, x, T, S, E, Ee, mech, dz, mf, ab, light.beam_emol, q, light.entry, tr, out)
+    # mf and ab hold the light at the current x under protocol step `light_of` (-1: not current). The light at
+    # the end of a segment, computed for the output record, is the first stage of the next step when the light
+    # has not switched (first same as last): the pass is skipped, the numbers are the same.
+    light_of = s0
 
     dt_next = 0.0  # proposal of the error-controlled march (0: none yet)
     for s in range(sched.seg_step.size):
@@ -314,7 +318,9 @@ def run_design(grid, light, photo, heat, mat, sched, out):
         if adaptive and (s == 0 or st != sched.seg_step[s - 1]):
             # a new protocol step (light, ambient or hold switched): start from a step the fastest
             # photoreaction allows, sqrt(tol) / max(k_f + k_b), or the previous step if smaller
-            light_pass(x, dz, light, q, mf, ab)
+            if light_of != st:
+                light_pass(x, dz, light, q, mf, ab)
+                light_of = st
             rates(mf, light, photo, T, T_ref, kf0, kb0)
             k_max = 0.0
             for i in range(n_cell):
@@ -357,9 +363,11 @@ def run_design(grid, light, photo, heat, mat, sched, out):
             if four_stage:
                 # error-controlled, one-way reaction, no heat, no light network: the rates at four stages averaged
                 # with RK4's weights in the exact update -- classical RK4 in ln(x_max - x), so fourth order
-                light_pass(x, dz, light, q, mf, ab)
+                if light_of != st:
+                    light_pass(x, dz, light, q, mf, ab)
                 rates(mf, light, photo, T, T_ref, kf0, kb0)
                 exact_update(x, kf0, kb0, 0.5 * dt, x_pred)
+                light_of = -1
                 light_pass(x_pred, dz, light, q, mf, ab)
                 rates(mf, light, photo, T, T_ref, kf1, kb1)
                 for i in range(n_cell):
@@ -390,8 +398,10 @@ def run_design(grid, light, photo, heat, mat, sched, out):
                 err_T = 0.0
             else:
                 # light and rates at the start of the step
-                light_pass(x, dz, light, q, mf, ab)
+                if light_of != st:
+                    light_pass(x, dz, light, q, mf, ab)
                 rates(mf, light, photo, T, T_ref, kf0, kb0)
+                light_of = -1
                 if heat_mode != HEAT_OFF:
                     heat_source(ab, light.beam_emol, dz, heat.heat_frac, q0)
                 exact_update(x, kf0, kb0, dt, x_pred)
@@ -491,6 +501,7 @@ def run_design(grid, light, photo, heat, mat, sched, out):
         r = section_solve(z_edges, E, Ee, hold, value)
         mech[0], mech[1], mech[2], mech[3] = r[0], r[1], r[2], r[3]
         tr = light_pass(x, dz, light, q, mf, ab)
+        light_of = st
         record(s + 1, x, T, S, E, Ee, mech, dz, mf, ab, light.beam_emol, q, light.entry, tr, out)
         out.energy[s + 1, 0] = e_in
         out.energy[s + 1, 1] = e_lb

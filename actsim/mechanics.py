@@ -27,6 +27,8 @@ References
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 from numba import njit
 
@@ -202,6 +204,115 @@ def arc_tip_position(*, curvature, free_length):
 
     x, y, _ = circular_arc_tip(curvature=np.asarray(curvature, dtype=float), length=free_length)
     return np.asarray(x), np.asarray(y)
+
+
+@njit(cache=True, error_model="numpy")
+def section_series(z_edges, z_centres, modulus, modulus_eigenstrain, strain_bottom, curvature, eigenstrain, stress):
+    """Eigenstrain, stress and the free strip's curvature and bending stiffness at every output time, in one pass.
+
+    The fused form of :func:`free_strip_response` and :func:`stress_profile` for
+    (n_time, n_cell) results: per row the eigenstrain :math:`e^* = (E e^*)/E`, the
+    section integrals (exact per cell), and the stress under the row's actual strain
+    state,
+
+    .. math:: \\kappa_\\mathrm{free} = \\frac{B N^* - A M^*}{A D - B^2},\\qquad
+       \\bar D = D - \\frac{B^2}{A},\\qquad \\sigma = E\\,(e_0 - \\kappa z - e^*).
+
+    Parameters
+    ----------
+    z_edges : numpy.ndarray, shape (n_cell + 1,)
+        Cell faces from the bottom face [m].
+    z_centres : numpy.ndarray, shape (n_cell,)
+        Cell centres [m].
+    modulus : numpy.ndarray, shape (n_time, n_cell)
+        Section modulus [Pa].
+    modulus_eigenstrain : numpy.ndarray, shape (n_time, n_cell)
+        Modulus times eigenstrain, as the time loop stores it [Pa].
+    strain_bottom, curvature : numpy.ndarray, shape (n_time,)
+        The strip's actual strain at z = 0 [1] and curvature [m-1] (free or held).
+    eigenstrain, stress : numpy.ndarray, shape (n_time, n_cell)
+        Outputs [1], [Pa]; ``eigenstrain`` may be ``modulus_eigenstrain`` itself (overwritten row by row).
+
+    Returns
+    -------
+    (free_curvature, bending_stiffness, finite) : (numpy.ndarray, numpy.ndarray, bool)
+        Curvature of the free strip [m-1], bending stiffness about the neutral axis per unit
+        width [N m], and whether every curvature and stress is finite.
+
+    References
+    ----------
+    .. [1] Timoshenko, S. "Analysis of bi-metal thermostats." J. Opt. Soc. Am. 11 (1925) 233-255.
+    .. [2] Hsueh, C. H. "Thermal stresses in elastic multilayer systems." Thin Solid Films 418 (2002) 182-188.
+    """
+    n_time, n_cell = modulus.shape
+    w1 = np.empty(n_cell)
+    w2 = np.empty(n_cell)
+    w3 = np.empty(n_cell)
+    for i in range(n_cell):
+        z0, z1 = z_edges[i], z_edges[i + 1]
+        w1[i] = z1 - z0
+        w2[i] = 0.5 * (z1**2 - z0**2)
+        w3[i] = (z1**3 - z0**3) / 3.0
+    kappa_free = np.empty(n_time)
+    stiffness = np.empty(n_time)
+    finite = True
+    for t in range(n_time):
+        a = b = d = n_star = m_star = 0.0
+        e0, kappa = strain_bottom[t], curvature[t]
+        for i in range(n_cell):
+            e = modulus[t, i]
+            es = modulus_eigenstrain[t, i] / e
+            eigenstrain[t, i] = es
+            ee = e * es
+            a += e * w1[i]
+            b += e * w2[i]
+            d += e * w3[i]
+            n_star += ee * w1[i]
+            m_star += ee * w2[i]
+            s = e * ((e0 - kappa * z_centres[i]) - es)
+            stress[t, i] = s
+            finite = finite and math.isfinite(s)
+        det = a * d - b * b
+        kappa_free[t] = (b * n_star - a * m_star) / det
+        stiffness[t] = det / a
+        finite = finite and math.isfinite(kappa) and math.isfinite(kappa_free[t])
+    return kappa_free, stiffness, finite
+
+
+@njit(cache=True)
+def arc_tip_series(curvature, free_length):
+    """Tip of a uniformly curved cantilever at every output time (the loop form of :func:`arc_tip_position`).
+
+    .. math:: x = L\\,\\mathrm{sinc}\\,\\theta,\\qquad y = L\\,\\frac{\\theta}{2}\\,\\mathrm{sinc}^2\\frac{\\theta}{2},
+       \\qquad \\theta = \\kappa L,\\quad \\mathrm{sinc}\\,u = \\frac{\\sin u}{u}
+
+    Parameters
+    ----------
+    curvature : numpy.ndarray, shape (n_time,)
+        [m-1].
+    free_length : float
+        [m].
+
+    Returns
+    -------
+    (x_tip, y_tip) : numpy.ndarray, shape (n_time,)
+        [m].
+
+    References
+    ----------
+    .. [1] Timoshenko, S. P. and Gere, J. M., *Theory of Elastic Stability*, 2nd ed., McGraw-Hill, 1961.
+    """
+    n = curvature.size
+    x = np.empty(n)
+    y = np.empty(n)
+    for t in range(n):
+        th = curvature[t] * free_length
+        half = 0.5 * th
+        s1 = 1.0 if th == 0.0 else math.sin(th) / th
+        s2 = 1.0 if half == 0.0 else math.sin(half) / half
+        x[t] = free_length * s1
+        y[t] = free_length * half * s2 * s2
+    return x, y
 
 
 def held_strip_response(*, z_edges, modulus, eigenstrain, hold, value=0.0):

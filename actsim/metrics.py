@@ -8,6 +8,7 @@ the time to an angle never reached, is ``None``).
 from __future__ import annotations
 
 import numpy as np
+from numba import njit
 
 
 def first_crossing_times(times, values, levels):
@@ -99,36 +100,53 @@ def conversion_front_depth(*, z, conversion, thickness, from_top=True, active=No
     else:
         deepest = float(depth.max())
     order = np.argsort(depth)
-    d = depth[order]
-    cols = cols[order]
-    if np.array_equal(cols, np.arange(x.shape[1])):
-        cols = slice(None)  # every cell, already sorted by depth: rows are read as they are, without a copy
-    out = np.zeros(x.shape[0])
-    step = max(1, _FRONT_CHUNK // d.size)
-    for start in range(0, x.shape[0], step):  # chunks of rows bound the temporaries
-        out[start:start + step] = _front_rows(x[start:start + step][:, cols], d, deepest)
-    return out
+    return front_depth_rows(x, cols[order].astype(np.int64), depth[order], deepest, 0.5)
 
 
-#: Elements of (time, cell) temporaries :func:`conversion_front_depth` holds at once.
-_FRONT_CHUNK = 1 << 16
+@njit(cache=True)
+def front_depth_rows(x, cols, depth, deepest, fraction):
+    """Front depth of each row of ``x`` (n_row, n_cell): the first crossing of ``fraction`` x its maximum.
 
+    Parameters
+    ----------
+    x : numpy.ndarray, shape (n_row, n_cell)
+        Conversion [1].
+    cols : numpy.ndarray of int, shape (m,)
+        The cells sought, in order of increasing depth.
+    depth : numpy.ndarray, shape (m,)
+        Their depths below the lit face [m], increasing.
+    deepest : float
+        Depth reported when nothing past the peak falls below the level [m].
+    fraction : float
+        The level as a fraction of the row's maximum [1].
 
-def _front_rows(rows, d, deepest):
-    """Front depth of each row of ``rows`` (n_row, n_cell), cells sorted by depth ``d`` [m]."""
-    n_row, n_cell = rows.shape
+    Returns
+    -------
+    numpy.ndarray, shape (n_row,)
+        Depth of the level past the deepest-first maximum, linear between cells [m]; 0 where the row's
+        maximum is at most 1e-12.
+    """
+    n_row = x.shape[0]
+    m = cols.size
     out = np.zeros(n_row)
-    xmax = rows.max(axis=1)
-    level = 0.5 * xmax
-    imax = np.argmax(rows, axis=1)
-    below = (rows < level[:, None]) & (np.arange(n_cell) >= imax[:, None])  # below half, deeper than the peak
-    has_front = below.any(axis=1)
-    converted = xmax > 1e-12
-    out[converted & ~has_front] = deepest
-    r = np.nonzero(converted & has_front)[0]
-    j = np.argmax(below[r], axis=1)  # first cell below half the maximum past the peak (j > imax >= 0)
-    x0, x1, lv = rows[r, j - 1], rows[r, j], level[r]
-    out[r] = d[j - 1] + (x0 - lv) * (d[j] - d[j - 1]) / (x0 - x1)
+    for r in range(n_row):
+        xmax = x[r, cols[0]]
+        imax = 0
+        for k in range(1, m):
+            v = x[r, cols[k]]
+            if v > xmax:
+                xmax = v
+                imax = k
+        if not xmax > 1e-12:
+            continue
+        level = fraction * xmax
+        out[r] = deepest
+        for k in range(imax + 1, m):
+            v = x[r, cols[k]]
+            if v < level:
+                x0 = x[r, cols[k - 1]]
+                out[r] = depth[k - 1] + (x0 - level) * (depth[k] - depth[k - 1]) / (x0 - v)
+                break
     return out
 
 

@@ -82,7 +82,7 @@ def segments(*, durations, output_interval, time_step):
     n_out = int(math.floor(total / output_interval + 1e-9))
     outs = np.arange(n_out + 1) * output_interval
     outs = outs[outs < total - tol]
-    j = np.clip(np.searchsorted(boundaries, outs), 1, boundaries.size - 1)
+    j = np.minimum(np.maximum(np.searchsorted(boundaries, outs), 1), boundaries.size - 1)
     near = np.minimum(np.abs(outs - boundaries[j - 1]), np.abs(outs - boundaries[j])) <= tol
     marks = np.sort(np.concatenate([boundaries, outs[~near]]))
     length = np.diff(marks)

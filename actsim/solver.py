@@ -250,36 +250,33 @@ def _assemble(scenario: Scenario, p: Problem, raw: dict, *, reuse: bool) -> Solu
                     heat_absorbed=raw["energy"][:, 0], heat_lost_bottom=raw["energy"][:, 1],
                     heat_lost_top=raw["energy"][:, 2])
     Ee = raw.pop("Ee")
-    e_star = np.divide(Ee, E, out=Ee if reuse else None)
-    del Ee
+    e_star = Ee if reuse else np.empty_like(Ee)
     e0, kappa, n_hold, m_hold = mech.T
-    _, kappa_free, d_eff = mechanics.free_strip_response(z_edges=z_edges, modulus=E, eigenstrain=e_star)
     z_c = cell_centres(z_edges)
     stress = np.empty_like(E)
-    for i in range(0, times.size, rows):
-        r = slice(i, i + rows)
-        stress[r] = mechanics.stress_profile(z_centres=z_c, modulus=E[r], eigenstrain=e_star[r], strain_bottom=e0[r],
-                                             curvature=kappa[r])
-    if not (np.all(np.isfinite(kappa)) and np.all(np.isfinite(stress))):
+    kappa_free, d_eff, finite = mechanics.section_series(z_edges, z_c, E, Ee, np.ascontiguousarray(e0),
+                                                          np.ascontiguousarray(kappa), e_star, stress)
+    del Ee
+    if not finite:
         raise ActsimSimulationError(
             f"non-finite {'curvature' if not np.all(np.isfinite(kappa)) else 'stress'} in the result; nothing was written")
-    x_tip, y_tip = mechanics.arc_tip_position(curvature=kappa, free_length=L)
+    x_tip, y_tip = mechanics.arc_tip_series(np.ascontiguousarray(kappa), L)
     m_block = mechanics.blocked_moment(bending_stiffness=d_eff, curvature=kappa_free, width=b)
     f_block = mechanics.blocked_tip_force(bending_stiffness=d_eff, curvature=kappa_free, width=b, free_length=L)
     lit_from_top = not scenario.sources or scenario.sources[0].face == "top"
     front = None
-    if np.any(p.light.c0 > 0):
-        front = conversion_front_depth(z=z_c, conversion=x, thickness=h, from_top=lit_from_top,
-                                       active=p.light.c0 > 0, dz=dz)
+    active = p.light.c0 > 0
+    if active.any():
+        front = conversion_front_depth(z=z_c, conversion=x, thickness=h, from_top=lit_from_top, active=active, dz=dz)
     network = {}
     if has_network:
         network = dict(network_density=np.where(network_on, x, 0.0), network_strain=raw["S"])
     holds = [step.hold for step in scenario.protocol]
-    width = max(len(holds[i]) for i in np.unique(step_of_time))  # the string width of the holds that occur
+    width = max(len(holds[i]) for i in set(step_of_time.tolist()))  # the string width of the holds that occur
     return Solution(
         time=times,
         z=z_c,
-        layer=np.array([scenario.layers[i].name for i in p.grid.layer_index]),
+        layer=np.array([layer.name for layer in scenario.layers])[p.grid.layer_index],
         irradiance=raw["irr"],
         conversion=x,
         eigenstrain=e_star,

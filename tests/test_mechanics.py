@@ -146,3 +146,64 @@ def test_arc_tip_position():
             assert yi == pytest.approx((1 - math.cos(ki * L)) / ki, rel=1e-12)
     assert x[0] == L and y[0] == 0
     assert y[1] == pytest.approx(1e-3 * L**2 / 2, rel=1e-6)
+
+
+# ---------------------------------------------------------------------------------------------
+# The fused per-time forms used when a result is assembled
+# ---------------------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize("m, n", [(1.0, 1.0), (0.5, 3.0), (2.0, 0.2)])
+def test_section_series_reproduces_timoshenko(m, n):
+    # Timoshenko (1925), J. Opt. Soc. Am. 11, 233, eq. for a bimetal strip with thickness ratio m = h1/h2 and
+    # modulus ratio n = E1/E2 under a mismatch strain de: kappa = 6 de (1 + m)^2 / (h (3 (1 + m)^2 + (1 + m n)
+    # (m^2 + 1/(m n)))); here the bottom layer (h1, E1) carries the eigenstrain de
+    h, de, e2 = 100e-6, 1e-3, 1e9
+    h1, h2 = h * m / (1 + m), h / (1 + m)
+    cells = 400
+    z = np.concatenate([np.linspace(0, h1, cells + 1), np.linspace(h1, h, cells + 1)[1:]])
+    modulus = np.where(np.arange(2 * cells) < cells, n * e2, e2)[None, :].repeat(3, axis=0)
+    eig = np.where(np.arange(2 * cells) < cells, de, 0.0)[None, :] * np.array([[0.0], [1.0], [-2.0]])
+    zc = 0.5 * (z[:-1] + z[1:])
+    e_star, stress = np.empty_like(eig), np.empty_like(eig)
+    e0, kap, _ = mechanics.free_strip_response(z_edges=z, modulus=modulus, eigenstrain=eig)
+    kappa_free, stiff, finite = mechanics.section_series(z, zc, modulus, modulus * eig, e0, kap, e_star, stress)
+    expect = 6 * de * (1 + m) ** 2 / (h * (3 * (1 + m) ** 2 + (1 + m * n) * (m**2 + 1 / (m * n))))
+    # an expanding bottom layer bends the strip toward +z: kappa > 0 (DESIGN.md sign convention)
+    assert finite
+    np.testing.assert_allclose(kappa_free, np.array([0.0, 1.0, -2.0]) * expect, rtol=1e-9, atol=1e-9)
+    # the same numbers as the numpy forms (free_strip_response, stress_profile), to rounding
+    _, kap_np, d_np = mechanics.free_strip_response(z_edges=z, modulus=modulus, eigenstrain=eig)
+    np.testing.assert_allclose(kappa_free, kap_np, rtol=1e-12, atol=1e-12 * np.abs(kap_np).max())
+    np.testing.assert_allclose(stiff, d_np, rtol=1e-12)
+    np.testing.assert_allclose(e_star, eig, rtol=1e-15, atol=0)
+    s_np = mechanics.stress_profile(z_centres=zc, modulus=modulus, eigenstrain=eig, strain_bottom=e0, curvature=kap)
+    np.testing.assert_allclose(stress, s_np, rtol=0, atol=1e-12 * np.abs(s_np).max())
+
+
+def test_section_series_flags_non_finite_results():
+    z = np.linspace(0, 1e-4, 5)
+    zc = 0.5 * (z[:-1] + z[1:])
+    modulus = np.ones((2, 4)) * 1e9
+    modulus[1, 2] = 0.0  # a cell without stiffness gives 0/0 in its eigenstrain
+    out = np.empty_like(modulus), np.empty_like(modulus)
+    *_, finite = mechanics.section_series(z, zc, modulus, modulus * 1e-3, np.zeros(2), np.zeros(2), *out)
+    assert not finite
+
+
+@pytest.mark.parametrize("kappa_l", [0.0, 1e-9, 0.3, -1.0, math.pi, 2 * math.pi, 7.0])
+def test_arc_tip_series_is_the_circular_arc(kappa_l):
+    # x = sin(kL)/k, y = (1 - cos kL)/k (exact circular arc; Timoshenko & Gere, Theory of Elastic Stability,
+    # 2nd ed. 1961); the limits x -> L, y -> k L^2 / 2 as k -> 0 (series)
+    L = 0.02
+    k = np.array([kappa_l / L])
+    x, y = mechanics.arc_tip_series(k, L)
+    if kappa_l == 0.0:
+        assert x[0] == L and y[0] == 0.0
+    elif abs(kappa_l) < 1e-6:
+        np.testing.assert_allclose([x[0], y[0]], [L, k[0] * L**2 / 2], rtol=1e-12)
+    else:
+        np.testing.assert_allclose([x[0], y[0]], [math.sin(kappa_l) / k[0], (1 - math.cos(kappa_l)) / k[0]],
+                                   rtol=1e-12, atol=1e-15)
+    xr_, yr_ = mechanics.arc_tip_position(curvature=k, free_length=L)
+    np.testing.assert_allclose([x[0], y[0]], [xr_[0], yr_[0]], rtol=1e-14, atol=1e-18)
