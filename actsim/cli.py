@@ -50,8 +50,12 @@ def _fmt(v, unit, scale=1.0, digits=4):
 
 def summary_table(summary: dict) -> str:
     """Plain-text table of the key metrics of a run."""
+    where = ""
+    if "step_of_peak_bend" in summary:
+        label = summary.get("step_of_peak_bend_label")
+        where = f" in step {summary['step_of_peak_bend']}" + (f" ({label})" if label else "")
     rows = [
-        ("peak bend angle", _fmt_angle(summary["peak_bend_angle"])),
+        ("peak bend angle", _fmt_angle(summary["peak_bend_angle"]) + where),
         ("final bend angle", _fmt_angle(summary["final_bend_angle"])),
         ("time to 90 % of peak bend", _fmt(summary["time_to_90_percent"], "s")),
         ("peak blocked force", _fmt(summary["peak_blocked_force"], "mN", 1e3)),
@@ -59,9 +63,13 @@ def summary_table(summary: dict) -> str:
         ("peak tip travel", _fmt(summary["peak_tip_deflection"], "mm", 1e3)),
     ]
     if "peak_front_depth" in summary:
-        rows.append(("deepest conversion front", _fmt(summary["peak_front_depth"], "um", 1e6)))
+        level = f"{100 * summary.get('front_conversion', 0.5):g} % of full conversion"
+        rows.append(("deepest conversion front", f"{_fmt(summary['peak_front_depth'], 'um', 1e6)} ({level})"
+                     if summary.get("front_formed", True) else f"no front (conversion stays below {level})"))
     if "peak_temperature" in summary:
         rows.append(("peak temperature", _fmt(summary["peak_temperature"] - 273.15, "degC")))
+    if summary.get("peaks_over", "free steps") != "free steps":
+        rows.append(("peaks taken over", summary["peaks_over"]))
     rows.append(("optical dose (incident)", _fmt(summary["optical_dose"], "J/cm^2", 1e-4)))
     if "target_bend_angle" in summary:
         tgt = _fmt_angle(summary["target_bend_angle"])

@@ -60,11 +60,16 @@ def first_crossing_time(times, values, level):
     return None if np.isnan(t) else float(t)
 
 
-def conversion_front_depth(*, z, conversion, thickness, from_top=True, active=None, dz=None):
-    """Depth below the lit face where conversion falls to half its current maximum.
+def conversion_front_depth(*, z, conversion, thickness, from_top=True, active=None, dz=None, level=None, full=None):
+    """Depth below the lit face where the conversion falls to a level: the conversion front.
 
-    The front is the x = 0.5 x_max contour (x_max over the stack at that time),
-    found by linear interpolation between cell centres, measured from the lit face.
+    With ``level`` (what :func:`actsim.solve` reports): the front is where the converted share of
+    what can convert, :math:`y = x / x_\\mathrm{full}`, falls to ``level`` past its maximum, found by
+    linear interpolation between cell centres and measured from the lit face. A profile whose
+    maximum stays below the level has no front (depth 0); one at or above the level all through
+    reports the deepest depth. Without ``level``: the contour of half the current maximum,
+    :math:`x = 0.5\\,x_\\max(t)` (a relative front, which also finds one in a uniformly, weakly
+    converted stack).
 
     Parameters
     ----------
@@ -81,15 +86,20 @@ def conversion_front_depth(*, z, conversion, thickness, from_top=True, active=No
     dz : numpy.ndarray, optional
         Cell thickness [m]; with ``active``, a fully converted active region
         reports the depth of its far face.
+    level : float, optional
+        Converted share that marks the front, 0 < level < 1 [1].
+    full : numpy.ndarray, shape (n_cell,), optional
+        Full conversion of each cell (the reactive fraction) [1]; default 1.
 
     Returns
     -------
     numpy.ndarray, shape (n_time,)
-        Front depth [m] (0 where nothing has converted).
+        Front depth [m] (0 where there is no front).
     """
     x = np.asarray(conversion, float)
     depth = thickness - z if from_top else z
     cols = np.arange(depth.size)
+    scale = np.ones(depth.size) if full is None else np.asarray(full, float)
     if active is not None:
         sel = np.asarray(active, bool)
         if not sel.any():
@@ -100,12 +110,15 @@ def conversion_front_depth(*, z, conversion, thickness, from_top=True, active=No
     else:
         deepest = float(depth.max())
     order = np.argsort(depth)
-    return front_depth_rows(x, cols[order].astype(np.int64), depth[order], deepest, 0.5)
+    cols = cols[order].astype(np.int64)
+    relative = level is None
+    return front_depth_rows(x, cols, depth[order], deepest, 0.5 if relative else float(level), relative,
+                            np.ascontiguousarray(scale[cols]))
 
 
 @njit(cache=True)
-def front_depth_rows(x, cols, depth, deepest, fraction):
-    """Front depth of each row of ``x`` (n_row, n_cell): the first crossing of ``fraction`` x its maximum.
+def front_depth_rows(x, cols, depth, deepest, level, relative, full):
+    """Front depth of each row of ``x`` (n_row, n_cell): the first fall below the level past the maximum.
 
     Parameters
     ----------
@@ -117,35 +130,41 @@ def front_depth_rows(x, cols, depth, deepest, fraction):
         Their depths below the lit face [m], increasing.
     deepest : float
         Depth reported when nothing past the peak falls below the level [m].
-    fraction : float
-        The level as a fraction of the row's maximum [1].
+    level : float
+        The level: a share of full conversion, or (``relative``) a fraction of the row's maximum [1].
+    relative : bool
+        Level relative to the row's maximum.
+    full : numpy.ndarray, shape (m,)
+        Full conversion of the cells sought [1]; the conversion is divided by it.
 
     Returns
     -------
     numpy.ndarray, shape (n_row,)
-        Depth of the level past the deepest-first maximum, linear between cells [m]; 0 where the row's
-        maximum is at most 1e-12.
+        Depth of the level past the shallowest maximum, linear between cells [m]; 0 where the row's
+        maximum is at most 1e-12 or (absolute level) below the level.
     """
     n_row = x.shape[0]
     m = cols.size
     out = np.zeros(n_row)
     for r in range(n_row):
-        xmax = x[r, cols[0]]
+        ymax = x[r, cols[0]] / full[0]
         imax = 0
         for k in range(1, m):
-            v = x[r, cols[k]]
-            if v > xmax:
-                xmax = v
+            v = x[r, cols[k]] / full[k]
+            if v > ymax:
+                ymax = v
                 imax = k
-        if not xmax > 1e-12:
+        if not ymax > 1e-12:
             continue
-        level = fraction * xmax
+        lv = level * ymax if relative else level
+        if ymax < lv:
+            continue
         out[r] = deepest
         for k in range(imax + 1, m):
-            v = x[r, cols[k]]
-            if v < level:
-                x0 = x[r, cols[k - 1]]
-                out[r] = depth[k - 1] + (x0 - level) * (depth[k] - depth[k - 1]) / (x0 - v)
+            v = x[r, cols[k]] / full[k]
+            if v < lv:
+                y0 = x[r, cols[k - 1]] / full[k - 1]
+                out[r] = depth[k - 1] + (y0 - lv) * (depth[k] - depth[k - 1]) / (y0 - v)
                 break
     return out
 
@@ -174,22 +193,46 @@ def summarize(ds, *, target_bend_angle=None, protocol=None):
     """
     t = ds["time"].values
     theta = ds["bend_angle"].values
-    ipk = int(np.argmax(np.abs(theta)))
+    # peaks of the strip's free response: output times of free (or release) steps only -- while the strip is held
+    # the bend is imposed and the blocked force of the free state is not what a support would feel
+    hold = ds["hold"].values if "hold" in ds else None
+    free = np.isin(hold, ("free", "release")) if hold is not None else np.ones(t.size, bool)
+    peaks_over = "free steps"
+    if not free.any():
+        free = np.ones(t.size, bool)
+        peaks_over = "all output times (every step holds the strip)"
+
+    def peak_index(values):
+        return int(np.argmax(np.where(free, np.abs(values), -1.0)))
+
+    ipk = peak_index(theta)
+    run = ipk  # the free stretch of output times that holds the peak
+    while run > 0 and free[run - 1]:
+        run -= 1
     force = ds["blocked_force"].values
     front = ds["conversion_front_depth"].values if "conversion_front_depth" in ds else None
+    moment, tip = ds["blocked_moment"].values, ds["tip_deflection"].values
     out = {
         "final_bend_angle": float(theta[-1]),
         "peak_bend_angle": float(theta[ipk]),
         "time_of_peak_bend": float(t[ipk]),
-        "time_to_90_percent": first_crossing_time(t, theta, 0.9 * theta[ipk]) if theta[ipk] != 0 else None,
-        "peak_blocked_force": float(force[int(np.argmax(np.abs(force)))]),
-        "peak_blocked_moment": float(ds["blocked_moment"].values[int(np.argmax(np.abs(ds["blocked_moment"].values)))]),
-        "peak_tip_deflection": float(ds["tip_deflection"].values[int(np.argmax(np.abs(ds["tip_deflection"].values)))]),
+        "time_to_90_percent": (first_crossing_time(t[run:ipk + 1], theta[run:ipk + 1], 0.9 * theta[ipk])
+                               if theta[ipk] != 0 else None),
+        "peak_blocked_force": float(force[peak_index(force)]),
+        "peak_blocked_moment": float(moment[peak_index(moment)]),
+        "peak_tip_deflection": float(tip[peak_index(tip)]),
+        "peaks_over": peaks_over,
         "optical_dose": float(ds["optical_dose"].values[-1]),
     }
+    if "protocol_step" in ds:
+        out["step_of_peak_bend"] = int(ds["protocol_step"].values[ipk])
+        if protocol is not None and protocol[out["step_of_peak_bend"]].label:
+            out["step_of_peak_bend_label"] = protocol[out["step_of_peak_bend"]].label
     if front is not None:
+        out["front_conversion"] = float(ds["conversion_front_depth"].attrs.get("front_conversion", 0.5))
         out["final_front_depth"] = float(front[-1])
         out["peak_front_depth"] = float(front.max())
+        out["front_formed"] = bool(front.max() > 0)
     if "peak_temperature" in ds:
         out["peak_temperature"] = float(ds["peak_temperature"].values.max())
     if "grid_error_estimate" in ds.attrs:

@@ -36,8 +36,8 @@ def shape_memory_cycles(ds, protocol):
 
     Parameters
     ----------
-    ds : xarray.Dataset
-        Result of :func:`actsim.simulate`.
+    ds : xarray.Dataset or actsim.solution.Solution
+        Result of :func:`actsim.simulate` (or :func:`actsim.solve`).
     protocol : sequence of actsim.scenario.Step
         The scenario's protocol.
 
@@ -50,14 +50,38 @@ def shape_memory_cycles(ds, protocol):
         no step to measure it), and ``bend_angle_after_release`` [rad]: the bend
         that appears on release when the light fixed one face more than the other.
     """
-    steps = ds["protocol_step"].values
+    def values(name):
+        v = ds[name] if hasattr(ds, "data_vars") else getattr(ds, name)  # a Dataset, or a Solution
+        return np.asarray(getattr(v, "values", v))
+
+    return cycles_from_arrays(protocol_step=values("protocol_step"), axial_strain=values("axial_strain"),
+                              curvature=values("curvature"), bend_angle=values("bend_angle"), protocol=protocol)
+
+
+def cycles_from_arrays(*, protocol_step, axial_strain, curvature, bend_angle, protocol):
+    """:func:`shape_memory_cycles` from the (time,) arrays of a result.
+
+    Parameters
+    ----------
+    protocol_step : numpy.ndarray of int, shape (n_time,)
+        Protocol step of each output time.
+    axial_strain, curvature, bend_angle : numpy.ndarray, shape (n_time,)
+        Mid-thickness strain [1], curvature [m-1] and bend angle [rad].
+    protocol : sequence of actsim.scenario.Step
+        The scenario's protocol.
+
+    Returns
+    -------
+    list of dict
+        As :func:`shape_memory_cycles`.
+    """
+    steps = np.asarray(protocol_step)
     holds = [s.hold for s in protocol]
     starts = [k for k, h in enumerate(holds) if h in ("stretch", "bend") and (k == 0 or holds[k - 1] != h)]
     cycles = []
     for n, k in enumerate(starts):
         kind = holds[k]
-        var = "axial_strain" if kind == "stretch" else "curvature"
-        values = ds[var].values
+        values = axial_strain if kind == "stretch" else curvature
         # value before the hold: end of the previous step; a protocol that starts held starts from flat, unstrained
         baseline = float(values[_step_end_index(steps, k - 1)]) if k > 0 else 0.0
         end_hold = k
@@ -71,7 +95,7 @@ def shape_memory_cycles(ds, protocol):
         fixed = recovered = fixity = recovery = fixed_bend = None
         if free_steps:
             fixed = float(values[_step_end_index(steps, free_steps[0])])
-            fixed_bend = float(ds["bend_angle"].values[_step_end_index(steps, free_steps[0])])
+            fixed_bend = float(bend_angle[_step_end_index(steps, free_steps[0])])
             span = programmed - baseline
             fixity = (fixed - baseline) / span if span != 0 else None
             if len(free_steps) > 1:

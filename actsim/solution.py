@@ -43,8 +43,8 @@ VARIABLES: dict[str, tuple[str, str, tuple[str, ...]]] = {
     "protocol_step": ("1", "index of the protocol step (0-based) that ends at or contains this time", ("time",)),
     "hold": ("1", "mechanical condition of that protocol step", ("time",)),
     # only with a chromophore
-    "conversion_front_depth": ("m", "depth below the {lit_face} face where conversion falls to half its maximum",
-                               ("time",)),
+    "conversion_front_depth": ("m", "depth below the {lit_face} face where conversion falls to {front_percent} of "
+                                    "full conversion (0: no front)", ("time",)),
     # only with heat
     "temperature": ("K", "temperature", ("time", "z")),
     "peak_temperature": ("K", "highest cell temperature", ("time",)),
@@ -57,6 +57,18 @@ VARIABLES: dict[str, tuple[str, str, tuple[str, ...]]] = {
     # only with a light-formed network
     "network_density": ("1", "density of the light-formed network (1 = fully formed)", ("time", "z")),
     "network_strain": ("1", "network-weighted strain the light-formed network remembers", ("time", "z")),
+    # only with programming holds (shape memory): one entry per programming cycle
+    "cycle_hold": ("1", "programming hold of the cycle (stretch: strain; bend: curvature)", ("cycle",)),
+    "fixity_ratio": ("1", "shape fixity ratio R_f of the cycle (Lendlein and Kelch 2002)", ("cycle",)),
+    "recovery_ratio": ("1", "shape recovery ratio R_r of the cycle (Lendlein and Kelch 2002)", ("cycle",)),
+    "bend_angle_after_release": ("rad", "bend angle at the end of the first free step after the hold", ("cycle",)),
+}
+
+#: What a missing (NaN, written as the fill value) entry of a per-cycle variable means.
+MISSING_MEANS: dict[str, str] = {
+    "fixity_ratio": "no free step follows the hold, or the programmed value equals the value before it",
+    "recovery_ratio": "fewer than two free steps follow the hold, or the programmed value equals the value before it",
+    "bend_angle_after_release": "no free step follows the hold",
 }
 
 #: Coordinates: name -> (units, long_name, dims).
@@ -64,6 +76,7 @@ COORDS: dict[str, tuple[str, str, tuple[str, ...]]] = {
     "time": ("s", "time since the start of the protocol", ("time",)),
     "z": ("m", "height of the cell centre above the bottom face", ("z",)),
     "layer": ("1", "layer of the cell", ("z",)),
+    "cycle": ("1", "programming cycle (1 = first)", ("cycle",)),
 }
 
 #: Meaning of the sign of the curvature, stored with every result.
@@ -145,6 +158,12 @@ class Solution:
     heat_lost_top: np.ndarray | None = None
     network_density: np.ndarray | None = None
     network_strain: np.ndarray | None = None
+    cycle: np.ndarray | None = None
+    cycle_hold: np.ndarray | None = None
+    fixity_ratio: np.ndarray | None = None
+    recovery_ratio: np.ndarray | None = None
+    bend_angle_after_release: np.ndarray | None = None
+    front_level: float = 0.5
 
     @property
     def names(self) -> list[str]:
@@ -158,11 +177,12 @@ class Solution:
 
     def long_name(self, name: str) -> str:
         """Long name of a variable or coordinate, as the Dataset carries it."""
-        return _entry(name)[1].format(section=self.section, lit_face=self.lit_face)
+        return _entry(name)[1].format(section=self.section, lit_face=self.lit_face,
+                                      front_percent=f"{100 * self.front_level:g} %")
 
     @staticmethod
     def dims(name: str) -> tuple[str, ...]:
-        """Dimensions of a variable or coordinate: ("time",), ("z",) or ("time", "z")."""
+        """Dimensions of a variable or coordinate: ("time",), ("z",), ("time", "z") or ("cycle",)."""
         return _entry(name)[2]
 
     @property
@@ -204,7 +224,7 @@ class Solution:
         """
         import xarray as xr
 
-        coords = {name: self._variable(xr, name) for name in COORDS}
+        coords = {name: self._variable(xr, name) for name in COORDS if getattr(self, name) is not None}
         data_vars = {name: self._variable(xr, name) for name in self.names}
         try:
             return _direct_dataset(xr, coords, data_vars, self.attrs)
@@ -212,9 +232,13 @@ class Solution:
             return xr.Dataset(data_vars=data_vars, coords=coords, attrs=self.attrs)
 
     def _variable(self, xr, name):
-        units, long_name, dims = _entry(name)
-        long_name = long_name.format(section=self.section, lit_face=self.lit_face)
-        return xr.Variable(dims, getattr(self, name), attrs={"units": units, "long_name": long_name})
+        units, _, dims = _entry(name)
+        attrs = {"units": units, "long_name": self.long_name(name)}
+        if name in MISSING_MEANS:
+            attrs["missing_means"] = MISSING_MEANS[name]
+        if name == "conversion_front_depth":
+            attrs["front_conversion"] = self.front_level
+        return xr.Variable(dims, getattr(self, name), attrs=attrs)
 
 
 def _direct_dataset(xr, coords, data_vars, attrs):
@@ -223,11 +247,12 @@ def _direct_dataset(xr, coords, data_vars, attrs):
 
     variables, indexes = dict(data_vars), {}
     variables.update(coords)
-    for dim in ("time", "z"):
+    dims = [dim for dim in ("time", "z", "cycle") if dim in coords]
+    for dim in dims:
         index = PandasIndex.from_variables({dim: coords[dim]}, options={})
         indexes[dim] = index
         variables.update(index.create_variables({dim: coords[dim]}))
-    sizes = {"time": coords["time"].size, "z": coords["z"].size}
+    sizes = {dim: coords[dim].size for dim in dims}
     return xr.Dataset._construct_direct(variables, set(coords), dims=sizes, attrs=attrs, indexes=indexes)
 
 

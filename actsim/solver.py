@@ -267,11 +267,24 @@ def _assemble(scenario: Scenario, p: Problem, raw: dict, *, reuse: bool) -> Solu
     front = None
     active = p.light.c0 > 0
     if active.any():
-        front = conversion_front_depth(z=z_c, conversion=x, thickness=h, from_top=lit_from_top, active=active, dz=dz)
+        front = conversion_front_depth(z=z_c, conversion=x, thickness=h, from_top=lit_from_top, active=active, dz=dz,
+                                       level=scenario.front_level, full=p.photo.x_max)
     network = {}
     if has_network:
         network = dict(network_density=np.where(network_on, x, 0.0), network_strain=raw["S"])
     holds = [step.hold for step in scenario.protocol]
+    cycles = {}
+    if any(hd in ("stretch", "bend") for hd in holds):
+        from .shape_memory import cycles_from_arrays
+
+        found = cycles_from_arrays(protocol_step=step_of_time, axial_strain=e0 - kappa * 0.5 * h, curvature=kappa,
+                                   bend_angle=kappa * L, protocol=scenario.protocol)
+        def column(key):
+            return np.array([np.nan if c[key] is None else c[key] for c in found], float)
+
+        cycles = dict(cycle=np.arange(1, len(found) + 1), cycle_hold=np.array([c["kind"] for c in found]),
+                      fixity_ratio=column("fixity_ratio"), recovery_ratio=column("recovery_ratio"),
+                      bend_angle_after_release=column("bend_angle_after_release"))
     width = max(len(holds[i]) for i in set(step_of_time.tolist()))  # the string width of the holds that occur
     return Solution(
         time=times,
@@ -316,6 +329,8 @@ def _assemble(scenario: Scenario, p: Problem, raw: dict, *, reuse: bool) -> Solu
         section="plane strain" if strip.section == "plate" else "plane stress",
         lit_face="top" if lit_from_top else "bottom",
         conversion_front_depth=front,
+        front_level=scenario.front_level,
+        **cycles,
         **heat,
         **network,
     )

@@ -17,7 +17,7 @@ import pytest
 import xarray as xr
 
 import actsim
-from actsim import mechanics, metrics, solver, thermal
+from actsim import mechanics, metrics, solution, solver, thermal
 from actsim.errors import ActsimSimulationError
 from actsim.grid import cell_centres
 from actsim.scenario import load_scenario, parse_scenario
@@ -39,8 +39,10 @@ def _var(dims, data, units, long_name, **extra):
     return xr.Variable(dims, data, attrs={"units": units, "long_name": long_name, **extra})
 
 
-def legacy_front_depth(*, z, conversion, thickness, from_top=True, active=None, dz=None):
+def legacy_front_depth(*, z, conversion, thickness, from_top=True, active=None, dz=None, level=None, full=None):
     x = np.asarray(conversion, float)
+    if full is not None:
+        x = x / np.asarray(full, float)  # the converted share of what can convert
     depth = thickness - z if from_top else z
     if active is not None:
         sel = np.asarray(active, bool)
@@ -59,15 +61,17 @@ def legacy_front_depth(*, z, conversion, thickness, from_top=True, active=None, 
         xmax = row.max()
         if xmax <= 1e-12:
             continue
-        level = 0.5 * xmax
+        if level is not None and xmax < level:
+            continue  # an absolute level never reached: no front
+        lv = 0.5 * xmax if level is None else level
         imax = int(np.argmax(row))
-        below = np.nonzero(row[imax:] < level)[0]
+        below = np.nonzero(row[imax:] < lv)[0]
         if below.size == 0:
             out[t] = deepest
             continue
         j = imax + int(below[0])
         x0, x1 = row[j - 1], row[j]
-        out[t] = d[j - 1] + (x0 - level) * (d[j] - d[j - 1]) / (x0 - x1)
+        out[t] = d[j - 1] + (x0 - lv) * (d[j] - d[j - 1]) / (x0 - x1)
     return out
 
 
@@ -96,7 +100,8 @@ def legacy_dataset(scenario, p, o):
             raise ActsimSimulationError(f"non-finite {name} in the result; nothing was written")
     layer_names = np.array([scenario.layers[i].name for i in p.grid.layer_index])
     lit_from_top = not scenario.sources or scenario.sources[0].face == "top"
-    front = legacy_front_depth(z=z_c, conversion=x, thickness=h, from_top=lit_from_top, active=p.light.c0 > 0, dz=dz)
+    front = legacy_front_depth(z=z_c, conversion=x, thickness=h, from_top=lit_from_top, active=p.light.c0 > 0, dz=dz,
+                               level=scenario.front_level, full=p.photo.x_max)
     b, L = strip.width, strip.free_length
     section = "plane strain" if strip.section == "plate" else "plane stress"
     hold_names = np.array([scenario.protocol[i].hold for i in step_of_time])
@@ -129,7 +134,9 @@ def legacy_dataset(scenario, p, o):
     }
     if np.any(p.light.c0 > 0):
         data_vars["conversion_front_depth"] = _var(
-            ("time",), front, "m", f"depth below the {'top' if lit_from_top else 'bottom'} face where conversion falls to half its maximum")
+            ("time",), front, "m", f"depth below the {'top' if lit_from_top else 'bottom'} face where conversion falls to "
+            f"{100 * scenario.front_level:g} % of full conversion (0: no front)")
+        data_vars["conversion_front_depth"].attrs["front_conversion"] = scenario.front_level
     if scenario.heat.enabled:
         T = o.T
         env = sched.step_env[step_of_time]  # T_amb_bottom, h_bottom, T_amb_top, h_top
@@ -147,12 +154,28 @@ def legacy_dataset(scenario, p, o):
         on = p.material.network_mod > 0
         data_vars["network_density"] = _var(("time", "z"), np.where(on, x, 0.0), "1", "density of the light-formed network (1 = fully formed)")
         data_vars["network_strain"] = _var(("time", "z"), o.S, "1", "network-weighted strain the light-formed network remembers")
+    coords_cycle = {}
+    if any(step.hold in ("stretch", "bend") for step in scenario.protocol):
+        from actsim.shape_memory import shape_memory_cycles
+
+        probe = xr.Dataset({k: data_vars[k] for k in ("protocol_step", "axial_strain", "curvature", "bend_angle")})
+        cycles = shape_memory_cycles(probe, scenario.protocol)
+        col = lambda key: np.array([np.nan if c[key] is None else c[key] for c in cycles])  # noqa: E731
+        data_vars["cycle_hold"] = _var(("cycle",), np.array([c["kind"] for c in cycles]), "1",
+                                       "programming hold of the cycle (stretch: strain; bend: curvature)")
+        for key, unit, text in (("fixity_ratio", "1", "shape fixity ratio R_f of the cycle (Lendlein and Kelch 2002)"),
+                                ("recovery_ratio", "1", "shape recovery ratio R_r of the cycle (Lendlein and Kelch 2002)"),
+                                ("bend_angle_after_release", "rad", "bend angle at the end of the first free step after the hold")):
+            data_vars[key] = _var(("cycle",), col(key), unit, text)
+            data_vars[key].attrs["missing_means"] = solution.MISSING_MEANS[key]
+        coords_cycle["cycle"] = _var(("cycle",), np.arange(1, len(cycles) + 1), "1", "programming cycle (1 = first)")
     ds = xr.Dataset(
         data_vars=data_vars,
         coords={
             "time": _var(("time",), times, "s", "time since the start of the protocol"),
             "z": _var(("z",), z_c, "m", "height of the cell centre above the bottom face"),
             "layer": _var(("z",), layer_names, "1", "layer of the cell"),
+            **coords_cycle,
         },
     )
     ds.attrs.update(
@@ -212,32 +235,36 @@ def test_simulate_matches_the_assembly_before_solve(path, monkeypatch):
         assert np.array_equal(a, kept[name]), name
 
 
-def test_to_dataset_matches_the_public_constructor():
+@pytest.mark.parametrize("name", ["vent_flap", "shape_memory_two_colour"])
+def test_to_dataset_matches_the_public_constructor(name):
     # to_dataset() builds the Dataset without xarray's merge; the public constructor must give the same
-    s = actsim.solve(load_scenario(SCENARIOS[0]))
+    s = actsim.solve(load_scenario(next(p for p in SCENARIOS if p.stem == name)))
     ds = s.to_dataset()
-    public = xr.Dataset(data_vars={n: ds[n].variable for n in s.names}, coords={n: ds[n].variable for n in COORDS},
-                        attrs=s.attrs)
+    coords = {n: ds[n].variable for n in COORDS if getattr(s, n) is not None}
+    public = xr.Dataset(data_vars={n: ds[n].variable for n in s.names}, coords=coords, attrs=s.attrs)
     xr.testing.assert_identical(ds, public)
     assert list(ds.variables) == list(public.variables) and dict(ds.sizes) == dict(public.sizes)
-    assert set(ds.xindexes) == {"time", "z"} and float(ds.bend_angle.sel(time=ds.time[2])) == s.bend_angle[2]
+    dims = {"time", "z"} | ({"cycle"} if s.cycle is not None else set())
+    assert set(ds.xindexes) == dims and float(ds.bend_angle.sel(time=ds.time[2])) == s.bend_angle[2]
+    assert (s.cycle is not None) == (name == "shape_memory_two_colour")
 
 
 def test_solution_holds_every_variable_with_its_table_entry():
-    array_fields = {"time", "z", "layer", *VARIABLES}
+    array_fields = {"time", "z", "layer", "cycle", *VARIABLES}
     names = {f.name for f in dataclasses.fields(Solution)}
     assert array_fields <= names
     assert names - array_fields == {"title", "scenario_text", "scenario_path", "thickness", "free_length", "width",
                                     "heat_modelled", "section", "lit_face", "time_stepping", "time_steps_accepted",
-                                    "time_steps_rejected"}
+                                    "time_steps_rejected", "front_level"}
     sc = load_scenario(next(p for p in SCENARIOS if p.stem == "vent_flap"))
     s = actsim.solve(sc)
     ds = s.to_dataset()
     assert s.names == list(ds.data_vars)
-    for name in [*COORDS, *s.names]:
+    for name in [*(c for c in COORDS if getattr(s, c) is not None), *s.names]:
         a = getattr(s, name)
         assert type(a) is np.ndarray, name  # plain arrays, no xarray
-        assert ds[name].attrs == {"units": s.units(name), "long_name": s.long_name(name)}, name
+        extra = {"front_conversion": 0.5} if name == "conversion_front_depth" else {}
+        assert ds[name].attrs == {"units": s.units(name), "long_name": s.long_name(name), **extra}, name
         assert ds[name].dims == s.dims(name), name
     assert s.conversion.shape == (s.time.size, s.z.size) and np.all(np.diff(s.z) > 0)  # bottom cell first
     assert s.attrs == ds.attrs and s.nbytes > 0

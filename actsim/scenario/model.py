@@ -143,6 +143,7 @@ class Scenario:
     path: str = ""
     description: str = ""
     target_bend_angle: float | None = None  # rad
+    front_level: float = 0.5  # converted fraction of full conversion that marks the conversion front [1]
     #: job sections as the file gave them: name (one of JOB_SECTIONS) -> TOML table (plain data, not parsed
     #: here; a job reads its own with actsim.scenario.section_settings). Treat as read-only.
     sections: dict = field(default_factory=dict)

@@ -467,6 +467,7 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
     rt = top.table("report", default={})
     if rt.has("target_bend_angle"):
         target = rt.quantity("target_bend_angle", "angle")
+    front_level = rt.number("front_conversion", 0.5, lo=0.0, hi=1.0, lo_open=True, hi_open=True)
     rt.finish()
     sections = {}
     for section in JOB_SECTIONS:
@@ -477,7 +478,7 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
     return Scenario(
         title=title, strip=strip, layers=tuple(layers), sources=tuple(sources), protocol=tuple(protocol),
         optics=optics, heat=heat, output_interval=output_interval, time_step=time_step, time_tolerance=tolerance, text=text, path=str(path),
-        description=description, target_bend_angle=target, sections=sections, base_dir=str(base),
+        description=description, target_bend_angle=target, front_level=front_level, sections=sections, base_dir=str(base),
         material_names=tuple(materials),
     )
 

@@ -42,6 +42,7 @@ from numba import njit, prange
 from .. import mechanics
 from .._kernels import RawOutput, allocate_output, design_slice, output_slice, run_design
 from ..errors import ActsimSimulationError
+from ..mechanics import HOLD_FREE
 from ..metrics import first_crossing_times
 from ..schedule import incident_dose
 from ..solver import Problem
@@ -128,9 +129,9 @@ def run_group(problems, *, full=False) -> dict:
     return {"out": out, "bad": bad, "stacked": stacked}
 
 
-def _at_peak(values):
-    """Signed value at the largest magnitude along the last axis, and its index."""
-    i = np.argmax(np.abs(values), axis=-1)
+def _at_peak(values, free):
+    """Signed value at the largest magnitude along the last axis over the ``free`` entries, and its index."""
+    i = np.argmax(np.where(free, np.abs(values), -1.0), axis=-1)
     return np.take_along_axis(values, i[:, None], axis=-1)[:, 0], i
 
 
@@ -195,10 +196,14 @@ def batch_metrics(problems, o, *, free_length, width, target_bend_angle=None, he
     _, y_free = mechanics.arc_tip_position(curvature=kappa_free, free_length=L[:, None])
     dose = np.stack([incident_dose(p.schedule) for p in problems])
     rows = np.arange(n)
-    peak_theta, ipk = _at_peak(theta)
-    peak_force, ifk = _at_peak(f_block)
-    peak_moment, _ = _at_peak(m_block)
-    peak_tip, _ = _at_peak(y_tip)
+    # peaks over the output times of free steps (as actsim.metrics.summarize); all times where every step holds
+    free = np.stack([p.schedule.step_hold[np.concatenate([p.schedule.seg_step[:1], p.schedule.seg_step])] == HOLD_FREE
+                     for p in problems])
+    free[~free.any(axis=1)] = True
+    peak_theta, ipk = _at_peak(theta, free)
+    peak_force, ifk = _at_peak(f_block, free)
+    peak_moment, _ = _at_peak(m_block, free)
+    peak_tip, _ = _at_peak(y_tip, free)
     work = 0.5 * np.abs(peak_force) * np.abs(y_free[rows, ifk])
     energy_at_peak = dose[rows, ifk] * L * b
     with np.errstate(invalid="ignore", divide="ignore"):
