@@ -356,3 +356,22 @@ def test_default_runs_in_this_process_on_the_threads_given(base, monkeypatch):
     assert (ds["status"].values == 0).all()
     with pytest.raises(ActsimInputError, match="threads: 0 is outside the allowed range"):
         sweep(base, {"layers[film].thickness": "8 um,9 um"}, progress=False, threads=0)
+
+
+def test_units_survive_several_chunks(local, tmp_path):
+    # 8 designs in chunks of 3: every metric keeps the unit and meaning of its table entry after the chunks join
+    from actsim.study.store import METRIC_INFO
+
+    for name, (unit, long_name) in METRIC_INFO.items():
+        if name in local:
+            assert local[name].attrs["units"] == unit, name
+            assert local[name].attrs["long_name"].startswith(long_name.split(" (")[0]), name
+    scen = tmp_path / "s.toml"
+    scen.write_text(_text())
+    r = _cli(["sweep", str(scen), "--vary", "layers[film].thickness=lin(8 um, 30 um, 5)", "--chunk-size", "2",
+              "--scheduler", "inprocess", "--no-progress", "-o", str(tmp_path / "out")])
+    assert r.returncode == 0, r.stderr
+    header = (tmp_path / "out" / "metrics.csv").read_text().splitlines()[0]
+    assert "[]" not in header and "[rad]" in header and "[N]" in header
+    ds = xr.load_dataset(tmp_path / "out" / "sweep.nc")
+    assert ds["peak_bend_angle"].attrs["units"] == "rad"

@@ -94,7 +94,7 @@ def chunk_dataset(res) -> xr.Dataset:
         u, ln = METRIC_INFO[name]
         dv[name] = xr.Variable(("design",), arr.astype(np.int8) if arr.dtype == bool else arr,
                                attrs=variable_attrs(u, ln, name, arr))
-    coords = {"design": xr.Variable(("design",), res["design"], attrs={"long_name": "design number"})}
+    coords = {"design": xr.Variable(("design",), res["design"], attrs={"units": "1", "long_name": "design number"})}
     if res["series"] is not None:
         coords["time"] = xr.Variable(("time",), res["times"], attrs={"units": "s", "long_name": "time since the start of the protocol"})
         for name, arr in res["series"].items():

@@ -42,6 +42,10 @@ def assemble(plan: SweepPlan, chunks) -> xr.Dataset:
 
     ds = xr.concat(chunks, dim="design", data_vars="all", coords="minimal", compat="override",
                    combine_attrs="drop") if len(chunks) > 1 else chunks[0].copy()
+    for name, var in ds.variables.items():  # concat dropped every attribute: units and meanings are per variable
+        if name in chunks[0].variables:
+            var.attrs = dict(chunks[0].variables[name].attrs)
+    ds.attrs = {}
     ds = ds.sortby("design")
     for name in list(ds.data_vars):
         var = ds[name]
@@ -71,7 +75,7 @@ def assemble(plan: SweepPlan, chunks) -> xr.Dataset:
             coords["time"] = ds["time"].variable
         out = xr.Dataset(new, coords=coords)
         out = out.assign_coords(design=xr.Variable(tuple(dims), np.arange(plan.n_designs).reshape(plan.shape),
-                                                   attrs={"long_name": "design number (C order of the swept dimensions)"}))
+                                                   attrs={"units": "1", "long_name": "design number (C order of the swept dimensions)"}))
     else:
         out = ds
         for ax in plan.axes:
