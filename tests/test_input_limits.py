@@ -243,6 +243,25 @@ def test_non_finite_strip_response_names_fields(monkeypatch):
     assert "strip.free_length" in one_line_error(exc.value)
 
 
+def hot_text():
+    # 1 kW/cm^2 on an insulated film: it would heat by about 1e5 K/s (printed "1.3e+96 degC" at 1e100 W/m^2)
+    return scenario_text(heat=True).replace('irradiance = "50 mW/cm^2"', 'irradiance = "1e7 W/m^2"').replace(
+        'ambient_temperature = "20 degC"', 'ambient_temperature = "20 degC"\ntop_heat_transfer = "0 W/(m^2*K)"\n'
+        'bottom_heat_transfer = "0 W/(m^2*K)"')
+
+
+def test_a_strip_heated_beyond_the_models_is_an_error():
+    with pytest.raises(ActsimSimulationError, match=r"^the strip reaches .* K, above the 2000 K") as exc:
+        actsim.simulate(parse_scenario(hot_text()))
+    assert "sources[].irradiance" in one_line_error(exc.value)
+
+
+def test_cli_simulation_error_is_one_line_exit_3(capsys, tmp_path):
+    code, cap, out = run_cli(capsys, tmp_path, hot_text())
+    lines = cap.err.splitlines()
+    assert code == 3 and len(lines) == 1 and "sources[].irradiance" in lines[0]  # no RuntimeWarning before it
+
+
 # ----------------------------------------------------------------------- random in-range values (property)
 def _in_range(key, frac):
     """A value inside LIMITS[key], log-uniform (frac in [0, 1]) between the limits (or 1e-3 x hi and hi)."""
