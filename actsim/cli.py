@@ -109,7 +109,7 @@ def parse_set_options(items):
         path, value = (part.strip() for part in item.split("=", 1))
         try:  # numbers and booleans as TOML reads them; anything else is a unit string
             value = tomllib.loads(f"v = {value}")["v"]
-        except tomllib.TOMLDecodeError:
+        except (tomllib.TOMLDecodeError, RecursionError):  # nested too deeply: kept as text, refused when parsed
             pass
         out[path] = value
     return out
