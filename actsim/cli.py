@@ -117,7 +117,7 @@ def parse_set_options(items):
         path, value = (part.strip() for part in item.split("=", 1))
         try:  # numbers and booleans as TOML reads them; anything else is a unit string
             value = tomllib.loads(f"v = {value}")["v"]
-        except tomllib.TOMLDecodeError:
+        except (tomllib.TOMLDecodeError, RecursionError):  # nested too deeply: kept as text, refused when parsed
             pass
         out[path] = value
     return out
@@ -132,7 +132,7 @@ def load_with_overrides(scenario_path, set_items=None):
     return apply_overrides(sc, overrides) if overrides else sc
 
 
-def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set_items=None):
+def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set_items=None, allow_large=False):
     from .cautions import with_caution
     from .results import write_result_folder
     from .solver import simulate
@@ -145,7 +145,7 @@ def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set
     from .solver import grid_error_estimate
 
     with compile_notice():
-        ds = simulate(sc, engine=engine)
+        ds = simulate(sc, engine=engine, allow_large=allow_large)
     est = grid_error_estimate(sc, ds)
     if est is not None:
         ds.attrs["grid_error_estimate"] = est
@@ -182,7 +182,8 @@ def cmd_run(args):
                 "--uncertainty: the scenario has no [calibration] section to draw from; fit one with `actsim fit bend` "
                 "(see docs/calibration.md)"
             )
-    status = _run_and_write(args.scenario, out, figures=not args.no_figures, engine=args.engine, set_items=args.set)
+    status = _run_and_write(args.scenario, out, figures=not args.no_figures, engine=args.engine, set_items=args.set,
+                            allow_large=args.yes)
     if args.uncertainty:
         from .calibrate.uncertainty import run_uncertainty
 
@@ -249,6 +250,8 @@ def build_parser() -> argparse.ArgumentParser:
                    help="change a scenario field for this run, e.g. \"layers[1].thickness=40 um\" (repeatable)")
     p.add_argument("--uncertainty", type=int, metavar="N", default=0,
                    help="also draw N parameter sets from the scenario's [calibration] covariance and write 5-95 %% bands")
+    p.add_argument("--yes", action="store_true",
+                   help="run even when the work estimate (cells x time steps) is above the limit (docs/scenario.md)")
     p.set_defaults(func=cmd_run)
 
     for mod in VERB_MODULES:

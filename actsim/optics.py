@@ -124,10 +124,15 @@ def light_params(scenario, grid) -> LightParams:
         if tau[worst] > max_tau:
             need = int(math.ceil(alpha_hi[worst] * layer.thickness / max_tau))
             src = scenario.sources[beam_source[worst]].name
+            from .scenario.limits import limit
+
+            most = limit("layers[].cells")["hi"]
+            hint = (f"use cells >= {need}" if need <= most else
+                    f"that needs {need:.3g} cells, above the {most} allowed: use a thinner layer or less absorption")
             raise ActsimInputError(
                 f"layers[{li}].cells: {layer.cells} cells give an optical depth of {tau[worst]:.3g} per cell at "
                 f"{beam_wl[worst] * 1e9:.4g} nm (source '{src}'), above optics.max_cell_optical_depth = {max_tau:g}; "
-                f"use cells >= {need}"
+                f"{hint}"
             )
     return LightParams(c0=c0, eps_a=eps_a, eps_b=eps_b, alpha_bg=alpha_bg, from_top=from_top, entry=entry,
                        beam_emol=molar_photon_energy(beam_wl) if n_beam else np.zeros(0), beam_source=beam_source,

@@ -234,7 +234,7 @@ def test_unmapped_fields_go_the_general_way(base):
 def test_a_wrong_field_map_is_caught_by_the_first_design_check(base, monkeypatch):
     """If a stage reads a field the map does not know about, the first design disagrees: warn, then re-parse."""
     entry = list(designs._MATERIAL_FIELDS["modulus"])
-    entry[5] = {"light"}  # pretend the modulus fed only the optics: the material stage would not be rebuilt
+    entry[1] = {"light"}  # pretend the modulus fed only the optics: the material stage would not be rebuilt
     monkeypatch.setitem(designs._MATERIAL_FIELDS, "modulus", tuple(entry))
     path = "materials.film.modulus"
     builder = DesignBuilder(base, [path])

@@ -24,6 +24,7 @@ from ..errors import ActsimInputError
 from ..schema import Table
 from ..spectra import LightSource, SpectralFunction, gaussian_bands, line_bands, read_table_csv, tabulated_bands
 from ..units import SI_UNITS, check_range, parse_dimensionless, parse_quantity
+from .limits import SIZE_LIMITS, check_count, check_time_counts, limit, nesting_depth
 from .model import HOLDS, HeatSettings, Layer, Material, OpticsSettings, Scenario, Step, Strip
 
 __all__ = ["JOB_SECTIONS", "DEFAULT_TIME_TOLERANCE", "parse_scenario", "load_scenario"]
@@ -44,9 +45,10 @@ JOB_SECTIONS = {
 }
 
 
-def _spectral(table: Table, key: str, *, kind: str | None, default, base_dir: Path, lo=0.0, hi=None):
-    """Parse a spectral property: a constant, a table or Gaussian bands."""
+def _spectral(table: Table, key: str, *, kind: str | None, default, base_dir: Path):
+    """Parse a spectral property: a constant, a table or Gaussian bands (range: ``materials.NAME.<key>`` of LIMITS)."""
     path = table.field_path(key)
+    lo, hi = limit(f"materials.NAME.{key}")["lo"], limit(f"materials.NAME.{key}")["hi"]
     value = table.raw(key, default)
     unit_name = SI_UNITS[kind][0] if kind else "1"
 
@@ -66,14 +68,17 @@ def _spectral(table: Table, key: str, *, kind: str | None, default, base_dir: Pa
         lam, vals = read_table_csv(base_dir / fname, field_name=f"{path}.file", value_unit_kind=kind)
         sub.finish()
         if hi is not None and np.any(vals > hi):
-            raise ActsimInputError(f"{path}.file: '{fname}' has a value {vals.max():g} above the allowed maximum {hi:g}")
+            raise ActsimInputError(f"{path}.file: '{fname}' has a value {vals.max():g} {unit_name} above the allowed "
+                                   f"maximum {hi:g} {unit_name}")
+        _check_wavelengths(lam, f"{path}.file", fname)
         return SpectralFunction(field=path, kind="table", wavelength=lam, values=vals, unit=unit_name)
     if sub.has("wavelength"):
         lam_raw = sub.raw("wavelength")
         val_raw = sub.raw("values")
         if not isinstance(lam_raw, list) or not isinstance(val_raw, list) or len(lam_raw) != len(val_raw) or len(lam_raw) < 2:
             raise ActsimInputError(f"{path}: 'wavelength' and 'values' must be lists of equal length (at least 2)")
-        lam = np.array([parse_quantity(v, field=f"{path}.wavelength[{i}]", kind="wavelength") for i, v in enumerate(lam_raw)])
+        check_count(len(lam_raw), "table_points", field=f"{path}.wavelength")
+        lam = np.array([_bounded(v, f"{path}.wavelength[{i}]", "spectral wavelength[]") for i, v in enumerate(lam_raw)])
         vals = np.array([scalar(v, f"{path}.values[{i}]") for i, v in enumerate(val_raw)])
         sub.finish()
         if np.any(np.diff(lam) <= 0):
@@ -84,16 +89,38 @@ def _spectral(table: Table, key: str, *, kind: str | None, default, base_dir: Pa
         sub.finish()
         if not isinstance(bands_raw, list) or not bands_raw:
             raise ActsimInputError(f"{path}.bands: must be a list of {{centre, fwhm, peak}} tables")
+        check_count(len(bands_raw), "spectral_bands", field=f"{path}.bands")
         bands = []
         for i, b in enumerate(bands_raw):
             bt = Table(b, f"{path}.bands[{i}]")
-            centre = bt.quantity("centre", "wavelength", lo=0, lo_open=True)
-            fwhm = bt.quantity("fwhm", "wavelength", lo=0, lo_open=True)
+            centre = bt.quantity("centre", "wavelength", **limit("spectral bands[].centre"))
+            fwhm = bt.quantity("fwhm", "wavelength", **limit("spectral bands[].fwhm"))
             peak = scalar(bt.raw("peak"), f"{path}.bands[{i}].peak")
             bt.finish()
             bands.append((centre, fwhm, peak))
         return SpectralFunction(field=path, kind="bands", bands=tuple(bands), unit=unit_name)
     raise ActsimInputError(f"{path}: a spectral table needs 'file', 'wavelength'+'values' or 'bands'")
+
+
+def _bounded(value, field: str, key: str) -> float:
+    """A quantity ``value`` in SI, range-checked against ``LIMITS[key]``."""
+    from .limits import LIMITS
+
+    lim = LIMITS[key]
+    si = parse_quantity(value, field=field, kind=lim.kind)
+    check_range(si, field=field, unit=SI_UNITS[lim.kind][0], **lim.kw(),
+                shown=f"{value!r} (= {si:g} {SI_UNITS[lim.kind][0]})")
+    return si
+
+
+def _check_wavelengths(lam, field: str, fname: str):
+    """Refuse a data file whose wavelengths leave the range of ``spectral wavelength[]``."""
+    lim = limit("spectral wavelength[]")
+    if lam[0] < lim["lo"] or lam[-1] > lim["hi"]:
+        raise ActsimInputError(
+            f"{field}: '{fname}' spans {lam[0] * 1e9:g} to {lam[-1] * 1e9:g} nm, outside the allowed range "
+            f"(>= {lim['lo'] * 1e9:g} nm and <= {lim['hi'] * 1e9:g} nm)"
+        )
 
 
 def _parse_temperature_modulus(t: "Table", base_dir: Path):
@@ -104,10 +131,10 @@ def _parse_temperature_modulus(t: "Table", base_dir: Path):
         g = t.table("glass_transition")
         law = (
             "glass",
-            g.quantity("glassy_modulus", "pressure", lo=0, lo_open=True),
-            g.quantity("rubbery_modulus", "pressure", lo=0, lo_open=True),
-            g.quantity("temperature", "temperature", lo=0, lo_open=True),
-            g.quantity("width", "temperature_difference", lo=0, lo_open=True),
+            g.quantity("glassy_modulus", "pressure", **limit("materials.NAME.glass_transition.glassy_modulus")),
+            g.quantity("rubbery_modulus", "pressure", **limit("materials.NAME.glass_transition.rubbery_modulus")),
+            g.quantity("temperature", "temperature", **limit("materials.NAME.glass_transition.temperature")),
+            g.quantity("width", "temperature_difference", **limit("materials.NAME.glass_transition.width")),
         )
         g.finish()
         return law
@@ -131,6 +158,13 @@ def _read_modulus_table(path: Path, field_name: str):
     temps, moduli = data.x, data.y
     if np.any(np.diff(temps) <= 0) or np.any(moduli <= 0):
         raise ActsimInputError(f"{field_name}: '{path.name}' temperatures must increase strictly and moduli be > 0")
+    for values, key, unit in ((temps, "glass_transition.temperature", "K"), (moduli, "modulus", "Pa")):
+        lim = limit(f"materials.NAME.{key}")
+        if values.min() < lim["lo"] or values.max() > lim["hi"]:
+            raise ActsimInputError(
+                f"{field_name}: '{path.name}' has a {key.split('.')[-1]} from {values.min():g} to {values.max():g} {unit}, "
+                f"outside the allowed range (>= {lim['lo']:g} and <= {lim['hi']:g} {unit})"
+            )
     return temps, moduli
 
 
@@ -144,26 +178,30 @@ def _parse_material(name: str, data, base_dir: Path) -> Material:
                     f"materials.{name}.{key}: not used when the modulus follows a temperature law; use product_modulus_ratio"
                 )
         modulus = product_modulus = None  # the temperature law gives them
-        ratio = t.number("product_modulus_ratio", default=1.0, lo=0.0, lo_open=True, hi=100.0)
+        ratio = t.number("product_modulus_ratio", default=1.0, **limit("materials.NAME.product_modulus_ratio"))
     else:
-        modulus = t.quantity("modulus", "pressure", lo=0, lo_open=True)
-        product_modulus = t.quantity("product_modulus", "pressure", default=modulus, lo=0, lo_open=True)
+        modulus = t.quantity("modulus", "pressure", **limit("materials.NAME.modulus"))
+        product_modulus = t.quantity("product_modulus", "pressure", default=modulus, **limit("materials.NAME.product_modulus"))
         ratio = product_modulus / modulus
-    nu = t.number("poisson_ratio", default=0.35, lo=0.0, hi=0.5, hi_open=True)
-    n_ref = t.number("refractive_index", default=1.5, lo=1.0, hi=4.0)
+    def lim(key):
+        return limit(f"materials.NAME.{key}")
+
+    nu = t.number("poisson_ratio", default=0.35, **lim("poisson_ratio"))
+    n_ref = t.number("refractive_index", default=1.5, **lim("refractive_index"))
     background = _spectral(t, "background_absorption", kind="absorption_coefficient", default="0 1/m", base_dir=base_dir)
-    conc = t.quantity("chromophore_concentration", "concentration", default=0.0, lo=0.0)
-    photo_strain = t.number("photo_strain", default=0.0, lo=-0.5, hi=0.5)
-    k_back = t.quantity("thermal_back_rate", "rate", default=0.0, lo=0.0)
-    x_max = t.number("reactive_fraction", default=1.0, lo=0.0, lo_open=True, hi=1.0)
+    conc = t.quantity("chromophore_concentration", "concentration", default=0.0, **lim("chromophore_concentration"))
+    photo_strain = t.number("photo_strain", default=0.0, **lim("photo_strain"))
+    k_back = t.quantity("thermal_back_rate", "rate", default=0.0, **lim("thermal_back_rate"))
+    x_max = t.number("reactive_fraction", default=1.0, **lim("reactive_fraction"))
     kw = dict(
-        conductivity=t.quantity("conductivity", "conductivity", default=0.2, lo=0.0, lo_open=True),
-        density=t.quantity("density", "density", default=1200.0, lo=0.0, lo_open=True),
-        specific_heat=t.quantity("specific_heat", "heat_capacity", default=1500.0, lo=0.0, lo_open=True),
-        thermal_expansion=t.quantity("thermal_expansion", "thermal_expansion", default=0.0, lo=-1e-3, hi=1e-2),
-        heat_fraction=t.number("heat_fraction", default=1.0, lo=0.0, hi=1.0),
-        back_reaction_activation_energy=t.quantity("back_reaction_activation_energy", "energy_per_mol", default=0.0, lo=0.0, hi=1e6),
-        network_modulus=t.quantity("network_modulus", "pressure", default=0.0, lo=0.0),
+        conductivity=t.quantity("conductivity", "conductivity", default=0.2, **lim("conductivity")),
+        density=t.quantity("density", "density", default=1200.0, **lim("density")),
+        specific_heat=t.quantity("specific_heat", "heat_capacity", default=1500.0, **lim("specific_heat")),
+        thermal_expansion=t.quantity("thermal_expansion", "thermal_expansion", default=0.0, **lim("thermal_expansion")),
+        heat_fraction=t.number("heat_fraction", default=1.0, **lim("heat_fraction")),
+        back_reaction_activation_energy=t.quantity("back_reaction_activation_energy", "energy_per_mol", default=0.0,
+                                                   **lim("back_reaction_activation_energy")),
+        network_modulus=t.quantity("network_modulus", "pressure", default=0.0, **lim("network_modulus")),
         temperature_modulus=temperature_modulus,
         product_modulus_ratio=ratio,
     )
@@ -174,8 +212,8 @@ def _parse_material(name: str, data, base_dir: Path) -> Material:
     if conc > 0:
         kw["reactant_absorptivity"] = _spectral(t, "reactant_absorptivity", kind="molar_absorptivity", default=..., base_dir=base_dir)
         kw["product_absorptivity"] = _spectral(t, "product_absorptivity", kind="molar_absorptivity", default="0 m^2/mol", base_dir=base_dir)
-        kw["forward_quantum_yield"] = _spectral(t, "forward_quantum_yield", kind=None, default=..., base_dir=base_dir, lo=0.0, hi=1.0)
-        kw["backward_quantum_yield"] = _spectral(t, "backward_quantum_yield", kind=None, default=0.0, base_dir=base_dir, lo=0.0, hi=1.0)
+        kw["forward_quantum_yield"] = _spectral(t, "forward_quantum_yield", kind=None, default=..., base_dir=base_dir)
+        kw["backward_quantum_yield"] = _spectral(t, "backward_quantum_yield", kind=None, default=0.0, base_dir=base_dir)
     else:
         for key in ("reactant_absorptivity", "product_absorptivity", "forward_quantum_yield", "backward_quantum_yield",
                     "reactive_fraction"):
@@ -200,26 +238,24 @@ def _parse_source(i: int, data, optics: OpticsSettings, base_dir: Path) -> Light
     name = t.string("name")
     kind = t.string("kind", default="line", choices=("line", "gaussian", "table"))
     face = t.string("face", default="top", choices=("top", "bottom"))
-    irradiance = t.quantity("irradiance", "irradiance", lo=0.0)
+    irradiance = t.quantity("irradiance", "irradiance", **limit("sources[].irradiance"))
     if kind == "line":
-        lam = t.quantity("wavelength", "wavelength", lo=100e-9, hi=20e-6)
+        lam = t.quantity("wavelength", "wavelength", **limit("sources[].wavelength"))
         wl, frac = line_bands(wavelength=lam)
         desc = f"line at {lam * 1e9:.4g} nm"
     elif kind == "gaussian":
-        lam = t.quantity("wavelength", "wavelength", lo=100e-9, hi=20e-6)
-        fwhm = t.quantity("fwhm", "wavelength", lo=0.0, lo_open=True, hi=lam / 2)
-        n_bands = t.integer("bands", default=optics.bands_per_source, lo=1, hi=200)
+        lam = t.quantity("wavelength", "wavelength", **limit("sources[].wavelength"))
+        fwhm_range = limit("sources[].fwhm")
+        fwhm_range["hi"] = min(fwhm_range["hi"], lam / 2)
+        fwhm = t.quantity("fwhm", "wavelength", **fwhm_range)
+        n_bands = t.integer("bands", default=optics.bands_per_source, lo=1, hi=limit("sources[].bands")["hi"])
         wl, frac = gaussian_bands(centre=lam, fwhm=fwhm, n_bands=n_bands)
         desc = f"Gaussian band at {lam * 1e9:.4g} nm, FWHM {fwhm * 1e9:.3g} nm"
     else:
         fname = t.string("file")
-        n_bands = t.integer("bands", default=optics.bands_per_source, lo=1, hi=200)
+        n_bands = t.integer("bands", default=optics.bands_per_source, lo=1, hi=limit("sources[].bands")["hi"])
         lam_tab, val = read_table_csv(base_dir / fname, field_name=f"sources[{i}].file", value_unit_kind=None)
-        if lam_tab[0] < 100e-9 or lam_tab[-1] > 20e-6:
-            raise ActsimInputError(
-                f"sources[{i}].file: '{fname}' spans {lam_tab[0] * 1e9:g} to {lam_tab[-1] * 1e9:g} nm, outside the "
-                "allowed range (>= 100 nm and <= 20000 nm)"
-            )
+        _check_wavelengths(lam_tab, f"sources[{i}].file", fname)
         wl, frac = tabulated_bands(wavelength=lam_tab, spectral_irradiance=val, n_bands=n_bands, field_name=f"sources[{i}].file")
         desc = f"tabulated spectrum '{fname}' ({lam_tab[0] * 1e9:.4g}-{lam_tab[-1] * 1e9:.4g} nm)"
     t.finish()
@@ -228,21 +264,21 @@ def _parse_source(i: int, data, optics: OpticsSettings, base_dir: Path) -> Light
 
 def _parse_step(i: int, data, sources, heat: "HeatSettings", previous: "Step | None", thickness: float) -> Step:
     t = Table(data, f"protocol[{i}]")
-    duration = t.quantity("duration", "time", lo=0.0, lo_open=True)
+    duration = t.quantity("duration", "time", **limit("protocol[].duration"))
     label = t.string("label", default="")
     hold = t.string("hold", default="free", choices=HOLDS)
     hold_value = 0.0
     if hold == "stretch":
-        hold_value = t.number("strain", lo=-0.5, hi=2.0)
+        hold_value = t.number("strain", **limit("protocol[].strain"))
     elif hold == "bend":
         if t.has("curvature") and t.has("mandrel_radius"):
             raise ActsimInputError(f"protocol[{i}]: give curvature or mandrel_radius, not both")
         if t.has("mandrel_radius"):
             key = "mandrel_radius"
-            hold_value = 1.0 / t.quantity("mandrel_radius", "length", lo=0.0, lo_open=True)
+            hold_value = 1.0 / t.quantity("mandrel_radius", "length", **limit("protocol[].mandrel_radius"))
         else:
             key = "curvature"
-            hold_value = t.quantity("curvature", "curvature")
+            hold_value = t.quantity("curvature", "curvature", **limit("protocol[].curvature"))
         surface = abs(hold_value) * thickness / 2
         if surface > 2.0:
             raise ActsimInputError(
@@ -258,9 +294,11 @@ def _parse_step(i: int, data, sources, heat: "HeatSettings", previous: "Step | N
     for key in ("strain", "curvature", "mandrel_radius"):
         if t.has(key) and key not in t.used:
             raise ActsimInputError(f"protocol[{i}].{key}: only used with hold = 'stretch' (strain) or 'bend' (curvature, mandrel_radius)")
-    amb = t.quantity("ambient_temperature", "temperature", default=None, lo=0.0, lo_open=True)
-    h_top = t.quantity("top_heat_transfer", "heat_transfer_coefficient", default=None, lo=0.0)
-    h_bot = t.quantity("bottom_heat_transfer", "heat_transfer_coefficient", default=None, lo=0.0)
+    amb = t.quantity("ambient_temperature", "temperature", default=None, **limit("protocol[].ambient_temperature"))
+    h_top = t.quantity("top_heat_transfer", "heat_transfer_coefficient", default=None,
+                       **limit("protocol[].top_heat_transfer"))
+    h_bot = t.quantity("bottom_heat_transfer", "heat_transfer_coefficient", default=None,
+                       **limit("protocol[].bottom_heat_transfer"))
     if (amb is not None or h_top is not None or h_bot is not None) and not heat.enabled:
         raise ActsimInputError(
             f"protocol[{i}]: ambient_temperature / heat transfer given but heat is not modelled "
@@ -295,7 +333,8 @@ def _parse_step(i: int, data, sources, heat: "HeatSettings", previous: "Step | N
             irr[j] = sources[j].irradiance
         else:
             v = parse_quantity(value, field=f"protocol[{i}].light.{key}", kind="irradiance")
-            check_range(v, field=f"protocol[{i}].light.{key}", unit="W/m^2", lo=0.0, shown=repr(value))
+            check_range(v, field=f"protocol[{i}].light.{key}", unit="W/m^2", **limit("protocol[].light.NAME"),
+                        shown=f"{value!r} (= {v:g} W/m^2)")
             irr[j] = v
     t.finish()
     return Step(duration=duration, irradiance=tuple(irr), label=label or f"step {i + 1}", hold=hold,
@@ -316,10 +355,19 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
         Folder against which relative data-file paths are resolved
         (default: the folder of ``path``, or the working directory).
     """
+    where = f"scenario {path or '<text>'}"
+    most = SIZE_LIMITS["file_bytes"]
+    if len(text) > most or len(text.encode("utf-8", "surrogatepass")) > most:
+        raise ActsimInputError(f"{where}: the text is longer than {most} bytes (allowed <= {most})")
+    depth = SIZE_LIMITS["nesting_depth"]
     try:
         raw = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
-        raise ActsimInputError(f"scenario {path or '<text>'}: not valid TOML ({exc})") from None
+        raise ActsimInputError(f"{where}: not valid TOML ({exc})") from None
+    except RecursionError:
+        raise ActsimInputError(f"{where}: tables or arrays are nested too deeply (allowed <= {depth} levels)") from None
+    if nesting_depth(raw, stop=depth) > depth:
+        raise ActsimInputError(f"{where}: tables or arrays are nested too deeply (allowed <= {depth} levels)")
     base = Path(base_dir) if base_dir is not None else (Path(path).parent if path else Path.cwd())
     top = Table(raw, "")
     title = top.string("title", default=Path(path).stem if path else "scenario")
@@ -327,8 +375,8 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
 
     st = top.table("strip")
     strip = Strip(
-        free_length=st.quantity("free_length", "length", lo=0.0, lo_open=True),
-        width=st.quantity("width", "length", lo=0.0, lo_open=True),
+        free_length=st.quantity("free_length", "length", **limit("strip.free_length")),
+        width=st.quantity("width", "length", **limit("strip.width")),
         section=st.string("section", default="beam", choices=("beam", "plate")),
     )
     st.finish()
@@ -336,21 +384,25 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
     ot = top.table("optics", default={})
     optics = OpticsSettings(
         front_reflection=ot.boolean("front_reflection", default=True),
-        ambient_refractive_index=ot.number("ambient_refractive_index", default=1.0, lo=1.0, hi=4.0),
-        max_cell_optical_depth=ot.number("max_cell_optical_depth", default=1.5, lo=0.0, lo_open=True, hi=20.0),
-        bands_per_source=ot.integer("bands_per_source", default=15, lo=1, hi=200),
+        ambient_refractive_index=ot.number("ambient_refractive_index", default=1.0,
+                                           **limit("optics.ambient_refractive_index")),
+        max_cell_optical_depth=ot.number("max_cell_optical_depth", default=1.5, **limit("optics.max_cell_optical_depth")),
+        bands_per_source=ot.integer("bands_per_source", default=15, lo=1, hi=limit("optics.bands_per_source")["hi"]),
     )
     ot.finish()
 
     mats_raw = top.raw("materials")
     if not isinstance(mats_raw, dict) or not mats_raw:
         raise ActsimInputError("materials: required section with at least one material, e.g. [materials.film]")
+    check_count(len(mats_raw), "materials", field="materials")
     materials = {name: _parse_material(name, data, base) for name, data in mats_raw.items()}
 
     layers_raw = top.raw("layers")
     if not isinstance(layers_raw, list) or not layers_raw:
         raise ActsimInputError("layers: required list of [[layers]] tables, bottom to top")
+    check_count(len(layers_raw), "layers", field="layers")
     layers = []
+    layer_names = set()
     for i, data in enumerate(layers_raw):
         lt = Table(data, f"layers[{i}]")
         mname = lt.string("material")
@@ -361,9 +413,9 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
         layer = Layer(
             name=lt.string("name", default=f"layer{i}"),
             material=materials[mname],
-            thickness=lt.quantity("thickness", "length", lo=0.0, lo_open=True, hi=0.1),
-            cells=lt.integer("cells", default=20, lo=1, hi=10000),
-            initial_conversion=lt.number("initial_conversion", default=0.0, lo=0.0, hi=1.0),
+            thickness=lt.quantity("thickness", "length", **limit("layers[].thickness")),
+            cells=lt.integer("cells", default=20, lo=1, hi=limit("layers[].cells")["hi"]),
+            initial_conversion=lt.number("initial_conversion", default=0.0, **limit("layers[].initial_conversion")),
         )
         if layer.initial_conversion > 0 and not layer.material.is_active:
             raise ActsimInputError(
@@ -375,31 +427,38 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
                 f"{layer.material.reactive_fraction:g} of material '{mname}' (dimensionless; allowed range 0 to "
                 f"{layer.material.reactive_fraction:g})"
             )
-        if any(other.name == layer.name for other in layers):
+        if layer.name in layer_names:
             raise ActsimInputError(f"layers[{i}].name: '{layer.name}' is already used by another layer; names must be unique")
         lt.finish()
         layers.append(layer)
+        layer_names.add(layer.name)
+    check_count(sum(layer.cells for layer in layers), "total_cells", field="layers[].cells")
 
     src_raw = top.raw("sources", default=[])
     if not isinstance(src_raw, list):
         raise ActsimInputError("sources: must be a list of [[sources]] tables")
+    check_count(len(src_raw), "sources", field="sources")
     sources = [_parse_source(i, d, optics, base) for i, d in enumerate(src_raw)]
-    names = [s.name for s in sources]
-    dup = {n for n in names if names.count(n) > 1}
-    if dup:
-        raise ActsimInputError(f"sources: name '{sorted(dup)[0]}' is used twice; names must be unique")
+    seen = set()
+    for s in sources:
+        if s.name in seen:
+            raise ActsimInputError(f"sources: name '{s.name}' is used twice; names must be unique")
+        seen.add(s.name)
 
     if top.has("heat"):
         ht = top.table("heat")
-        ambient = ht.quantity("ambient_temperature", "temperature", default="20 degC", lo=0.0, lo_open=True)
+        ambient = ht.quantity("ambient_temperature", "temperature", default="20 degC", **limit("heat.ambient_temperature"))
         heat = HeatSettings(
             enabled=ht.boolean("enabled", default=True),
             ambient_temperature=ambient,
-            reference_temperature=ht.quantity("reference_temperature", "temperature", default=ambient, lo=0.0, lo_open=True),
-            top_heat_transfer=ht.quantity("top_heat_transfer", "heat_transfer_coefficient", default="10 W/(m^2*K)", lo=0.0),
-            bottom_heat_transfer=ht.quantity("bottom_heat_transfer", "heat_transfer_coefficient", default="10 W/(m^2*K)", lo=0.0),
-            top_emissivity=ht.number("top_emissivity", default=0.0, lo=0.0, hi=1.0),
-            bottom_emissivity=ht.number("bottom_emissivity", default=0.0, lo=0.0, hi=1.0),
+            reference_temperature=ht.quantity("reference_temperature", "temperature", default=ambient,
+                                              **limit("heat.reference_temperature")),
+            top_heat_transfer=ht.quantity("top_heat_transfer", "heat_transfer_coefficient", default="10 W/(m^2*K)",
+                                          **limit("heat.top_heat_transfer")),
+            bottom_heat_transfer=ht.quantity("bottom_heat_transfer", "heat_transfer_coefficient", default="10 W/(m^2*K)",
+                                             **limit("heat.bottom_heat_transfer")),
+            top_emissivity=ht.number("top_emissivity", default=0.0, **limit("heat.top_emissivity")),
+            bottom_emissivity=ht.number("bottom_emissivity", default=0.0, **limit("heat.bottom_emissivity")),
             scheme=ht.string("scheme", default="tr-bdf2", choices=("tr-bdf2", "crank-nicolson")),
         )
         ht.finish()
@@ -418,6 +477,7 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
     prot_raw = top.raw("protocol")
     if not isinstance(prot_raw, list) or not prot_raw:
         raise ActsimInputError("protocol: required list of [[protocol]] steps (each with a duration)")
+    check_count(len(prot_raw), "protocol_steps", field="protocol")
     protocol = []
     for i, d in enumerate(prot_raw):
         protocol.append(_parse_step(i, d, sources, heat, protocol[-1] if protocol else None,
@@ -425,14 +485,14 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
 
     tt = top.table("time", default={})
     total = sum(s.duration for s in protocol)
-    output_interval = tt.quantity("output_interval", "time", default=None, lo=0.0, lo_open=True)
+    output_interval = tt.quantity("output_interval", "time", default=None, **limit("time.output_interval"))
     if output_interval is None:
         output_interval = total / 200.0
-    time_step = tt.quantity("step", "time", default=None, lo=0.0, lo_open=True)
+    time_step = tt.quantity("step", "time", default=None, **limit("time.step"))
     if time_step is not None and tt.has("tolerance"):
         raise ActsimInputError("time: give either time.step (fixed steps) or time.tolerance (error-controlled steps), "
                                "not both")
-    tolerance = tt.number("tolerance", default=DEFAULT_TIME_TOLERANCE, lo=1e-10, hi=1e-1)
+    tolerance = tt.number("tolerance", default=DEFAULT_TIME_TOLERANCE, **limit("time.tolerance"))
     if time_step is None:
         time_step = math.inf
     else:
@@ -441,33 +501,14 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
     if tolerance and heat.enabled and heat.scheme == "crank-nicolson":
         raise ActsimInputError("heat.scheme: 'crank-nicolson' needs a fixed time.step (it rings when an error-controlled "
                                "step grows past the cell diffusion time); use 'tr-bdf2' or give time.step")
-    if output_interval > total:
-        raise ActsimInputError(
-            f"time.output_interval: {output_interval:g} s is longer than the whole protocol ({total:g} s)"
-        )
-    n_outputs = int(math.floor(total / output_interval + 1e-9)) + len(protocol)
-    if n_outputs > 1_000_000:
-        raise ActsimInputError(
-            f"time.output_interval: {output_interval:g} s gives {n_outputs} output times over {total:g} s "
-            "(allowed <= 1e6); use a longer interval"
-        )
-    n_cells_total = sum(layer.cells for layer in layers)
-    if n_outputs * n_cells_total > 200_000_000:
-        raise ActsimInputError(
-            f"time.output_interval: {n_outputs} output times x {n_cells_total} cells is too large to keep "
-            "(allowed <= 2e8 values per field); use a longer interval or fewer cells"
-        )
-    n_steps = sum(math.ceil(s.duration / time_step - 1e-9) for s in protocol) + n_outputs
-    if not tolerance and n_steps > 5_000_000:
-        raise ActsimInputError(
-            f"time.step: {time_step:g} s gives {n_steps} steps over {total:g} s (allowed <= 5e6); use a longer step"
-        )
+    check_time_counts(durations=[s.duration for s in protocol], output_interval=output_interval, time_step=time_step,
+                      fixed=not tolerance, n_cells=sum(layer.cells for layer in layers))
 
     target = None
     rt = top.table("report", default={})
     if rt.has("target_bend_angle"):
-        target = rt.quantity("target_bend_angle", "angle")
-    front_level = rt.number("front_conversion", 0.5, lo=0.0, hi=1.0, lo_open=True, hi_open=True)
+        target = rt.quantity("target_bend_angle", "angle", **limit("report.target_bend_angle"))
+    front_level = rt.number("front_conversion", 0.5, **limit("report.front_conversion"))
     rt.finish()
     sections = {}
     for section in JOB_SECTIONS:
@@ -505,6 +546,9 @@ def load_scenario(path) -> Scenario:
     p = Path(path)
     if not p.is_file():
         raise ActsimInputError(f"scenario: file '{p}' does not exist")
+    most = SIZE_LIMITS["file_bytes"]
+    if p.stat().st_size > most:
+        raise ActsimInputError(f"scenario: '{p}' is larger than {most} bytes (allowed <= {most})")
     try:
         text = p.read_text(encoding="utf-8")
     except UnicodeDecodeError:

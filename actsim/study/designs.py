@@ -48,6 +48,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from ..errors import ActsimInputError, ActsimWarning
+from ..scenario.limits import SIZE_LIMITS, check_time_counts, limit
 from ..units import SI_UNITS, parse_dimensionless, parse_quantity
 from .values import NUMBER_WITH_UNIT
 
@@ -64,34 +65,34 @@ GRID_STAGES = frozenset({"grid", "light", "photo", "heat", "material"})
 #: and material objects read the layer of each cell only.
 THICKNESS_STAGES = frozenset({"grid", "light", "heat"})
 
-# material property -> (reader kind, lo, hi, lo_open, hi_open, stages, needs an active material, needs heat)
-# ranges as in actsim.scenario.parse._parse_material; kind None = dimensionless number
+# material property -> (reader kind, stages, needs an active material, needs heat); the ranges are those of the
+# parser (actsim.scenario.limits.LIMITS["materials.NAME.<property>"]); kind None = dimensionless number
 _MATERIAL_FIELDS = {
-    "modulus": ("pressure", 0.0, None, True, False, {"material"}, False, False),
-    "product_modulus": ("pressure", 0.0, None, True, False, {"material"}, False, False),
-    "poisson_ratio": (None, 0.0, 0.5, False, True, {"material"}, False, False),
-    "refractive_index": (None, 1.0, 4.0, False, False, {"light"}, False, False),
-    "chromophore_concentration": ("concentration", 0.0, None, True, False, {"light"}, True, False),
-    "photo_strain": (None, -0.5, 0.5, False, False, {"material"}, True, False),
-    "thermal_back_rate": ("rate", 0.0, None, False, False, {"photo"}, False, False),
-    "reactive_fraction": (None, 0.0, 1.0, True, False, {"photo"}, True, False),
-    "conductivity": ("conductivity", 0.0, None, True, False, {"heat"}, False, False),
-    "density": ("density", 0.0, None, True, False, {"heat"}, False, False),
-    "specific_heat": ("heat_capacity", 0.0, None, True, False, {"heat"}, False, False),
-    "heat_fraction": (None, 0.0, 1.0, False, False, {"heat"}, False, False),
-    "thermal_expansion": ("thermal_expansion", -1e-3, 1e-2, False, False, {"material"}, False, True),
-    "back_reaction_activation_energy": ("energy_per_mol", 0.0, 1e6, False, False, {"photo"}, False, True),
-    "network_modulus": ("pressure", 0.0, None, False, False, {"material"}, True, False),
+    "modulus": ("pressure", {"material"}, False, False),
+    "product_modulus": ("pressure", {"material"}, False, False),
+    "poisson_ratio": (None, {"material"}, False, False),
+    "refractive_index": (None, {"light"}, False, False),
+    "chromophore_concentration": ("concentration", {"light"}, True, False),
+    "photo_strain": (None, {"material"}, True, False),
+    "thermal_back_rate": ("rate", {"photo"}, False, False),
+    "reactive_fraction": (None, {"photo"}, True, False),
+    "conductivity": ("conductivity", {"heat"}, False, False),
+    "density": ("density", {"heat"}, False, False),
+    "specific_heat": ("heat_capacity", {"heat"}, False, False),
+    "heat_fraction": (None, {"heat"}, False, False),
+    "thermal_expansion": ("thermal_expansion", {"material"}, False, True),
+    "back_reaction_activation_energy": ("energy_per_mol", {"photo"}, False, True),
+    "network_modulus": ("pressure", {"material"}, True, False),
 }
 
-# spectral material properties given as one constant: (kind, lo, hi, stages); all need an active material
+# spectral material properties given as one constant: (kind, stages), ranges as _MATERIAL_FIELDS; all need an active material
 # except the background absorption
 _SPECTRAL_FIELDS = {
-    "background_absorption": ("absorption_coefficient", 0.0, None, {"light"}),
-    "reactant_absorptivity": ("molar_absorptivity", 0.0, None, {"light"}),
-    "product_absorptivity": ("molar_absorptivity", 0.0, None, {"light"}),
-    "forward_quantum_yield": (None, 0.0, 1.0, {"photo"}),
-    "backward_quantum_yield": (None, 0.0, 1.0, {"photo"}),
+    "background_absorption": ("absorption_coefficient", {"light"}),
+    "reactant_absorptivity": ("molar_absorptivity", {"light"}),
+    "product_absorptivity": ("molar_absorptivity", {"light"}),
+    "forward_quantum_yield": (None, {"photo"}),
+    "backward_quantum_yield": (None, {"photo"}),
 }
 
 #: Field paths built without re-parsing (patterns; NAME and X are a name or an index), the rest go the general way.
@@ -259,7 +260,7 @@ class DesignBuilder:
             if tok[3] not in src:
                 return None
             j = src.index(tok[3])
-            irr = si_reader("irradiance", lo=0.0)
+            irr = si_reader("irradiance", **limit("protocol[].light.NAME"))
             default = sc.sources[j].irradiance
 
             def read(value):
@@ -279,7 +280,7 @@ class DesignBuilder:
                 e.steps.setdefault(i, {})["duration"] = v
                 e.stages.update(("schedule", "heat"))
 
-            return si_reader("time", lo=0.0, lo_open=True), apply
+            return si_reader("time", **limit("protocol[].duration")), apply
         if len(tok) == 3 and names[0] == "layers" and names[2] in ("thickness", "cells", "initial_conversion"):
             layers = _entries(raw, "layers", path)
             _, li = descend(layers, tok[1], path)
@@ -288,16 +289,16 @@ class DesignBuilder:
             if key == "thickness":
                 if any(st.hold == "bend" for st in sc.protocol):  # the bend limit depends on the stack thickness
                     return None
-                read = si_reader("length", lo=0.0, lo_open=True, hi=0.1)
+                read = si_reader("length", **limit("layers[].thickness"))
             elif key == "cells":
                 def read(value):
-                    if isinstance(value, bool) or not isinstance(value, int) or not 1 <= value <= 10000:
+                    if isinstance(value, bool) or not isinstance(value, int) or not 1 <= value <= limit("layers[].cells")["hi"]:
                         raise _General
                     return int(value)
             else:
                 if not sc.layers[li].material.is_active:
                     return None
-                read = si_reader(None, lo=0.0, hi=1.0)
+                read = si_reader(None, **limit("layers[].initial_conversion"))
 
             def apply(e, v):
                 e.layers.setdefault(li, {})[key] = v
@@ -310,7 +311,7 @@ class DesignBuilder:
             def apply(e, v):
                 e.strip[key] = v
 
-            return si_reader("length", lo=0.0, lo_open=True), apply
+            return si_reader("length", **limit(f"strip.{key}")), apply
         if len(tok) == 3 and names[0] == "sources" and names[2] == "wavelength":
             srcs = _entries(raw, "sources", path)
             _, j = descend(srcs, tok[1], path)
@@ -322,7 +323,7 @@ class DesignBuilder:
                 e.sources[j] = v
                 e.stages.update(("light", "photo", "schedule"))
 
-            return si_reader("wavelength", lo=100e-9, hi=20e-6), apply
+            return si_reader("wavelength", **limit("sources[].wavelength")), apply
         if len(tok) == 3 and names[0] == "materials" and names[1] is not None and names[2] is not None:
             mats = raw.get("materials")
             if not isinstance(mats, dict):
@@ -333,17 +334,17 @@ class DesignBuilder:
             mat = users[0] if users else None
             active = mat.is_active if mat is not None else False
             if key in _MATERIAL_FIELDS:
-                kind, lo, hi, lo_open, hi_open, stages, need_active, need_heat = _MATERIAL_FIELDS[key]
+                kind, stages, need_active, need_heat = _MATERIAL_FIELDS[key]
                 if mat is None or (need_active and not active) or (need_heat and not sc.heat.enabled):
                     return None
                 if key in ("modulus", "product_modulus") and mat.temperature_modulus is not None:
                     return None
-                read = si_reader(kind, lo=lo, hi=hi, lo_open=lo_open, hi_open=hi_open)
+                read = si_reader(kind, **limit(f"materials.NAME.{key}"))
             elif key in _SPECTRAL_FIELDS:
-                kind, lo, hi, stages = _SPECTRAL_FIELDS[key]
+                kind, stages = _SPECTRAL_FIELDS[key]
                 if mat is None or (key != "background_absorption" and not active):
                     return None
-                read = si_reader(kind, lo=lo, hi=hi)
+                read = si_reader(kind, **limit(f"materials.NAME.{key}"))
             else:
                 return None
 
@@ -513,14 +514,14 @@ class DesignBuilder:
         output_interval = sc.output_interval if "output_interval" in tt else total / 200.0
         if "output_interval" not in tt:
             out["output_interval"] = output_interval
-        if output_interval > total:
+        if sum(layer.cells for layer in layers) > SIZE_LIMITS["total_cells"]:
             raise _General
-        n_outputs = int(math.floor(total / output_interval + 1e-9)) + len(steps)
-        if n_outputs > 1_000_000 or n_outputs * sum(layer.cells for layer in layers) > 200_000_000:
-            raise _General
-        # fixed steps ([time] step) keep their step; error-controlled ones (the default) have no step to move
-        if not sc.time_tolerance and sum(math.ceil(s.duration / sc.time_step - 1e-9) for s in steps) + n_outputs > 5_000_000:
-            raise _General
+        try:  # the parser's limits on the protocol's length, output times and steps
+            check_time_counts(durations=[s.duration for s in steps], output_interval=output_interval,
+                              time_step=sc.time_step, fixed=not sc.time_tolerance,
+                              n_cells=sum(layer.cells for layer in layers))
+        except ActsimInputError:
+            raise _General from None
         return out
 
     @staticmethod
