@@ -32,6 +32,7 @@ import numpy as np
 
 from .cautions import CAUTION
 from .errors import ActsimInputError
+from .inputfiles import read_text_file
 
 __all__ = ["REPORT_FILE", "CHECKS_FILE", "DEPENDENCIES", "build_report", "write_report", "package_versions"]
 
@@ -135,8 +136,8 @@ def _require_result(result_dir) -> tuple[Path, dict]:
             f"RESULT_DIR: '{out}' has no {' and no '.join(missing)}, so it is not a result folder; {_RUN_HINT}"
         )
     try:
-        record = json.loads((out / "summary.json").read_text())
-    except (json.JSONDecodeError, UnicodeDecodeError) as exc:
+        record = json.loads(read_text_file(out / "summary.json", field="RESULT_DIR", what="JSON"))
+    except json.JSONDecodeError as exc:
         raise ActsimInputError(f"summary.json in '{out}': not valid JSON ({exc}); {_RUN_HINT}") from None
     if not isinstance(record, dict) or not isinstance(record.get("metrics"), dict):
         raise ActsimInputError(f"summary.json in '{out}': no 'metrics' table; {_RUN_HINT}")
@@ -149,8 +150,8 @@ def _load_checks(out: Path):
     if not path.is_file():
         return None
     try:
-        data = json.loads(path.read_text())
-    except (json.JSONDecodeError, UnicodeDecodeError) as exc:
+        data = json.loads(read_text_file(path, field="RESULT_DIR", what="JSON"))
+    except json.JSONDecodeError as exc:
         raise ActsimInputError(f"{CHECKS_FILE} in '{out}': not valid JSON ({exc}); rerun `actsim check SCENARIO -o {out}`") from None
     if isinstance(data, dict):
         for key in ("checks", "results", "records"):
@@ -173,7 +174,7 @@ def _load_scenario(out: Path, record: dict):
     text = ""
     p = out / "scenario.toml"
     if p.is_file():
-        text = p.read_text()
+        text = read_text_file(p, field="RESULT_DIR", what="TOML")
     if not text:
         return None, "", "the result folder holds no scenario.toml"
     from .scenario import parse_scenario

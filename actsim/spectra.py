@@ -322,9 +322,10 @@ def read_table_csv(path, *, field_name, value_unit_kind=None):
     from .tables import read_csv_table, read_xy_csv
     from .units import SI_UNITS
 
+    from .inputfiles import check_data_file
+
     path = Path(path)
-    if not path.is_file():
-        raise ActsimInputError(f"{field_name}: spectrum file '{path}' does not exist")
+    check_data_file(path, field=field_name, shown=str(path))
     try:
         table = read_csv_table(path)
         if table.units[0] is None:

@@ -348,7 +348,7 @@ def run_demo(out: Path) -> str:
     from ..units import parse_quantity
 
     folder = _calibration_folder()
-    truth = tomllib.loads((folder / "truth.toml").read_text())
+    truth = tomllib.loads((folder / "truth.toml").read_text(encoding="utf-8"))
     rows = []
 
     def row(what, fitted, lo, hi, true, unit, scale=1.0):

@@ -21,6 +21,7 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import ActsimInputError
+from ..inputfiles import read_text_file, resolve_data_path
 from ..schema import Table
 from ..spectra import LightSource, SpectralFunction, gaussian_bands, line_bands, read_table_csv, tabulated_bands
 from ..units import SI_UNITS, check_range, parse_dimensionless, parse_quantity
@@ -63,7 +64,8 @@ def _spectral(table: Table, key: str, *, kind: str | None, default, base_dir: Pa
     sub = Table(value, path)
     if sub.has("file"):
         fname = sub.string("file")
-        lam, vals = read_table_csv(base_dir / fname, field_name=f"{path}.file", value_unit_kind=kind)
+        lam, vals = read_table_csv(resolve_data_path(fname, base_dir=base_dir, field=f"{path}.file"), field_name=f"{path}.file",
+                                   value_unit_kind=kind)
         sub.finish()
         if hi is not None and np.any(vals > hi):
             raise ActsimInputError(f"{path}.file: '{fname}' has a value {vals.max():g} above the allowed maximum {hi:g}")
@@ -115,7 +117,8 @@ def _parse_temperature_modulus(t: "Table", base_dir: Path):
         g = t.table("modulus_table")
         fname = g.string("file")
         g.finish()
-        temps, moduli = _read_modulus_table(base_dir / fname, f"{t.name}.modulus_table.file")
+        where = f"{t.name}.modulus_table.file"
+        temps, moduli = _read_modulus_table(resolve_data_path(fname, base_dir=base_dir, field=where), where)
         return ("table", temps, moduli)
     return None
 
@@ -214,7 +217,8 @@ def _parse_source(i: int, data, optics: OpticsSettings, base_dir: Path) -> Light
     else:
         fname = t.string("file")
         n_bands = t.integer("bands", default=optics.bands_per_source, lo=1, hi=200)
-        lam_tab, val = read_table_csv(base_dir / fname, field_name=f"sources[{i}].file", value_unit_kind=None)
+        lam_tab, val = read_table_csv(resolve_data_path(fname, base_dir=base_dir, field=f"sources[{i}].file"),
+                                      field_name=f"sources[{i}].file", value_unit_kind=None)
         if lam_tab[0] < 100e-9 or lam_tab[-1] > 20e-6:
             raise ActsimInputError(
                 f"sources[{i}].file: '{fname}' spans {lam_tab[0] * 1e9:g} to {lam_tab[-1] * 1e9:g} nm, outside the "
@@ -502,10 +506,5 @@ def load_scenario(path) -> Scenario:
     >>> ds = actsim.simulate(sc)  # doctest: +SKIP
     """
     p = Path(path)
-    if not p.is_file():
-        raise ActsimInputError(f"scenario: file '{p}' does not exist")
-    try:
-        text = p.read_text(encoding="utf-8")
-    except UnicodeDecodeError:
-        raise ActsimInputError(f"scenario: '{p}' is not a UTF-8 text (TOML) file") from None
+    text = read_text_file(p, field="scenario", what="TOML")
     return parse_scenario(text, path=p)

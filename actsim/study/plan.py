@@ -193,13 +193,17 @@ def data_file_digests(scenario, extra_names=()) -> dict:
         tree = tomllib.loads(scenario.text)
     except Exception:
         tree = {}
+    from ..inputfiles import read_file_bytes, resolve_data_path
+
     base = Path(scenario.base_dir or (Path(scenario.path).parent if scenario.path else Path.cwd()))
     out = {}
     for name in _file_names(tree, []) + [str(n) for n in extra_names]:
-        path = Path(name) if Path(name).is_absolute() else base / name
-        try:
-            out[name] = hashlib.sha256(path.read_bytes()).hexdigest()
-        except OSError:
+        if name in out:
+            continue
+        try:  # the same checks as the parser: inside the folder, a regular file, bounded (never a FIFO or device)
+            data = read_file_bytes(resolve_data_path(name, base_dir=base, field="file"), field="file")
+            out[name] = hashlib.sha256(data).hexdigest()
+        except ActsimInputError:
             out[name] = "missing"
     return out
 
