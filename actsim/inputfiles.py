@@ -109,7 +109,7 @@ def _check_stat(st, shown: str, field: str, max_bytes: int):
                                f"{max_bytes / 2**20:g} MiB allowed for a text or data file")
 
 
-def check_data_file(path, *, field: str, shown: str | None = None, max_bytes: int = MAX_TEXT_FILE_BYTES) -> None:
+def check_data_file(path, *, field: str, shown: str | None = None, max_bytes: int | None = None) -> None:
     """Check, without opening it, that ``path`` is a regular file of at most ``max_bytes``.
 
     Parameters
@@ -120,8 +120,8 @@ def check_data_file(path, *, field: str, shown: str | None = None, max_bytes: in
         The field or option that named it, for the one-line error.
     shown : str, optional
         The name shown in messages (default: ``path`` as given).
-    max_bytes : int
-        Largest size accepted [bytes].
+    max_bytes : int, optional
+        Largest size accepted [bytes]; default :data:`MAX_TEXT_FILE_BYTES`.
 
     Raises
     ------
@@ -129,6 +129,7 @@ def check_data_file(path, *, field: str, shown: str | None = None, max_bytes: in
         Missing; a folder, device, FIFO or socket; under ``/proc``, ``/sys`` or ``/dev``; too large.
     """
     shown = os.fspath(path) if shown is None else shown
+    max_bytes = MAX_TEXT_FILE_BYTES if max_bytes is None else max_bytes
     if _in_system_folder(os.path.realpath(path)):
         raise ActsimInputError(f"{_label(field)}'{shown}' is a system file under /proc, /sys or /dev, not a data file")
     try:
@@ -140,7 +141,7 @@ def check_data_file(path, *, field: str, shown: str | None = None, max_bytes: in
     _check_stat(st, shown, field, max_bytes)
 
 
-def read_file_bytes(path, *, field: str = "", shown: str | None = None, max_bytes: int = MAX_TEXT_FILE_BYTES) -> bytes:
+def read_file_bytes(path, *, field: str = "", shown: str | None = None, max_bytes: int | None = None) -> bytes:
     """The bytes of a regular file of at most ``max_bytes``, checked as in :func:`check_data_file`.
 
     The path is checked with ``stat`` before it is opened (no device is ever opened), opened
@@ -155,14 +156,15 @@ def read_file_bytes(path, *, field: str = "", shown: str | None = None, max_byte
         The field or option that named it, for messages.
     shown : str, optional
         The name shown in messages (default: ``path`` as given).
-    max_bytes : int
-        Largest size accepted [bytes].
+    max_bytes : int, optional
+        Largest size accepted [bytes]; default :data:`MAX_TEXT_FILE_BYTES`.
 
     Returns
     -------
     bytes
     """
     shown = os.fspath(path) if shown is None else shown
+    max_bytes = MAX_TEXT_FILE_BYTES if max_bytes is None else max_bytes
     check_data_file(path, field=field, shown=shown, max_bytes=max_bytes)
     try:
         fd = os.open(path, os.O_RDONLY | getattr(os, "O_NONBLOCK", 0) | getattr(os, "O_NOCTTY", 0))
@@ -189,7 +191,7 @@ def read_file_bytes(path, *, field: str = "", shown: str | None = None, max_byte
 
 
 def read_text_file(path, *, field: str = "", shown: str | None = None, what: str = "text",
-                   max_bytes: int = MAX_TEXT_FILE_BYTES) -> str:
+                   max_bytes: int | None = None) -> str:
     """Read a regular file of at most ``max_bytes`` as strict UTF-8 text.
 
     Parameters
@@ -203,7 +205,7 @@ def read_text_file(path, *, field: str = "", shown: str | None = None, what: str
     what : str
         What the file should be, for the encoding message (``"TOML"``, ``"CSV"``, ``"JSON"``).
     max_bytes : int
-        Largest size accepted [bytes] (:data:`MAX_TEXT_FILE_BYTES`).
+        Largest size accepted [bytes]; default :data:`MAX_TEXT_FILE_BYTES`.
 
     Returns
     -------

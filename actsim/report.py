@@ -166,6 +166,17 @@ def _load_checks(out: Path):
         lack = [k for k in _CHECK_KEYS if k not in rec]
         if lack:
             raise ActsimInputError(f"{CHECKS_FILE} in '{out}': record {i} has no '{lack[0]}' field; rerun `actsim check SCENARIO -o {out}`")
+        for key in ("value", "limit", "margin"):  # numbers, null, or the words a JSON writer uses for infinities
+            v = rec[key]
+            ok = v is None or (isinstance(v, (int, float)) and not isinstance(v, bool)) or (
+                isinstance(v, str) and v.strip().lower() in ("inf", "+inf", "-inf", "infinity", "-infinity", "nan"))
+            if not ok:
+                raise ActsimInputError(f"{CHECKS_FILE} in '{out}': record {i} field '{key}' is not a number; "
+                                       f"rerun `actsim check SCENARIO -o {out}`")
+        for key in ("check", "unit", "source"):
+            if not isinstance(rec[key], str):
+                raise ActsimInputError(f"{CHECKS_FILE} in '{out}': record {i} field '{key}' is not text; "
+                                       f"rerun `actsim check SCENARIO -o {out}`")
     return data
 
 
