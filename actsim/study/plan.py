@@ -160,10 +160,14 @@ def _sample_values(axes, sampling, n_samples, seed):
                 a, unit = split_number_unit(s.start, p)
                 grid = range_values(Range(s.kind, s.start, s.stop, 2), p)
                 b = split_number_unit(grid[1], p)[0]
-                if s.kind == "log":
-                    v = np.exp(np.log(a) + u[:, j] * (np.log(b) - np.log(a)))
-                else:
-                    v = a + u[:, j] * (b - a)
+                with np.errstate(all="ignore"):  # refused below, with one line, if not finite
+                    if s.kind == "log":
+                        v = np.exp(np.log(a) + u[:, j] * (np.log(b) - np.log(a)))
+                    else:
+                        v = a + u[:, j] * (b - a)
+                if not np.all(np.isfinite(v)):
+                    raise ActsimInputError(f"{p}: {s.kind}({s.start}, {s.stop}) spans more than floating point numbers "
+                                           "can hold; use a narrower range")
                 vals.append([format_value(x, unit) for x in v])
             else:
                 k = np.minimum((u[:, j] * len(s)).astype(int), len(s) - 1)

@@ -89,12 +89,16 @@ def range_values(r: Range, field_path: str, num=None):
         raise ActsimInputError(f"{field_path}: {n} points is outside the allowed range (>= 1 and <= {MAX_SWEEP_DESIGNS})")
     if not (np.isfinite(a) and np.isfinite(b)):
         raise ActsimInputError(f"{field_path}: range ends {r.start!r} and {r.stop!r} must be finite numbers")
-    if r.kind == "log":
-        if a <= 0 or b <= 0:
-            raise ActsimInputError(f"{field_path}: log({r.start}, {r.stop}) needs both ends > 0")
-        vals = np.geomspace(a, b, n)
-    else:
-        vals = np.linspace(a, b, n)
+    if r.kind == "log" and (a <= 0 or b <= 0):
+        raise ActsimInputError(f"{field_path}: log({r.start}, {r.stop}) needs both ends > 0")
+    try:
+        with np.errstate(over="raise", invalid="raise"):  # a range too wide for floats: one line, no warning
+            vals = np.geomspace(a, b, n) if r.kind == "log" else np.linspace(a, b, n)
+    except FloatingPointError:
+        vals = np.array([np.nan])
+    if not np.all(np.isfinite(vals)):
+        raise ActsimInputError(f"{field_path}: {r.kind}({r.start}, {r.stop}) spans more than floating point numbers "
+                               "can hold; use a narrower range")
     return [format_value(v, unit) for v in vals]
 
 
