@@ -221,7 +221,7 @@ def test_binary_file_as_scenario(tmp_path, capsys):
     bad = tmp_path / "x.toml"
     bad.write_bytes(b"\x89HDF\r\n\x1a\n\xff\xfe")
     assert main(["run", str(bad)]) == 2
-    assert "not a UTF-8 text" in capsys.readouterr().err
+    assert "is not UTF-8 text" in capsys.readouterr().err
 
 
 def test_demo_copy(tmp_path, capsys):
