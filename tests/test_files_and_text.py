@@ -212,7 +212,8 @@ def test_report_refuses_non_utf8_scenario_and_checks(checked_folder, tmp_path, c
 
 # --- user strings in figures ------------------------------------------------------------------------------------
 
-@pytest.mark.parametrize("title", ["$\\undefinedcommand$", "x" * 2**20, "{$\\frac$} 50 % $"])
+@pytest.mark.parametrize("title", ["$\\undefinedcommand$", "x" * 2**20, "{$\\frac$} 50 % $"],
+                         ids=["undefined-command", "one-megabyte", "odd-dollars"])
 def test_titles_reach_figures_as_plain_text(tmp_path, capsys, title):
     text = film_toml(duration="1 s", step="0.1 s").replace('title = "test film"', f"title = {json.dumps(title)}")
     text = text.replace('name = "lamp"', 'name = "$\\\\lamp$"').replace('lamp = "50', '"$\\\\lamp$" = "50')
