@@ -204,7 +204,7 @@ def cmd_demo(args):
         return 0
     if args.list:
         for p in sorted(folder.glob("*.toml")):
-            first = next((ln for ln in p.read_text().splitlines() if ln.startswith("title")), "")
+            first = next((ln for ln in p.read_text(encoding="utf-8").splitlines() if ln.startswith("title")), "")
             print(f"  {p.stem:<24} {first.split('=', 1)[-1].strip().strip(chr(34))}")
         return 0
     path = folder / f"{args.scenario}.toml"

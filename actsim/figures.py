@@ -2,6 +2,13 @@
 
 Figures are drawn on :class:`matplotlib.figure.Figure` objects with the Agg canvas, not through
 pyplot: no global figure state, no GUI backend chosen for the caller, and pyplot's import time saved.
+
+Text in a figure often comes from the user (scenario title, layer and source names, swept field
+paths, column names of data files). :func:`plain_texts` turns every title, axis label, legend entry
+and annotation into plain text (no mathtext, no TeX, at most :data:`MAX_FIGURE_TEXT` characters);
+:func:`actsim.io.save_figure` calls it before drawing, so a title such as ``$\\undefined$`` or one
+a megabyte long is drawn as written (shortened), never parsed. Tick labels keep matplotlib's own
+formatting (log axes use mathtext for powers of ten).
 """
 
 from __future__ import annotations
@@ -9,6 +16,48 @@ from __future__ import annotations
 import numpy as np
 
 from .io import save_figure
+
+#: Longest text drawn in a figure (title, label, legend entry) [characters]; longer text ends in an ellipsis.
+MAX_FIGURE_TEXT = 120
+
+
+def shorten(text, limit: int = MAX_FIGURE_TEXT) -> str:
+    """``text`` on one line of at most ``limit`` characters (ending in an ellipsis when cut)."""
+    text = " ".join(str(text).split()) if ("\n" in str(text) and len(str(text)) > limit) else str(text)
+    return text if len(text) <= limit else text[: limit - 1] + "\u2026"
+
+
+def plain_texts(fig, limit: int = MAX_FIGURE_TEXT) -> None:
+    """Make every text of ``fig`` except tick labels plain: no mathtext, no TeX, at most ``limit`` characters.
+
+    Parameters
+    ----------
+    fig : matplotlib.figure.Figure
+        The figure, changed in place (before it is drawn).
+    limit : int
+        Longest text kept [characters].
+    """
+    from matplotlib.axis import Axis, Tick
+    from matplotlib.text import Text
+
+    texts, stack, seen = [], [fig], set()
+    while stack:  # every artist below the figure, except ticks (their labels come from matplotlib's formatters)
+        artist = stack.pop()
+        if id(artist) in seen or isinstance(artist, Tick):
+            continue
+        seen.add(id(artist))
+        if isinstance(artist, Text):
+            texts.append(artist)
+        if isinstance(artist, Axis):
+            stack.append(artist.label)  # not the ticks nor the offset text ("1e3", "x10^3")
+            continue
+        stack.extend(artist.get_children())
+    for artist in texts:
+        artist.set_usetex(False)
+        artist.set_parse_math(False)
+        text = artist.get_text()
+        if len(text) > limit:
+            artist.set_text(shorten(text, limit))
 
 
 def new_figure(figsize):

@@ -156,6 +156,9 @@ def write_timeseries_csv(ds, path):
 
 
 def save_figure(fig, path, dpi=120):
-    """Save a matplotlib figure atomically as PNG."""
+    """Save a matplotlib figure atomically as PNG (its titles, labels and legends drawn as plain text)."""
+    from .figures import plain_texts
+
+    plain_texts(fig)  # user strings (titles, names) are never parsed as mathtext or TeX
     with atomic_path(path) as tmp:
         fig.savefig(tmp, format="png", dpi=dpi, bbox_inches="tight")

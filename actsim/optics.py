@@ -30,6 +30,9 @@ from numba import njit
 
 from .errors import ActsimInputError
 
+#: Most cells of one layer (the upper limit of ``layers[].cells`` in the scenario parser).
+MAX_LAYER_CELLS = 10_000
+
 LN10 = math.log(10.0)
 
 
@@ -122,17 +125,15 @@ def light_params(scenario, grid) -> LightParams:
             raise ActsimInputError(f"layers[{li}]: absorption coefficient is not finite (check absorptivity and concentration)")
         worst = int(np.argmax(tau))
         if tau[worst] > max_tau:
-            need = int(math.ceil(alpha_hi[worst] * layer.thickness / max_tau))
+            need = float(alpha_hi[worst] * layer.thickness / max_tau)
             src = scenario.sources[beam_source[worst]].name
-            from .scenario.limits import limit
-
-            most = limit("layers[].cells")["hi"]
-            hint = (f"use cells >= {need}" if need <= most else
-                    f"that needs {need:.3g} cells, above the {most} allowed: use a thinner layer or less absorption")
+            fix = (f"use cells >= {math.ceil(need)}" if need <= MAX_LAYER_CELLS else
+                   f"it would need {need:.3g} cells, more than the {MAX_LAYER_CELLS} allowed per layer; lower the "
+                   "layer's absorption (concentration, absorptivity) or thickness, or raise optics.max_cell_optical_depth")
             raise ActsimInputError(
                 f"layers[{li}].cells: {layer.cells} cells give an optical depth of {tau[worst]:.3g} per cell at "
                 f"{beam_wl[worst] * 1e9:.4g} nm (source '{src}'), above optics.max_cell_optical_depth = {max_tau:g}; "
-                f"{hint}"
+                + fix
             )
     return LightParams(c0=c0, eps_a=eps_a, eps_b=eps_b, alpha_bg=alpha_bg, from_top=from_top, entry=entry,
                        beam_emol=molar_photon_energy(beam_wl) if n_beam else np.zeros(0), beam_source=beam_source,

@@ -32,6 +32,7 @@ import numpy as np
 
 from .cautions import CAUTION
 from .errors import ActsimInputError
+from .inputfiles import read_text_file
 
 __all__ = ["REPORT_FILE", "CHECKS_FILE", "DEPENDENCIES", "build_report", "write_report", "package_versions"]
 
@@ -135,8 +136,8 @@ def _require_result(result_dir) -> tuple[Path, dict]:
             f"RESULT_DIR: '{out}' has no {' and no '.join(missing)}, so it is not a result folder; {_RUN_HINT}"
         )
     try:
-        record = json.loads((out / "summary.json").read_text())
-    except (json.JSONDecodeError, UnicodeDecodeError) as exc:
+        record = json.loads(read_text_file(out / "summary.json", field="RESULT_DIR", what="JSON"))
+    except json.JSONDecodeError as exc:
         raise ActsimInputError(f"summary.json in '{out}': not valid JSON ({exc}); {_RUN_HINT}") from None
     if not isinstance(record, dict) or not isinstance(record.get("metrics"), dict):
         raise ActsimInputError(f"summary.json in '{out}': no 'metrics' table; {_RUN_HINT}")
@@ -149,8 +150,8 @@ def _load_checks(out: Path):
     if not path.is_file():
         return None
     try:
-        data = json.loads(path.read_text())
-    except (json.JSONDecodeError, UnicodeDecodeError) as exc:
+        data = json.loads(read_text_file(path, field="RESULT_DIR", what="JSON"))
+    except json.JSONDecodeError as exc:
         raise ActsimInputError(f"{CHECKS_FILE} in '{out}': not valid JSON ({exc}); rerun `actsim check SCENARIO -o {out}`") from None
     if isinstance(data, dict):
         for key in ("checks", "results", "records"):
@@ -165,6 +166,17 @@ def _load_checks(out: Path):
         lack = [k for k in _CHECK_KEYS if k not in rec]
         if lack:
             raise ActsimInputError(f"{CHECKS_FILE} in '{out}': record {i} has no '{lack[0]}' field; rerun `actsim check SCENARIO -o {out}`")
+        for key in ("value", "limit", "margin"):  # numbers, null, or the words a JSON writer uses for infinities
+            v = rec[key]
+            ok = v is None or (isinstance(v, (int, float)) and not isinstance(v, bool)) or (
+                isinstance(v, str) and v.strip().lower() in ("inf", "+inf", "-inf", "infinity", "-infinity", "nan"))
+            if not ok:
+                raise ActsimInputError(f"{CHECKS_FILE} in '{out}': record {i} field '{key}' is not a number; "
+                                       f"rerun `actsim check SCENARIO -o {out}`")
+        for key in ("check", "unit", "source"):
+            if not isinstance(rec[key], str):
+                raise ActsimInputError(f"{CHECKS_FILE} in '{out}': record {i} field '{key}' is not text; "
+                                       f"rerun `actsim check SCENARIO -o {out}`")
     return data
 
 
@@ -173,7 +185,7 @@ def _load_scenario(out: Path, record: dict):
     text = ""
     p = out / "scenario.toml"
     if p.is_file():
-        text = p.read_text()
+        text = read_text_file(p, field="RESULT_DIR", what="TOML")
     if not text:
         return None, "", "the result folder holds no scenario.toml"
     from .scenario import parse_scenario

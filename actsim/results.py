@@ -58,7 +58,9 @@ def write_result_folder(ds, scenario, out_dir, *, figures=True):
 
 def read_summary(out_dir) -> dict:
     """The summary record (summary.json) of a result folder."""
-    return json.loads((Path(out_dir) / SUMMARY_FILE).read_text())
+    from .inputfiles import read_text_file
+
+    return json.loads(read_text_file(Path(out_dir) / SUMMARY_FILE, field="summary", what="JSON"))
 
 
 def read_result_folder(out_dir):

@@ -322,16 +322,17 @@ def read_table_csv(path, *, field_name, value_unit_kind=None):
     from .tables import read_csv_table, read_xy_csv
     from .units import SI_UNITS
 
+    from .inputfiles import check_data_file
+
     path = Path(path)
-    if not path.is_file():
-        raise ActsimInputError(f"{field_name}: spectrum file '{path}' does not exist")
+    check_data_file(path, field=field_name, shown=path.name)
     try:
         table = read_csv_table(path)
         if table.units[0] is None:
-            raise ActsimInputError(f"'{path.name}' header '{table.header[0]}' gives no unit; write e.g. 'wavelength [nm]'")
+            raise ActsimInputError(f"'{path.name}' {table.label(0)} gives no unit in its header; write e.g. 'wavelength [nm]'")
         if value_unit_kind is not None and len(table.header) > 1 and table.units[1] is None:
             example = SI_UNITS[value_unit_kind][1].split(" ", 1)[1]
-            raise ActsimInputError(f"'{path.name}' header '{table.header[1]}' gives no unit; write e.g. 'value [{example}]'")
+            raise ActsimInputError(f"'{path.name}' {table.label(1)} gives no unit in its header; write e.g. 'value [{example}]'")
         data = read_xy_csv(table, x_kind="wavelength", y_kind=value_unit_kind or "relative")
     except ActsimInputError as exc:
         raise ActsimInputError(f"{field_name}: {exc}") from None

@@ -36,9 +36,10 @@ from pathlib import Path
 import numpy as np
 
 from .errors import ActsimInputError
+from .inputfiles import read_text_file
 from .units import SI_UNITS, registry
 
-__all__ = ["XYData", "KINDS", "CSVTable", "read_csv_table", "read_xy_csv", "as_xy", "data_file"]
+__all__ = ["XYData", "KINDS", "CSVTable", "read_csv_table", "read_xy_csv", "as_xy", "data_file", "column_label"]
 
 #: Physical kind of a column -> key of :data:`actsim.units.SI_UNITS`, or None for dimensionless.
 KINDS = {
@@ -118,6 +119,23 @@ def data_file(name: str):
     return resources.files("actsim").joinpath("data", name)
 
 
+def column_label(header, units, i) -> str:
+    """How a message names column ``i``: ``"column 'stress [MPa]'"``, or ``"column 2"`` (counted from 1).
+
+    The header cell is shown only when it looks like a header (a unit in brackets, at most 40
+    characters), so that a message never repeats other text of a file that is not a data table.
+    """
+    cell = header[i] if i < len(header) else ""
+    if units[i] is not None and len(cell) <= 40 and cell.isprintable():
+        return f"column '{cell}'"
+    return f"column {i + 1}"
+
+
+def _shown_unit(unit: str) -> str:
+    unit = str(unit)
+    return repr(unit) if len(unit) <= 30 and unit.isprintable() else "in the header"
+
+
 def _split(line: str, delim: str):
     return [c.strip() for c in line.split(delim)]
 
@@ -127,7 +145,7 @@ def _parse_unit(unit: str, *, where: str):
     try:
         return registry().parse_units(u)
     except Exception:
-        raise ActsimInputError(f"{where}: unit {unit!r} is not a unit actsim can read (e.g. MPa, degC, nm, %, 1)") from None
+        raise ActsimInputError(f"{where}: unit {_shown_unit(unit)} is not a unit actsim can read (e.g. MPa, degC, nm, %, 1)") from None
 
 
 def _to_si(values, unit: str, kind: str, *, where: str):
@@ -140,7 +158,7 @@ def _to_si(values, unit: str, kind: str, *, where: str):
         return np.asarray(registry().Quantity(values, u).to(si_unit).magnitude, dtype=float)
     except pint.DimensionalityError:
         ex = "1 or %" if si_key is None else SI_UNITS[si_key][1].split(" ", 1)[1]
-        raise ActsimInputError(f"{where}: unit {unit!r} is not a unit of {kind} (expected e.g. {ex})") from None
+        raise ActsimInputError(f"{where}: unit {_shown_unit(unit)} is not a unit of {kind} (expected e.g. {ex})") from None
 
 
 @dataclass
@@ -175,6 +193,10 @@ class CSVTable:
         """True if a comment says "synthetic" (invented data)."""
         return any("synthetic" in c.lower() for c in self.comments)
 
+    def label(self, i: int) -> str:
+        """How messages name column ``i`` (:func:`column_label`)."""
+        return column_label(self.header, self.units, i)
+
     def index(self, col, label: str = "column") -> int:
         """Index of a column given by index or by name (without unit, case-insensitive)."""
         if isinstance(col, (int, np.integer)):
@@ -184,7 +206,9 @@ class CSVTable:
         low = [n.lower() for n in self.names]
         if str(col).lower() in low:
             return low.index(str(col).lower())
-        raise ActsimInputError(f"{self.source}: no column named {col!r} in the header ({', '.join(self.names)})")
+        shown = [self.names[i] for i in range(len(self.names)) if self.label(i) != f"column {i + 1}"]
+        listed = f"; named columns: {', '.join(shown)}" if shown else ""
+        raise ActsimInputError(f"{self.source}: no column named {col!r} in the header ({len(self.header)} columns{listed})")
 
     def numbers(self, indices, *, allow_infinite: bool = False) -> np.ndarray:
         """The numbers of some columns, as written, shape (rows, len(indices)).
@@ -212,11 +236,11 @@ class CSVTable:
                     v = float(cells[i])
                 except ValueError:
                     raise ActsimInputError(
-                        f"{self.source} line {no}: column '{self.header[i]}' value {cells[i]!r} is not a number "
+                        f"{self.source} line {no}: {self.label(i)} is not a number "
                         "(use '.' as decimal point and ',' between columns)"
                     ) from None
                 if not (np.isfinite(v) or (allow_infinite and np.isinf(v))):
-                    raise ActsimInputError(f"{self.source} line {no}: column '{self.header[i]}' value {cells[i]!r} is not finite")
+                    raise ActsimInputError(f"{self.source} line {no}: {self.label(i)} value {cells[i][:30]!r} is not finite")
                 vals.append(v)
             out.append(vals)
         return np.array(out, dtype=float).reshape(len(out), len(indices))
@@ -242,19 +266,19 @@ class CSVTable:
         i = self.index(col)
         given = self.units[i]
         if given is None:
-            raise ActsimInputError(f"{self.source}: column '{self.header[i]}' has no unit; write it in the header, "
-                                   f"e.g. '{self.names[i]} [{unit}]'")
+            raise ActsimInputError(f"{self.source}: {self.label(i)} has no unit; write it in the header, "
+                                   f"e.g. 'name [{unit}]'")
         values = self.numbers((i,), allow_infinite=allow_infinite)[:, 0]
         if given == unit:
             return values
         import pint
 
-        want = _parse_unit(unit, where=f"{self.source} column '{self.header[i]}'")
+        want = _parse_unit(unit, where=f"{self.source} {self.label(i)}")
         try:
-            return np.asarray(registry().Quantity(values, _parse_unit(given, where=f"{self.source} column '{self.header[i]}'")).to(want).magnitude,
+            return np.asarray(registry().Quantity(values, _parse_unit(given, where=f"{self.source} {self.label(i)}")).to(want).magnitude,
                               dtype=float)
         except pint.DimensionalityError:
-            raise ActsimInputError(f"{self.source}: column '{self.header[i]}' unit {given!r} cannot be converted to "
+            raise ActsimInputError(f"{self.source}: {self.label(i)} unit {_shown_unit(given)} cannot be converted to "
                                    f"{unit!r}") from None
 
 
@@ -278,16 +302,18 @@ def read_csv_table(path) -> CSVTable:
     ActsimInputError
         File missing, not UTF-8 text, unreadable, or without a header line.
     """
-    p = Path(path) if isinstance(path, (str, os.PathLike)) else path
-    name = p.name
-    if not p.is_file():
-        raise ActsimInputError(f"data file: {str(path)!r} does not exist or is not a file")
-    try:
-        text = p.read_text(encoding="utf-8-sig")
-    except UnicodeDecodeError:
-        raise ActsimInputError(f"{name}: not a UTF-8 text file (save it as CSV text)") from None
-    except OSError as exc:
-        raise ActsimInputError(f"{name}: cannot be read ({exc.strerror})") from None
+    if isinstance(path, (str, os.PathLike)):
+        name = Path(path).name
+        text = read_text_file(path, field="data file", shown=name, what="CSV")
+    else:  # a packaged file (importlib.resources Traversable)
+        name = path.name
+        try:
+            text = path.read_bytes().decode("utf-8")
+        except UnicodeDecodeError:
+            raise ActsimInputError(f"data file: '{name}' is not UTF-8 text; save it as UTF-8 CSV") from None
+        except OSError as exc:
+            raise ActsimInputError(f"data file: '{name}' cannot be read ({exc.strerror})") from None
+        text = text[1:] if text.startswith("\ufeff") else text
     comments, header, rows = [], None, []
     delim = ","
     for no, raw in enumerate(text.splitlines(), start=1):
@@ -379,20 +405,20 @@ def read_xy_csv(path, *, x_kind, y_kind, x_unit=None, y_unit=None, x_column=0, y
         hdr = units[i]
         if hdr is not None and given is not None:
             if _parse_unit(hdr, where=f"{name} header") != _parse_unit(given, where=label):
-                raise ActsimInputError(f"{name}: header says '{header[i]}' but {label}={given!r}; remove one of them")
+                raise ActsimInputError(f"{name}: header says {tab.label(i)} but {label}={given!r}; remove one of them")
         u = hdr if hdr is not None else given
         if u is None:
             if KINDS[kind] is None:
                 return ""
             ex = SI_UNITS[KINDS[kind]][1].split(" ", 1)[1]
-            raise ActsimInputError(f"{name}: column '{header[i]}' ({kind}) has no unit; write it in the header, "
-                                   f"e.g. '{names[i] or kind} [{ex}]', or pass {label}=\"{ex}\"")
+            raise ActsimInputError(f"{name}: {tab.label(i)} ({kind}) has no unit; write it in the header, "
+                                   f"e.g. '{kind} [{ex}]', or pass {label}=\"{ex}\"")
         return u
 
     xu = unit_of(ix, x_unit, x_kind, "x_unit")
     yu = unit_of(iy, y_unit, y_kind, "y_unit")
-    x = _to_si(xs, xu, x_kind, where=f"{name} column '{header[ix]}'")
-    y = _to_si(ys, yu, y_kind, where=f"{name} column '{header[iy]}'")
+    x = _to_si(xs, xu, x_kind, where=f"{name} {tab.label(ix)}")
+    y = _to_si(ys, yu, y_kind, where=f"{name} {tab.label(iy)}")
     it = [tab.index(c, "text column") for c in text_columns]
     need = max([ix, iy, *it]) + 1
     for no, cells in tab.rows:

@@ -129,7 +129,7 @@ def test_percent_strain_in_fraction_column_is_detected(tmp_path):
 def test_unreadable_column_names_the_line(tmp_path):
     f = tmp_path / "bad.csv"
     f.write_text("# synthetic\nstrain [1], stress [MPa]\n0.0, 0.0\n0.001, abc\n")
-    with pytest.raises(ActsimInputError, match=r"bad.csv line 4: column 'stress \[MPa\]' value 'abc' is not a number"):
+    with pytest.raises(ActsimInputError, match=r"bad.csv line 4: column 'stress \[MPa\]' is not a number"):
         fit_tensile(f)
 
 
@@ -145,7 +145,7 @@ def test_reader_errors_missing_file_missing_unit_too_few_rows(tmp_path):
         read_xy_csv(tmp_path / "nope.csv", x_kind="strain", y_kind="stress")
     f = tmp_path / "nounit.csv"
     f.write_text("strain, stress\n0, 0\n0.001, 2\n0.002, 4\n")
-    with pytest.raises(ActsimInputError, match=r"column 'stress' \(stress\) has no unit"):
+    with pytest.raises(ActsimInputError, match=r"column 2 \(stress\) has no unit"):
         read_xy_csv(f, x_kind="strain", y_kind="stress")
     d = read_xy_csv(f, x_kind="strain", y_kind="stress", y_unit="MPa")
     np.testing.assert_allclose(d.y, [0, 2e6, 4e6])

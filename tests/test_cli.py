@@ -128,7 +128,7 @@ def test_bad_input_one_line_exit_2(tmp_path, capsys, desc, transform, fragment):
 @pytest.mark.parametrize("content,fragment", [
     ("wavelength [nm],epsilon10 [L/(mol*cm)]\n400,100\n350,200\n", "strictly increasing"),
     ("wavelength [nm],epsilon10 [L/(mol*cm)]\n300,100\n350,-2\n400,1\n", "negative"),
-    ("wavelength [nm],epsilon10 [L/(mol*cm)]\n300,100\n350,abc\n", "line 3: column 'epsilon10 [L/(mol*cm)]' value 'abc' is not a number"),
+    ("wavelength [nm],epsilon10 [L/(mol*cm)]\n300,100\n350,abc\n", "line 3: column 'epsilon10 [L/(mol*cm)]' is not a number"),
     ("wavelength,epsilon10 [L/(mol*cm)]\n300,100\n350,20\n", "gives no unit"),
 ])
 def test_bad_spectrum_files(tmp_path, capsys, content, fragment):
@@ -221,7 +221,7 @@ def test_binary_file_as_scenario(tmp_path, capsys):
     bad = tmp_path / "x.toml"
     bad.write_bytes(b"\x89HDF\r\n\x1a\n\xff\xfe")
     assert main(["run", str(bad)]) == 2
-    assert "not a UTF-8 text" in capsys.readouterr().err
+    assert "is not UTF-8 text" in capsys.readouterr().err
 
 
 def test_demo_copy(tmp_path, capsys):

@@ -308,3 +308,9 @@ def test_every_numeric_field_of_the_parser_has_a_limit():
     assert literal == []
     for key, lim in LIMITS.items():
         assert lim.lo < lim.hi and math.isfinite(lim.lo) and math.isfinite(lim.hi) and lim.reason, key
+
+
+def test_optics_cell_cap_is_the_scenario_limit():
+    from actsim.optics import MAX_LAYER_CELLS
+
+    assert MAX_LAYER_CELLS == LIMITS["layers[].cells"].hi

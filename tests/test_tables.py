@@ -40,8 +40,8 @@ def test_column_in_a_named_unit(tmp_path):
 
 
 @pytest.mark.parametrize("content, kind, match", [
-    ("wavelength,epsilon10 [L/(mol*cm)]\n300,100\n350,20\n", "molar_absorptivity", "header 'wavelength' gives no unit"),
-    ("wavelength [nm],epsilon10\n300,100\n350,20\n", "molar_absorptivity", "header 'epsilon10' gives no unit"),
+    ("wavelength,epsilon10 [L/(mol*cm)]\n300,100\n350,20\n", "molar_absorptivity", "column 1 gives no unit"),
+    ("wavelength [nm],epsilon10\n300,100\n350,20\n", "molar_absorptivity", "column 2 gives no unit"),
     ("wavelength [nm],epsilon10 [nm]\n300,100\n350,20\n", "molar_absorptivity", "is not a unit of molar_absorptivity"),
     ("wavelength [s],relative [1]\n300,1\n350,2\n", None, "is not a unit of wavelength"),
     ("wavelength [nm],relative [1]\n300,1\n", None, "1 data rows, at least 2"),

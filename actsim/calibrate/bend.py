@@ -686,18 +686,17 @@ def load_fit_plan(path) -> FitPlan:
     from ..scenario import load_scenario
     from ..schema import Table
 
+    from ..inputfiles import read_text_file, resolve_data_path
+
     p = Path(path)
-    if not p.is_file():
-        raise ActsimInputError(f"fit plan: file '{p}' does not exist")
+    text = read_text_file(p, field="fit plan", what="TOML")
     try:
-        raw = tomllib.loads(p.read_text())
+        raw = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise ActsimInputError(f"fit plan {p.name}: not valid TOML ({exc})") from None
-    except UnicodeDecodeError:
-        raise ActsimInputError(f"fit plan {p.name}: not a UTF-8 text file") from None
     base = p.parent
     t = Table(raw, "")
-    sc = load_scenario(base / t.string("scenario"))
+    sc = load_scenario(resolve_data_path(t.string("scenario"), base_dir=base, field="scenario"))
     confidence = t.number("confidence", default=0.95, lo=0.0, hi=1.0, lo_open=True, hi_open=True)
     max_it = t.integer("max_iterations", default=40, lo=1, hi=10000)
     params = None
@@ -726,7 +725,7 @@ def load_fit_plan(path) -> FitPlan:
         if not isinstance(ov, dict):
             raise ActsimInputError(f"curves[{i}].overrides: must be a table of field path -> value")
         sigma = ct.quantity("sigma", "angle", default=None, lo=0.0, lo_open=True)
-        curves.append(BendCurve(data=base / f, overrides=dict(ov), label=ct.string("label", default=""), sigma=sigma))
+        curves.append(BendCurve(data=resolve_data_path(f, base_dir=base, field=f"curves[{i}].file"), overrides=dict(ov), label=ct.string("label", default=""), sigma=sigma))
         ct.finish()
     t.finish()
     return FitPlan(scenario=sc, curves=curves, parameters=params, confidence=confidence, max_iterations=max_it,

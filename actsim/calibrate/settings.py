@@ -82,6 +82,7 @@ class CalibrationData:
     n_points: int | None = None
     sha256: str = ""
     synthetic: bool = False
+    refused: str = ""  # why the file is not read (outside the scenario's folder), or ""
 
 
 @dataclass(frozen=True, eq=False)
@@ -267,8 +268,16 @@ def parse_calibration(data, *, field="calibration", base_dir=None, scenario_info
         ov = dt.raw("overrides", default={})
         if not isinstance(ov, dict):
             raise ActsimInputError(f"{field}.data[{i}].overrides: must be a table of field path -> value")
+        refused = ""
+        if f:
+            from ..inputfiles import resolve_data_path
+
+            try:  # provenance only: a file outside the folder is recorded but never read
+                resolve_data_path(f, base_dir=base, field=f"{field}.data[{i}].file")
+            except ActsimInputError as exc:
+                refused = str(exc)
         provenance.append(CalibrationData(
-            file=(base / f) if f else None, label=dt.string("label", default=""), overrides=dict(ov),
+            file=(base / f) if f else None, refused=refused, label=dt.string("label", default=""), overrides=dict(ov),
             n_points=dt.integer("n_points", default=0, lo=0) or None, sha256=dt.string("sha256", default=""),
             synthetic=dt.boolean("synthetic", default=False)))
         dt.finish()

@@ -255,6 +255,9 @@ def _measured(cal):
     for d in cal.data:
         if d.file is None:
             continue
+        if d.refused:
+            notes.append(f"measured points of '{d.label or d.file.name}' not shown ({d.refused})")
+            continue
         try:
             xy = read_xy_csv(d.file, x_kind="time", y_kind="angle")
         except ActsimInputError as exc:

@@ -164,9 +164,11 @@ def _parse_material_limits(name: str, data, *, where: str, base_dir: Path) -> Ma
         group = t.string("limits")
         path = None
         if t.has("limits_file"):
-            path = Path(base_dir) / t.string("limits_file")
-            if not path.is_file():
-                raise ActsimInputError(f"{where}.limits_file: file '{path.name}' does not exist")
+            from ..inputfiles import check_data_file, resolve_data_path
+
+            name = t.string("limits_file")
+            path = resolve_data_path(name, base_dir=base_dir, field=f"{where}.limits_file")
+            check_data_file(path, field=f"{where}.limits_file", shown=name)
         table = load_material_limits(path)
         if group not in table:
             hint = difflib.get_close_matches(group, list(table), n=1)

@@ -414,12 +414,12 @@ def load_limits(path) -> dict[str, dict[str, Limit]]:
     dict
         Group name -> property name -> :class:`Limit`.
     """
+    from ..inputfiles import read_text_file
+
     p = Path(path)
+    text = read_text_file(p, field="limits file", shown=p.name, what="TOML")
     try:
-        with open(p, "rb") as fh:
-            data = tomllib.load(fh)
-    except FileNotFoundError:
-        raise ActsimInputError(f"limits file: {p.name} not found") from None
+        data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise ActsimInputError(f"limits file {p.name}: not valid TOML ({exc})") from None
     groups = data.get("groups")

@@ -348,7 +348,7 @@ def run_demo(out: Path) -> str:
     from ..units import parse_quantity
 
     folder = _calibration_folder()
-    truth = tomllib.loads((folder / "truth.toml").read_text())
+    truth = tomllib.loads((folder / "truth.toml").read_text(encoding="utf-8"))
     rows = []
 
     def row(what, fitted, lo, hi, true, unit, scale=1.0):
@@ -418,6 +418,17 @@ def cmd_fit(args) -> int:
     conf = args.confidence
     if conf is not None and not 0.0 < conf < 1.0:
         raise ActsimInputError(f"--confidence: {conf!r} is outside the allowed range (> 0 and < 1)")
+    if args.conversion is not None and not 0.0 < args.conversion <= 1.0:
+        raise ActsimInputError(f"--conversion: {args.conversion!r} is outside the allowed range (> 0 and <= 1)")
+    if not math.isfinite(args.absorbance_matrix) or args.absorbance_matrix < 0.0:
+        raise ActsimInputError(f"--absorbance-matrix: {args.absorbance_matrix!r} is outside the allowed range "
+                               "(>= 0, finite)")
+    if args.max_iterations is not None and not 1 <= args.max_iterations <= 10_000:
+        raise ActsimInputError(f"--max-iterations: {args.max_iterations} is outside the allowed range (>= 1 and <= 10000)")
+    for name in args.data:  # the files named on the command line: regular files, bounded, before any work
+        from ..inputfiles import check_data_file
+
+        check_data_file(name, field="DATA")
     if args.kind != "bend" and (args.scenario or args.curve or args.param):
         raise ActsimInputError(f"--scenario/--curve/--param: only for 'fit bend', not 'fit {args.kind}'")
     if args.kind == "tensile":

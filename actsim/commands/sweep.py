@@ -70,6 +70,73 @@ def _quantity(text, option, kind):
     return None if text is None else parse_quantity(text, field=option, kind=kind)
 
 
+#: Longest --timeout accepted [s] (a day).
+MAX_TIMEOUT = 86_400.0
+#: Most generations of --optimise's differential evolution.
+MAX_ITERATIONS = 10_000
+
+
+def _positive_quantity(text, option, kind):
+    """A finite quantity > 0 from an option (None when not given); one-line error otherwise."""
+    value = _quantity(text, option, kind)
+    if value is not None and not (math.isfinite(value) and value > 0):
+        from ..units import SI_UNITS
+
+        raise ActsimInputError(f"{option}: {text!r} is outside the allowed range (> 0 {SI_UNITS[kind][0]}, finite)")
+    return value
+
+
+def _finite_quantity(text, option, kind):
+    value = _quantity(text, option, kind)
+    if value is not None and not math.isfinite(value):
+        raise ActsimInputError(f"{option}: {text!r} is not a finite value")
+    return value
+
+
+def _whole(value, option, lo, hi=None):
+    if value is not None and not (lo <= value and (hi is None or value <= hi)):
+        allowed = f">= {lo}" + (f" and <= {hi}" if hi is not None else "")
+        raise ActsimInputError(f"{option}: {value} is outside the allowed range ({allowed})")
+
+
+def check_arguments(args) -> dict:
+    """Check every option of ``actsim sweep`` that needs no scenario, before anything is read, run or written.
+
+    Returns
+    -------
+    dict
+        The options read into SI: ``target`` [rad], ``within`` [s], ``min_force`` [N],
+        ``max_temperature`` [K] (None when not given).
+
+    Raises
+    ------
+    ActsimInputError
+        One line naming the option, the value and the allowed range.
+    """
+    from ..study.values import MAX_SWEEP_DESIGNS
+
+    t = args.timeout
+    if t is not None and not (math.isfinite(t) and 0 < t <= MAX_TIMEOUT):
+        raise ActsimInputError(f"--timeout: {t:g} s is outside the allowed range (> 0 and <= {MAX_TIMEOUT:g} s)")
+    _whole(args.samples, "--samples", 1, MAX_SWEEP_DESIGNS)
+    _whole(args.seed, "--seed", 0, 2**63 - 1)
+    _whole(args.chunk_size, "--chunk-size", 1, MAX_SWEEP_DESIGNS)
+    _whole(args.threads, "--threads", 1, 4096)
+    _whole(args.maxiter, "--maxiter", 1, MAX_ITERATIONS)
+    out = {
+        "target": _finite_quantity(args.target_angle, "--target-angle", "angle"),
+        "within": _positive_quantity(args.within, "--within", "time"),
+        "min_force": _finite_quantity(args.min_force, "--min-force", "force"),
+        "max_temperature": _positive_quantity(args.max_temperature, "--max-temperature", "temperature"),
+    }
+    if not args.optimise:
+        if args.recommend and out["within"] is None:
+            raise ActsimInputError("--recommend: give the time limit with --within, e.g. --within \"20 s\"")
+        if args.recommend and args.sample:
+            raise ActsimInputError("--recommend: needs a grid sweep (not --sample)")
+    return out
+
+
 def _resolve_dim(ds, name, option):
     from ..study.values import dim_name
 
@@ -123,10 +190,10 @@ def cmd_sweep(args) -> int:
     from ..cautions import with_caution
     from ..scenario import load_scenario
 
+    checked = check_arguments(args)  # before the scenario is read and anything runs or is written
     sc = load_scenario(args.scenario)
     out = Path(args.output or Path("actsim-out") / f"{Path(args.scenario).stem}-sweep")
-    target = _quantity(args.target_angle, "--target-angle", "angle")
-    within = _quantity(args.within, "--within", "time")
+    target, within = checked["target"], checked["within"]
     if args.optimise:
         return _cmd_optimise(args, sc, out, target, within)
     if args.free:
@@ -139,6 +206,14 @@ def cmd_sweep(args) -> int:
     sampling = args.sample or "grid"
     if args.samples is not None and sampling == "grid":
         raise ActsimInputError("--samples: only used with --sample lhs|sobol")
+    if args.pareto and target is None and sc.target_bend_angle is None:
+        raise ActsimInputError("--pareto: needs a target bend angle (--target-angle or [report] target_bend_angle)")
+    if args.recommend:
+        from ..study.values import dim_name
+
+        swept = [p for p in vary for p in (p if isinstance(p, tuple) else (p,))]
+        if args.recommend not in swept and dim_name(args.recommend) not in {dim_name(p) for p in swept}:
+            raise ActsimInputError(f"--recommend: '{args.recommend}' is not a swept field; swept: {', '.join(swept)}")
     if args.heatmap is not None:  # check before running: a heat map asked for is drawn or refused, never skipped
         _check_heatmap(args.heatmap, n_dims=len(vary), sampling=sampling,
                        has_target=target is not None or sc.target_bend_angle is not None)
@@ -240,8 +315,8 @@ def _cmd_optimise(args, sc, out, target, within):
         path, b = text.split("=", 1)
         free[path.strip()] = b.strip()
     res = inverse_design(sc, free, objective=args.optimise, target_bend_angle=target, within=within,
-                         min_force=_quantity(args.min_force, "--min-force", "force"),
-                         max_temperature=_quantity(args.max_temperature, "--max-temperature", "temperature"),
+                         min_force=_finite_quantity(args.min_force, "--min-force", "force"),
+                         max_temperature=_positive_quantity(args.max_temperature, "--max-temperature", "temperature"),
                          seed=args.seed, maxiter=args.maxiter)
     write_json(out / "inverse.json", json.loads(json.dumps(res, default=str).replace("NaN", "null")))
     print(sc.title)

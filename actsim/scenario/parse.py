@@ -21,6 +21,7 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import ActsimInputError
+from ..inputfiles import read_text_file, resolve_data_path
 from ..schema import Table
 from ..spectra import LightSource, SpectralFunction, gaussian_bands, line_bands, read_table_csv, tabulated_bands
 from ..units import SI_UNITS, check_range, parse_dimensionless, parse_quantity
@@ -65,7 +66,8 @@ def _spectral(table: Table, key: str, *, kind: str | None, default, base_dir: Pa
     sub = Table(value, path)
     if sub.has("file"):
         fname = sub.string("file")
-        lam, vals = read_table_csv(base_dir / fname, field_name=f"{path}.file", value_unit_kind=kind)
+        lam, vals = read_table_csv(resolve_data_path(fname, base_dir=base_dir, field=f"{path}.file"), field_name=f"{path}.file",
+                                   value_unit_kind=kind)
         sub.finish()
         if hi is not None and np.any(vals > hi):
             raise ActsimInputError(f"{path}.file: '{fname}' has a value {vals.max():g} {unit_name} above the allowed "
@@ -142,7 +144,8 @@ def _parse_temperature_modulus(t: "Table", base_dir: Path):
         g = t.table("modulus_table")
         fname = g.string("file")
         g.finish()
-        temps, moduli = _read_modulus_table(base_dir / fname, f"{t.name}.modulus_table.file")
+        where = f"{t.name}.modulus_table.file"
+        temps, moduli = _read_modulus_table(resolve_data_path(fname, base_dir=base_dir, field=where), where)
         return ("table", temps, moduli)
     return None
 
@@ -254,7 +257,8 @@ def _parse_source(i: int, data, optics: OpticsSettings, base_dir: Path) -> Light
     else:
         fname = t.string("file")
         n_bands = t.integer("bands", default=optics.bands_per_source, lo=1, hi=limit("sources[].bands")["hi"])
-        lam_tab, val = read_table_csv(base_dir / fname, field_name=f"sources[{i}].file", value_unit_kind=None)
+        lam_tab, val = read_table_csv(resolve_data_path(fname, base_dir=base_dir, field=f"sources[{i}].file"),
+                                       field_name=f"sources[{i}].file", value_unit_kind=None)
         _check_wavelengths(lam_tab, f"sources[{i}].file", fname)
         wl, frac = tabulated_bands(wavelength=lam_tab, spectral_irradiance=val, n_bands=n_bands, field_name=f"sources[{i}].file")
         desc = f"tabulated spectrum '{fname}' ({lam_tab[0] * 1e9:.4g}-{lam_tab[-1] * 1e9:.4g} nm)"
@@ -544,13 +548,8 @@ def load_scenario(path) -> Scenario:
     >>> ds = actsim.simulate(sc)  # doctest: +SKIP
     """
     p = Path(path)
-    if not p.is_file():
-        raise ActsimInputError(f"scenario: file '{p}' does not exist")
     most = SIZE_LIMITS["file_bytes"]
-    if p.stat().st_size > most:
+    if p.is_file() and p.stat().st_size > most:
         raise ActsimInputError(f"scenario: '{p}' is larger than {most} bytes (allowed <= {most})")
-    try:
-        text = p.read_text(encoding="utf-8")
-    except UnicodeDecodeError:
-        raise ActsimInputError(f"scenario: '{p}' is not a UTF-8 text (TOML) file") from None
+    text = read_text_file(p, field="scenario", what="TOML")
     return parse_scenario(text, path=p)

@@ -22,7 +22,7 @@ import numpy as np
 
 from ..errors import ActsimInputError
 from .store import STORE_FORMAT
-from .values import Range, dim_name, format_value, json_value, parse_values, range_values, split_number_unit
+from .values import MAX_SWEEP_DESIGNS, Range, dim_name, format_value, json_value, parse_values, range_values, split_number_unit
 
 #: A grid with more designs than this needs ``yes=True`` (``--yes``).
 MAX_GRID_WITHOUT_YES = 20_000
@@ -74,6 +74,59 @@ def _normalise_vary(vary) -> list[Axis]:
     return axes
 
 
+def _axis_length(ax) -> int:
+    """Number of values of a grid axis, from its specs (nothing is made): the first spec's count."""
+    s = ax.specs[0]
+    if isinstance(s, Range):
+        return int(s.num) if s.num is not None else 0
+    return len(s)
+
+
+def _check_size(axes, sampling, n_samples, yes):
+    """Refuse a sweep larger than :data:`MAX_SWEEP_DESIGNS`, or than :data:`MAX_GRID_WITHOUT_YES` without ``yes``,
+    before any value or design is made."""
+    for ax in axes:
+        for p, s in zip(ax.paths, ax.specs):
+            if not isinstance(s, Range) and len(s) > MAX_SWEEP_DESIGNS:
+                raise ActsimInputError(f"{p}: {len(s)} values is more than the {MAX_SWEEP_DESIGNS} allowed")
+    if sampling == "grid":
+        shape = [_axis_length(ax) for ax in axes]
+        n = math.prod(shape)  # Python integers: no overflow
+        dims = " x ".join(str(s) for s in shape)
+        if n > MAX_SWEEP_DESIGNS:
+            raise ActsimInputError(f"--vary: the grid has {n:.4g} designs ({dims}), more than the {MAX_SWEEP_DESIGNS} "
+                                   "allowed; use fewer values, or sample the ranges with --sample lhs --samples N")
+        if n > MAX_GRID_WITHOUT_YES and not yes:
+            raise ActsimInputError(
+                f"--vary: the grid has {n} designs ({dims}), more than {MAX_GRID_WITHOUT_YES}; pass --yes "
+                "(yes=True) to run it, or sample it with --sample lhs --samples N"
+            )
+        return
+    if n_samples is None:
+        raise ActsimInputError(f"samples: --sample {sampling} needs --samples N (the number of designs)")
+    if isinstance(n_samples, bool) or not isinstance(n_samples, (int, np.integer)):
+        raise ActsimInputError(f"--samples: {n_samples!r} is not a whole number of designs")
+    if not 1 <= n_samples <= MAX_SWEEP_DESIGNS:
+        raise ActsimInputError(f"--samples: {n_samples} is outside the allowed range (>= 1 and <= {MAX_SWEEP_DESIGNS})")
+    if n_samples > MAX_GRID_WITHOUT_YES and not yes:
+        raise ActsimInputError(f"--samples: {n_samples} designs is more than {MAX_GRID_WITHOUT_YES}; pass --yes to run them")
+
+
+def _check_file_values(axes, scenario):
+    """Every swept value of a ``file`` field names a regular data file inside the scenario's folder (stat only)."""
+    from ..inputfiles import check_data_file, resolve_data_path
+
+    base = Path(scenario.base_dir or (Path(scenario.path).parent if scenario.path else Path.cwd()))
+    for ax in axes:
+        for p, s in zip(ax.paths, ax.specs):
+            if not (p.endswith(".file") or p == "file") or isinstance(s, Range):
+                continue
+            for v in s:
+                if not isinstance(v, str):
+                    raise ActsimInputError(f"{p}: {v!r} is not a file name")
+                check_data_file(resolve_data_path(v, base_dir=base, field=p), field=p, shown=v)
+
+
 def _grid_values(axes):
     for ax in axes:
         vals = []
@@ -107,10 +160,14 @@ def _sample_values(axes, sampling, n_samples, seed):
                 a, unit = split_number_unit(s.start, p)
                 grid = range_values(Range(s.kind, s.start, s.stop, 2), p)
                 b = split_number_unit(grid[1], p)[0]
-                if s.kind == "log":
-                    v = np.exp(np.log(a) + u[:, j] * (np.log(b) - np.log(a)))
-                else:
-                    v = a + u[:, j] * (b - a)
+                with np.errstate(all="ignore"):  # refused below, with one line, if not finite
+                    if s.kind == "log":
+                        v = np.exp(np.log(a) + u[:, j] * (np.log(b) - np.log(a)))
+                    else:
+                        v = a + u[:, j] * (b - a)
+                if not np.all(np.isfinite(v)):
+                    raise ActsimInputError(f"{p}: {s.kind}({s.start}, {s.stop}) spans more than floating point numbers "
+                                           "can hold; use a narrower range")
                 vals.append([format_value(x, unit) for x in v])
             else:
                 k = np.minimum((u[:, j] * len(s)).astype(int), len(s) - 1)
@@ -193,13 +250,17 @@ def data_file_digests(scenario, extra_names=()) -> dict:
         tree = tomllib.loads(scenario.text)
     except Exception:
         tree = {}
+    from ..inputfiles import read_file_bytes, resolve_data_path
+
     base = Path(scenario.base_dir or (Path(scenario.path).parent if scenario.path else Path.cwd()))
     out = {}
     for name in _file_names(tree, []) + [str(n) for n in extra_names]:
-        path = Path(name) if Path(name).is_absolute() else base / name
-        try:
-            out[name] = hashlib.sha256(path.read_bytes()).hexdigest()
-        except OSError:
+        if name in out:
+            continue
+        try:  # the same checks as the parser: inside the folder, a regular file, bounded (never a FIFO or device)
+            data = read_file_bytes(resolve_data_path(name, base_dir=base, field="file"), field="file")
+            out[name] = hashlib.sha256(data).hexdigest()
+        except ActsimInputError:
             out[name] = "missing"
     return out
 
@@ -219,16 +280,12 @@ def plan_sweep(scenario, vary, *, sampling="grid", n_samples=None, seed=0, targe
     if sampling not in ("grid", "lhs", "sobol"):
         raise ActsimInputError(f"sampling: '{sampling}' is not one of 'grid', 'lhs', 'sobol'")
     axes = _normalise_vary(vary)
+    _check_size(axes, sampling, n_samples, yes)  # before any value is made
+    _check_file_values(axes, scenario)  # every named file, not only the values built below
     if sampling == "grid":
         _grid_values(axes)
         shape = tuple(len(ax.values[0]) for ax in axes)
-        n = int(np.prod(shape))
-        if n > MAX_GRID_WITHOUT_YES and not yes:
-            dims = " x ".join(str(s) for s in shape)
-            raise ActsimInputError(
-                f"--vary: the grid has {n} designs ({dims}), more than {MAX_GRID_WITHOUT_YES}; pass --yes "
-                "(yes=True) to run it, or sample it with --sample lhs --samples N"
-            )
+        n = math.prod(shape)
         checks = []
         for j, ax in enumerate(axes):
             k_all = range(shape[j])
@@ -237,10 +294,6 @@ def plan_sweep(scenario, vary, *, sampling="grid", n_samples=None, seed=0, targe
             for k in k_all:
                 checks.append({p: vals[k] for p, vals in zip(ax.paths, ax.values)})
     else:
-        if n_samples is None:
-            raise ActsimInputError(f"samples: --sample {sampling} needs --samples N (the number of designs)")
-        if n_samples > MAX_GRID_WITHOUT_YES and not yes:
-            raise ActsimInputError(f"--samples: {n_samples} designs is more than {MAX_GRID_WITHOUT_YES}; pass --yes to run them")
         for ax in axes:
             for p, s in zip(ax.paths, ax.specs):
                 if not isinstance(s, Range) and len(s) == 0:
@@ -289,4 +342,4 @@ def plan_sweep(scenario, vary, *, sampling="grid", n_samples=None, seed=0, targe
                      hash=digest)
 
 
-__all__ = ["MAX_GRID_WITHOUT_YES", "CHUNK_MEMORY", "MAX_CHUNK", "Axis", "SweepPlan", "data_file_digests", "plan_sweep"]
+__all__ = ["MAX_SWEEP_DESIGNS", "MAX_GRID_WITHOUT_YES", "CHUNK_MEMORY", "MAX_CHUNK", "Axis", "SweepPlan", "data_file_digests", "plan_sweep"]

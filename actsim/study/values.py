@@ -20,6 +20,10 @@ import numpy as np
 
 from ..errors import ActsimInputError
 
+#: Most values of one swept field and most designs of one sweep, even with ``--yes`` (checked before any
+#: value is made: a million designs already take hours and gigabytes of results).
+MAX_SWEEP_DESIGNS = 1_000_000
+
 _NUMBER_UNIT = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
 
 
@@ -81,14 +85,20 @@ def range_values(r: Range, field_path: str, num=None):
     if n is None:
         raise ActsimInputError(f"{field_path}: {r.kind}({r.start}, {r.stop}) needs a number of points for a grid, "
                                f"e.g. {r.kind}({r.start}, {r.stop}, 10)")
-    if n < 1:
-        raise ActsimInputError(f"{field_path}: {n} points is outside the allowed range (>= 1)")
-    if r.kind == "log":
-        if a <= 0 or b <= 0:
-            raise ActsimInputError(f"{field_path}: log({r.start}, {r.stop}) needs both ends > 0")
-        vals = np.geomspace(a, b, n)
-    else:
-        vals = np.linspace(a, b, n)
+    if n < 1 or n > MAX_SWEEP_DESIGNS:
+        raise ActsimInputError(f"{field_path}: {n} points is outside the allowed range (>= 1 and <= {MAX_SWEEP_DESIGNS})")
+    if not (np.isfinite(a) and np.isfinite(b)):
+        raise ActsimInputError(f"{field_path}: range ends {r.start!r} and {r.stop!r} must be finite numbers")
+    if r.kind == "log" and (a <= 0 or b <= 0):
+        raise ActsimInputError(f"{field_path}: log({r.start}, {r.stop}) needs both ends > 0")
+    try:
+        with np.errstate(over="raise", invalid="raise"):  # a range too wide for floats: one line, no warning
+            vals = np.geomspace(a, b, n) if r.kind == "log" else np.linspace(a, b, n)
+    except FloatingPointError:
+        vals = np.array([np.nan])
+    if not np.all(np.isfinite(vals)):
+        raise ActsimInputError(f"{field_path}: {r.kind}({r.start}, {r.stop}) spans more than floating point numbers "
+                               "can hold; use a narrower range")
     return [format_value(v, unit) for v in vals]
 
 
@@ -137,8 +147,13 @@ def parse_values(spec, field_path: str = "value"):
                 num = int(parts[2])
             except ValueError:
                 raise ActsimInputError(f"{field_path}: number of points '{parts[2]}' in '{spec}' is not an integer") from None
+            if not 1 <= num <= MAX_SWEEP_DESIGNS:
+                raise ActsimInputError(f"{field_path}: {num} points in '{spec}' is outside the allowed range "
+                                       f"(>= 1 and <= {MAX_SWEEP_DESIGNS})")
         a, b = (_scalar_value(p) for p in parts[:2])
         return Range(m.group(1).lower(), a, b, num)
+    if spec.count(",") >= MAX_SWEEP_DESIGNS:
+        raise ActsimInputError(f"{field_path}: {spec.count(',') + 1} values is more than the {MAX_SWEEP_DESIGNS} allowed")
     vals = [_scalar_value(v) for v in spec.split(",")]
     if any(v == "" for v in vals):
         raise ActsimInputError(f"{field_path}: empty value in '{spec}'")
@@ -244,5 +259,5 @@ def json_value(v):
     return v if isinstance(v, (str, int, float, bool)) else str(v)
 
 
-__all__ = ["Range", "lin", "log", "split_number_unit", "range_values", "format_value", "parse_values",
+__all__ = ["MAX_SWEEP_DESIGNS", "Range", "lin", "log", "split_number_unit", "range_values", "format_value", "parse_values",
            "parse_vary_option", "si_of", "si_values", "NUMBER_WITH_UNIT", "dim_name", "json_value"]
