@@ -409,6 +409,22 @@ def _clean_leftovers(target: Path) -> None:
         _remove(p)
 
 
+#: Environment variable: seconds to wait, holding the lock, between the last write into the staging folder and
+#: the commit (for the interruption and concurrency tests; like ``ACTSIM_SWEEP_PAUSE`` of the sweeps).
+PAUSE_ENV = "ACTSIM_FOLDER_PAUSE"
+
+
+def _test_pause() -> None:
+    try:
+        pause = float(os.environ.get(PAUSE_ENV, "0") or 0)
+    except ValueError:
+        pause = 0.0
+    if pause > 0:
+        import time
+
+        time.sleep(pause)
+
+
 def _named_for_target(exc, stage: Path, target: Path):
     """The same error naming the user's folder instead of the staging folder (None: nothing to rename)."""
     from .errors import ActsimError
@@ -489,6 +505,7 @@ def result_folder(target, *, kind: str, overwrite: bool = False, parts=(), field
         _check_target(target, field, overwrite)
         stage = _sibling(target, _STAGING)
         yield stage
+        _test_pause()
         stage.mkdir(exist_ok=True)
         write_manifest(stage, kind=kind, parts=parts)
         _swap_in(stage, target)
