@@ -166,6 +166,18 @@ def test_failure_after_writing_keeps_previous_folder(tmp_path, capsys, monkeypat
     assert leftovers(tmp_path, "P") == []
 
 
+def test_mask_files_in_the_same_transaction(tmp_path, capsys):
+    sc = tmp_path / "mask.toml"
+    sc.write_text(film_toml(**FAST) + '\n[mask]\nregions = [{ start = "2 mm", end = "5 mm" }]\n')
+    out = tmp_path / "M"
+    status, text, err = run(["run", str(sc), "-o", str(out), "--no-figures"], capsys)
+    assert status == 0, err
+    manifest = verify_folder(out)
+    assert manifest["parts"] == ["mask"] and "patterned.nc" in [e["path"] for e in manifest["files"]]
+    assert "patterned.nc" in json.loads((out / "summary.json").read_text())["files"]
+    assert f"results written to {out}/" in text and ".staging" not in text
+
+
 def test_bad_input_writes_nothing(tmp_path, capsys):
     out = tmp_path / "B"
     status, _, err = run(["run", str(scenario(tmp_path, "Bad")), "-o", str(out), "--set", "layers[0].thickness=5 s"],
