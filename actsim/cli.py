@@ -2,7 +2,8 @@
 
 Every verb writes into an output folder it names and prints where. Bad input
 prints one line ``actsim: error: ...`` and exits with status 2; nothing is
-written in that case.
+written in that case. A folder is written whole or not at all, and replaces an
+earlier one whole (:mod:`actsim.folders`).
 """
 
 from __future__ import annotations
@@ -291,7 +292,8 @@ def main(argv=None) -> int:
         print(f"actsim: error: {exc.strerror or exc}: {exc.filename or ''}".rstrip(": "), file=sys.stderr)
         return 2
     except KeyboardInterrupt:
-        print("actsim: interrupted; finished files are complete, unfinished ones were not written", file=sys.stderr)
+        print("actsim: interrupted; the output folder was left as it was (a sweep resumes from its finished chunks)",
+              file=sys.stderr)
         return 130
 
 
