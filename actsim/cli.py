@@ -2,7 +2,8 @@
 
 Every verb writes into an output folder it names and prints where. Bad input
 prints one line ``actsim: error: ...`` and exits with status 2; nothing is
-written in that case.
+written in that case. A folder is written whole or not at all, and replaces an
+earlier one whole (:mod:`actsim.folders`).
 """
 
 from __future__ import annotations
@@ -132,9 +133,11 @@ def load_with_overrides(scenario_path, set_items=None):
     return apply_overrides(sc, overrides) if overrides else sc
 
 
-def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set_items=None, allow_large=False):
+def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set_items=None, overwrite=False,
+                   uncertainty=0, allow_large=False):
     from .cautions import with_caution
-    from .results import write_result_folder
+    from .folders import result_folder
+    from .results import write_result_files
     from .solver import simulate
 
     from .patterned import mask_settings
@@ -144,28 +147,36 @@ def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set
     from .jitcache import compile_notice
     from .solver import grid_error_estimate
 
-    with compile_notice():
-        ds = simulate(sc, engine=engine, allow_large=allow_large)
-    est = grid_error_estimate(sc, ds)
-    if est is not None:
-        ds.attrs["grid_error_estimate"] = est
-    summary = write_result_folder(ds, sc, out_dir, figures=figures)
-    print(f"{sc.title}")
-    print(summary_table(summary))
-    if mask is not None:
-        from .patterned import simulate_patterned, write_patterned
+    parts = ["mask"] * (mask is not None) + ["uncertainty"] * bool(uncertainty)
+    # one transaction: every file of this run (mask, uncertainty bands included) or none, never a mixture
+    with result_folder(out_dir, kind="run", overwrite=overwrite, parts=parts) as stage:
+        with compile_notice():
+            ds = simulate(sc, engine=engine, allow_large=allow_large)
+        est = grid_error_estimate(sc, ds)
+        if est is not None:
+            ds.attrs["grid_error_estimate"] = est
+        summary = write_result_files(ds, sc, stage, figures=figures)
+        print(f"{sc.title}")
+        print(summary_table(summary))
+        if mask is not None:
+            import json
 
-        pat = write_patterned(simulate_patterned(sc, engine=engine), out_dir, figures=figures)
-        from .io import write_json
-        from .results import read_summary
+            from .patterned import simulate_patterned, write_patterned
 
-        record = read_summary(out_dir)
-        record["patterned"] = pat
-        record["files"] += ["patterned.nc"] + (["figures/folded_shape.png"] if figures else [])
-        write_json(Path(out_dir) / "summary.json", record)
-        print("  through the mask (the table above is the strip lit all along its length):")
-        print(f"  peak fold angle  {_fmt_angle(pat['peak_fold_angle'])} at t = {pat['time_of_peak_fold']:.4g} s")
-        print(f"  peak tip travel  {_fmt(pat['peak_tip_travel_patterned'], 'mm', 1e3)}   (patterned.nc)")
+            pat = write_patterned(simulate_patterned(sc, engine=engine), stage, figures=figures)
+            from .io import write_json
+
+            record = json.loads((stage / "summary.json").read_text(encoding="utf-8"))
+            record["patterned"] = pat
+            record["files"] += ["patterned.nc"] + (["figures/folded_shape.png"] if figures else [])
+            write_json(stage / "summary.json", record)
+            print("  through the mask (the table above is the strip lit all along its length):")
+            print(f"  peak fold angle  {_fmt_angle(pat['peak_fold_angle'])} at t = {pat['time_of_peak_fold']:.4g} s")
+            print(f"  peak tip travel  {_fmt(pat['peak_tip_travel_patterned'], 'mm', 1e3)}   (patterned.nc)")
+        if uncertainty:
+            from .calibrate.uncertainty import run_uncertainty
+
+            run_uncertainty(sc, n_draws=uncertainty, out_dir=stage, shown_as=out_dir)
     print(with_caution(f"\nresults written to {out_dir}/ (result.nc, timeseries.csv, summary.json{', figures/' if figures else ''})"))
     return 0
 
@@ -182,13 +193,8 @@ def cmd_run(args):
                 "--uncertainty: the scenario has no [calibration] section to draw from; fit one with `actsim fit bend` "
                 "(see docs/calibration.md)"
             )
-    status = _run_and_write(args.scenario, out, figures=not args.no_figures, engine=args.engine, set_items=args.set,
-                            allow_large=args.yes)
-    if args.uncertainty:
-        from .calibrate.uncertainty import run_uncertainty
-
-        run_uncertainty(load_with_overrides(args.scenario, args.set), n_draws=args.uncertainty, out_dir=out)
-    return status
+    return _run_and_write(args.scenario, out, figures=not args.no_figures, engine=args.engine, set_items=args.set,
+                          overwrite=args.overwrite, uncertainty=args.uncertainty, allow_large=args.yes)
 
 
 def cmd_demo(args):
@@ -216,7 +222,14 @@ def cmd_demo(args):
         extra = f"; did you mean '{hint[0]}'?" if hint else f"; available: {', '.join(sorted(names))}"
         raise ActsimInputError(f"--scenario: no demo scenario '{args.scenario}'{extra}")
     out = args.output or str(Path("actsim-out") / args.scenario)
-    return _run_and_write(path, out, figures=not args.no_figures)
+    return _run_and_write(path, out, figures=not args.no_figures, overwrite=args.overwrite)
+
+
+def add_overwrite_option(p) -> None:
+    """``--overwrite`` of every verb that writes a result folder (see actsim.folders)."""
+    p.add_argument("--overwrite", action="store_true",
+                   help="replace the output folder even if it holds files actsim did not write (an actsim result "
+                        "folder is always replaced whole)")
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -237,6 +250,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--copy", metavar="FOLDER", help="copy the demo scenarios (and their data files) into a new FOLDER and exit")
     p.add_argument("-o", "--output", help="output folder (default: actsim-out/<scenario>)")
     p.add_argument("--no-figures", action="store_true", help="skip the PNG figures")
+    add_overwrite_option(p)
     p.set_defaults(func=cmd_demo)
 
     p = sub.add_parser("run", help="simulate a scenario file", epilog=EXAMPLES["run"],
@@ -252,6 +266,7 @@ def build_parser() -> argparse.ArgumentParser:
                    help="also draw N parameter sets from the scenario's [calibration] covariance and write 5-95 %% bands")
     p.add_argument("--yes", action="store_true",
                    help="run even when the work estimate (cells x time steps) is above the limit (docs/scenario.md)")
+    add_overwrite_option(p)
     p.set_defaults(func=cmd_run)
 
     for mod in VERB_MODULES:
@@ -287,7 +302,8 @@ def main(argv=None) -> int:
         print(f"actsim: error: {exc.strerror or exc}: {exc.filename or ''}".rstrip(": "), file=sys.stderr)
         return 2
     except KeyboardInterrupt:
-        print("actsim: interrupted; finished files are complete, unfinished ones were not written", file=sys.stderr)
+        print("actsim: interrupted; the output folder was left as it was (a sweep resumes from its finished chunks)",
+              file=sys.stderr)
         return 130
 
 

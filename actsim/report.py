@@ -135,6 +135,11 @@ def _require_result(result_dir) -> tuple[Path, dict]:
         raise ActsimInputError(
             f"RESULT_DIR: '{out}' has no {' and no '.join(missing)}, so it is not a result folder; {_RUN_HINT}"
         )
+    from .folders import verify_folder
+
+    # one complete run exactly as written: a folder without a manifest (an older actsim), with a changed,
+    # missing or extra file, or from another verb is refused before anything of it is read
+    verify_folder(out, kinds=("run", "check"), field="RESULT_DIR", hint=f"re-run: {_RUN_HINT}")
     try:
         record = json.loads(read_text_file(out / "summary.json", field="RESULT_DIR", what="JSON"))
     except json.JSONDecodeError as exc:

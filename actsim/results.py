@@ -7,8 +7,12 @@ Layout of ``OUT/``::
     summary.json       key metrics (SI) and file list
     scenario.toml      the scenario text exactly as run
     figures/*.png      bend angle and blocked force; conversion and irradiance profiles
+    manifest.json      every file with its size and SHA-256, the actsim version, the kind of folder
 
-Every file is written atomically.
+The folder is one transaction (:func:`actsim.folders.result_folder`): written into a
+hidden staging folder beside it and swapped in whole, so it never mixes two runs;
+the readers here refuse a folder that does not match its manifest
+(:func:`actsim.folders.verify_folder`).
 """
 
 from __future__ import annotations
@@ -26,8 +30,20 @@ RESULT_FILE = "result.nc"
 SUMMARY_FILE = "summary.json"
 
 
-def write_result_folder(ds, scenario, out_dir, *, figures=True):
-    """Write the standard files of one run into ``out_dir``; returns the summary dict."""
+def write_result_folder(ds, scenario, out_dir, *, figures=True, overwrite=False):
+    """Write the result folder of one run as one transaction; returns the summary dict.
+
+    ``out_dir`` is replaced whole (see :func:`actsim.folders.result_folder`: a non-empty
+    folder actsim did not write is refused unless ``overwrite``).
+    """
+    from .folders import result_folder
+
+    with result_folder(out_dir, kind="run", overwrite=overwrite, field="out_dir") as stage:
+        return write_result_files(ds, scenario, stage, figures=figures)
+
+
+def write_result_files(ds, scenario, out_dir, *, figures=True):
+    """Write the standard files of one run into ``out_dir`` (a staging folder); returns the summary dict."""
     from . import __version__
 
     out = Path(out_dir)
@@ -57,14 +73,17 @@ def write_result_folder(ds, scenario, out_dir, *, figures=True):
 
 
 def read_summary(out_dir) -> dict:
-    """The summary record (summary.json) of a result folder."""
+    """The summary record (summary.json) of a result folder, after :func:`~actsim.folders.verify_folder`."""
+    from .folders import verify_folder
     from .inputfiles import read_text_file
 
+    verify_folder(out_dir, kinds=("run", "check"), field="out_dir")
     return json.loads(read_text_file(Path(out_dir) / SUMMARY_FILE, field="summary", what="JSON"))
 
 
 def read_result_folder(out_dir):
-    """Read back ``(dataset, summary_record)`` from a result folder."""
+    """Read back ``(dataset, summary_record)`` from a result folder, after :func:`~actsim.folders.verify_folder`."""
     out = Path(out_dir)
+    record = read_summary(out)
     ds = xr.load_dataset(out / RESULT_FILE)
-    return ds, read_summary(out)
+    return ds, record

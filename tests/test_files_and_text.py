@@ -185,11 +185,19 @@ def _copy(folder, dest):
     return dest
 
 
+def _seal(folder):
+    """Accept the folder as it is now (a folder changed by hand fails its manifest check first)."""
+    from actsim.folders import write_manifest
+
+    write_manifest(folder, kind="check" if (folder / "checks.json").exists() else "run")
+
+
 def test_report_refuses_checks_json_with_text_value(checked_folder, tmp_path, capsys):
     out = _copy(checked_folder, tmp_path / "r")
     records = [{"check": "strength", "value": "login,pass123", "limit": 1.0, "unit": "Pa", "margin": 1.0,
                 "passed": True, "source": "x"}]
     (out / "checks.json").write_text(json.dumps(records))
+    _seal(out)
     assert main(["report", str(out)]) == 2
     err = capsys.readouterr().err.strip().splitlines()
     assert len(err) == 1 and "record 0 field 'value' is not a number" in err[0] and "pass123" not in err[0], err
@@ -200,11 +208,13 @@ def test_report_refuses_non_utf8_scenario_and_checks(checked_folder, tmp_path, c
     out = _copy(checked_folder, tmp_path / "r")
     (out / "scenario.toml").write_bytes('title = "caf\xe9"\n'.encode("latin-1"))
     (out / "checks.json").unlink(missing_ok=True)
+    _seal(out)
     assert main(["report", str(out)]) == 2
     err = capsys.readouterr().err.strip().splitlines()
     assert len(err) == 1 and "scenario.toml' is not UTF-8 text" in err[0], err
     (out / "scenario.toml").write_text("title = 'x'\n")
     (out / "checks.json").write_bytes(b'[{"check": "\xff"}]')
+    _seal(out)
     assert main(["report", str(out)]) == 2
     err = capsys.readouterr().err.strip().splitlines()
     assert len(err) == 1 and "checks.json' is not UTF-8 text" in err[0], err

@@ -28,6 +28,7 @@ from actsim.cautions import CAUTION
 from actsim.checks.verdict import CheckResult, to_records
 from actsim.cli import main
 from actsim.errors import ActsimInputError
+from actsim.folders import write_manifest
 from actsim.report import DEPENDENCIES, build_report, write_report
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -171,6 +172,11 @@ def fresh(result_dir, tmp_path):
     return dst
 
 
+def seal(folder):
+    """Re-write the manifest of a folder a test edited, so the report reads it as a complete run."""
+    write_manifest(folder, kind="run")
+
+
 def fake_checks():
     # Invented records, one within its limit and one beyond it.
     return to_records([
@@ -187,6 +193,7 @@ def test_report_is_well_formed_self_contained_html(fresh, capsys):
     (fresh / "uncertainty").mkdir()
     shutil.copy(fresh / "figures" / "bend_angle.png", fresh / "uncertainty" / "bend_angle_band.png")
     (fresh / "figures" / "broken.png").write_bytes(b"not a png")
+    seal(fresh)
     path = write_report(fresh)
     assert path == fresh / "report.html"
     text = path.read_text(encoding="ascii")  # pure ASCII: non-ASCII text is written as character references
@@ -254,6 +261,7 @@ def test_report_content_scenario_results_versions(result_dir, tmp_path):
 
 def test_report_check_table_rows(fresh):
     (fresh / "checks.json").write_text(json.dumps(fake_checks(), indent=2))
+    seal(fresh)
     text = build_report(fresh)
     p = parse(text)
     assert p.errors == []
@@ -275,9 +283,11 @@ def test_report_check_table_rows(fresh):
     recs = fake_checks() + to_records([CheckResult.upper_bound(check="zero load", value=0.0, limit=1.0, unit="N",
                                                                source="s", validity="")])
     (fresh / "checks.json").write_text(json.dumps(recs))
+    seal(fresh)
     assert "∞" in parse(build_report(fresh)).plain
     recs[-1]["margin"] = "inf"  # as stored by a writer that refuses infinite JSON numbers
     (fresh / "checks.json").write_text(json.dumps({"checks": recs}, allow_nan=False))
+    seal(fresh)
     rows = table_rows(build_report(fresh), "checks")
     assert len(rows) == 3 and rows[-1][1][4] == "∞"
 
@@ -286,6 +296,7 @@ def test_report_escapes_text(fresh):
     rec = json.loads((fresh / "summary.json").read_text())
     rec["title"] = "<script>alert(1)</script> & <b>bold</b>"
     (fresh / "summary.json").write_text(json.dumps(rec))
+    seal(fresh)
     p = parse(build_report(fresh))
     assert p.errors == []
     assert sum(t == "script" for t, _ in p.tags) == 1  # only the report's own image counter
@@ -296,6 +307,7 @@ def test_report_escapes_text(fresh):
 def test_report_when_scenario_cannot_be_reread(fresh):
     # A scenario text this installation cannot parse: the report still comes out, says so, and shows the text.
     (fresh / "scenario.toml").write_text((fresh / "scenario.toml").read_text() + "\n[no_such_section]\nx = 1\n")
+    seal(fresh)
     p = parse(build_report(fresh))
     assert p.errors == []
     assert "could not be re-read" in p.plain and "no_such_section" in p.plain
@@ -310,10 +322,12 @@ def test_bad_result_folders(tmp_path, fresh):
         build_report(empty)
     assert "\n" not in str(exc.value)
     (fresh / "checks.json").write_text("{not json")
+    seal(fresh)
     with pytest.raises(ActsimInputError, match=r"checks.json .*not valid JSON") as exc:
         build_report(fresh)
     assert "\n" not in str(exc.value)
     (fresh / "checks.json").write_text(json.dumps([{"check": "x"}]))
+    seal(fresh)
     with pytest.raises(ActsimInputError, match=r"record 0 has no 'value' field"):
         build_report(fresh)
 

@@ -106,23 +106,24 @@ def test_interrupted_sweep_resumes(tmp_path):
     env = dict(os.environ, ACTSIM_SWEEP_PAUSE="0.5")
     proc = subprocess.Popen([sys.executable, "-m", "actsim.cli", *args, "-o", str(out)], env=env,
                             stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    work = tmp_path / ".cut.sweep-work"  # the chunk store beside the folder while the sweep runs
     deadline = time.time() + 60
-    while not list((out / "chunks").glob("chunk_*.nc")) and time.time() < deadline:
+    while not list(work.glob("chunk_*.nc")) and time.time() < deadline:
         time.sleep(0.02)
     proc.send_signal(signal.SIGKILL)
     proc.wait()
-    first = sorted((out / "chunks").glob("chunk_*.nc"))
-    assert 1 <= len(first) < 6 and not (out / "sweep.nc").exists()
-    again = _cli(args + ["-o", str(out)])
-    assert again.returncode == 0, again.stderr
-    assert len(list((out / "chunks").glob("chunk_*.nc"))) == 6
-    a = xr.load_dataset(tmp_path / "full" / "sweep.nc")
-    b = xr.load_dataset(out / "sweep.nc")
-    xr.testing.assert_identical(a, b)
-    # a different sweep in the same folder is refused
+    first = sorted(work.glob("chunk_*.nc"))
+    assert 1 <= len(first) < 6 and not out.exists()
+    # a different sweep into the same folder does not touch the interrupted one
     other = _cli(["sweep", str(scen), "--vary", "protocol[0].light.lamp=30 mW/cm^2", "-o", str(out),
                   "--scheduler", "inprocess"])
     assert other.returncode == 2 and "different sweep" in other.stderr
+    again = _cli(args + ["-o", str(out)])
+    assert again.returncode == 0, again.stderr
+    assert len(list((out / "chunks").glob("chunk_*.nc"))) == 6 and not work.exists()
+    a = xr.load_dataset(tmp_path / "full" / "sweep.nc")
+    b = xr.load_dataset(out / "sweep.nc")
+    xr.testing.assert_identical(a, b)
 
 
 def test_unknown_field_suggests(base):

@@ -145,6 +145,11 @@ def test_cli_run_fitted_scenario_with_uncertainty(tmp_path, capsys):
     assert "uncertainty bands written to" in text and "5 draws simulated" in text
     for name in ("result.nc", "uncertainty.nc", "uncertainty.csv", "figures/uncertainty_bend_angle.png"):
         assert (out / name).is_file()
+    from actsim.folders import verify_folder
+
+    manifest = verify_folder(out)  # the bands are part of the run's folder, written in the same transaction
+    assert manifest["parts"] == ["uncertainty"] and "uncertainty.nc" in [e["path"] for e in manifest["files"]]
+    assert f"uncertainty bands written to {out}/" in text
     # a scenario without [calibration] fails with one line and status 2
     plain = tmp_path / "plain.toml"
     plain.write_text(base_text)

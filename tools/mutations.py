@@ -124,6 +124,21 @@ MUTATIONS = {
         "actsim/_kernels.py", "t = seg_len if last else t + dt", "t = seg_len if last else t + 1.01 * dt"),
     "adaptive: four-stage rates averaged with equal weights": (
         "actsim/_kernels.py", "kf_sum[i] = (kf_sum[i] + kf1[i]) / 6.0", "kf_sum[i] = (kf_sum[i] - kf0[i] + kf1[i]) / 4.0"),
+    # result folders ("folders: ..."): python3 tools/mutations.py -k folders tests/test_result_folders.py
+    "folders: new files merged into the old folder instead of swapped in": (
+        "actsim/folders.py", "    if _exchange(stage, target):",
+        "    shutil.copytree(stage, target, dirs_exist_ok=True); shutil.rmtree(stage); return\n    if _exchange(stage, target):"),
+    "folders: no lock": (
+        "actsim/folders.py", "fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)", "pass"),
+    "folders: verify checks sizes only": (
+        "actsim/folders.py", 'if p.stat().st_size != entry.get("bytes") or _sha256(p) != entry.get("sha256"):',
+        'if p.stat().st_size != entry.get("bytes"):'),
+    "folders: staging kept on failure": (
+        "actsim/folders.py", "            _remove(stage)\n            renamed", "            renamed"),
+    "folders: a user's folder replaced without --overwrite": (
+        "actsim/folders.py", "    if any(target.iterdir()):\n        raise", "    if False:\n        raise"),
+    "folders: leftovers of killed runs kept": (
+        "actsim/folders.py", "    for p in olds + _leftovers(target, _STAGING):\n        _remove(p)", "    pass"),
 }
 
 

@@ -101,7 +101,10 @@ def _numbers(path: Path) -> dict[str, np.ndarray]:
             elif isinstance(obj, list):
                 for i, v in enumerate(obj):
                     walk(v, f"{key}[{i}]")
-        walk(json.loads(path.read_text()), "")
+        data = json.loads(path.read_text())
+        if isinstance(data, dict) and data.get("format") == "actsim result folder":
+            return out  # a result folder's manifest: file sizes and hashes, not results
+        walk(data, "")
         return out
     if path.suffix == ".csv":
         import pandas as pd

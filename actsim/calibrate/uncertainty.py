@@ -301,7 +301,7 @@ def _figure(res, cal, path, *, title):
     return notes
 
 
-def run_uncertainty(scenario, *, n_draws, out_dir, seed=0, engine="kernel", quiet=False) -> UncertaintyResult:
+def run_uncertainty(scenario, *, n_draws, out_dir, seed=0, engine="kernel", quiet=False, shown_as=None) -> UncertaintyResult:
     """Prediction bands of a calibrated scenario, written to ``out_dir``.
 
     Parameters
@@ -320,6 +320,9 @@ def run_uncertainty(scenario, *, n_draws, out_dir, seed=0, engine="kernel", quie
         Simulator engine.
     quiet : bool
         Do not print.
+    shown_as : str or os.PathLike, optional
+        The folder named in the printed message (default ``out_dir``; ``actsim run`` writes into
+        a staging folder that becomes the result folder it names here).
 
     Returns
     -------
@@ -361,7 +364,7 @@ def run_uncertainty(scenario, *, n_draws, out_dir, seed=0, engine="kernel", quie
         lines.append(f"uncertainty: bend angle at t = {res.dataset['time'].values[i]:.4g} s (largest): "
                      f"{np.degrees(res.dataset['bend_angle_nominal'].values[i]):.5g} deg, 5-95 % band "
                      f"{lo_i:.5g}..{hi_i:.5g} deg (width {hi_i - lo_i:.3g} deg)")
-        lines.append(f"uncertainty bands written to {out}/ (uncertainty.nc, uncertainty.csv, "
+        lines.append(f"uncertainty bands written to {shown_as or out}/ (uncertainty.nc, uncertainty.csv, "
                      "figures/uncertainty_bend_angle.png)")
         print(with_caution("\n".join(lines)))
     return res

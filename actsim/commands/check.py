@@ -69,7 +69,8 @@ def cmd_check(args) -> int:
     from ..checks.run import any_failed, format_results, run_checks, write_checks
     from ..checks.settings import checks_settings, joint_settings, safety_settings
     from ..errors import ActsimInputError
-    from ..results import write_result_folder
+    from ..folders import result_folder
+    from ..results import write_result_files
     from ..scenario import load_scenario
     from ..solver import simulate
 
@@ -79,20 +80,22 @@ def cmd_check(args) -> int:
     out = Path(args.output or (Path("actsim-out") / (Path(args.scenario).stem + "-check")))
     from ..jitcache import compile_notice
 
-    with compile_notice():
-        ds = simulate(sc)
-    results, details = run_checks(sc, ds, elastica=not args.no_elastica)
-    if not results:
-        raise ActsimInputError("check: nothing to check in this scenario; add a [checks] section (see docs/checks.md)")
-    write_result_folder(ds, sc, out, figures=not args.no_figures)
-    write_checks(results, details, out)
-    extra_files = ""
-    if not args.no_elastica:
-        from ..elastica import load_line_history
-        from ..io import write_netcdf
+    # one transaction: the folder holds this check's files only, or is left as it was
+    with result_folder(out, kind="check", overwrite=args.overwrite) as stage:
+        with compile_notice():
+            ds = simulate(sc)
+        results, details = run_checks(sc, ds, elastica=not args.no_elastica)
+        if not results:
+            raise ActsimInputError("check: nothing to check in this scenario; add a [checks] section (see docs/checks.md)")
+        write_result_files(ds, sc, stage, figures=not args.no_figures)
+        write_checks(results, details, stage)
+        extra_files = ""
+        if not args.no_elastica:
+            from ..elastica import load_line_history
+            from ..io import write_netcdf
 
-        write_netcdf(load_line_history(ds), out / "load_lines.nc")
-        extra_files = ", load_lines.nc"
+            write_netcdf(load_line_history(ds), stage / "load_lines.nc")
+            extra_files = ", load_lines.nc"
     print(sc.title)
     print("\n".join(_actuation_lines(details)))
     print()
@@ -127,4 +130,7 @@ def register(subparsers) -> None:
     p.add_argument("--no-elastica", action="store_true",
                    help="skip the large-deflection blocked force and load line (faster)")
     p.add_argument("--strict", action="store_true", help="exit 1 also when a check could not be assessed")
+    from ..cli import add_overwrite_option
+
+    add_overwrite_option(p)
     p.set_defaults(func=cmd_check)

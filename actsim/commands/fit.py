@@ -413,8 +413,9 @@ def run_demo(out: Path) -> str:
 
 def cmd_fit(args) -> int:
     from ..cautions import with_caution
+    from ..folders import result_folder
 
-    out = Path(args.output or Path("actsim-out") / f"fit-{args.kind}")
+    final = Path(args.output or Path("actsim-out") / f"fit-{args.kind}")
     conf = args.confidence
     if conf is not None and not 0.0 < conf < 1.0:
         raise ActsimInputError(f"--confidence: {conf!r} is outside the allowed range (> 0 and < 1)")
@@ -431,6 +432,17 @@ def cmd_fit(args) -> int:
         check_data_file(name, field="DATA")
     if args.kind != "bend" and (args.scenario or args.curve or args.param):
         raise ActsimInputError(f"--scenario/--curve/--param: only for 'fit bend', not 'fit {args.kind}'")
+    # one transaction: the folder holds this fit's files only, or is left as it was
+    with result_folder(final, kind="fit", overwrite=args.overwrite) as out:
+        text, files = _fit_into(args, out, final, conf)
+    print(text)
+    names = ", ".join(str(Path(f).relative_to(out)) if Path(f).is_relative_to(out) else str(f) for f in files)
+    print(with_caution(f"\nfit results written to {final}/ ({names})"))
+    return 0
+
+
+def _fit_into(args, out: Path, final: Path, conf):
+    """Run the fit of ``args`` writing into the staging folder ``out``; returns (text, files)."""
     if args.kind == "tensile":
         _need(args, 1, 1, "strain, stress CSV")
         res, files = fit_tensile_to(args.data[0], out, toe=args.toe, confidence=conf or 0.95)
@@ -459,7 +471,7 @@ def cmd_fit(args) -> int:
                                             curve_specs=args.curve, param_specs=args.param, confidence=conf,
                                             max_iterations=args.max_iterations)
         text = fit.to_table() + "".join(f"\nnote: {n}" for n in notes)
-        text += f"\n\nfitted scenario: {out / 'fitted.toml'}  (actsim run {out / 'fitted.toml'} --uncertainty 100)"
+        text += f"\n\nfitted scenario: {final / 'fitted.toml'}  (actsim run {final / 'fitted.toml'} --uncertainty 100)"
     else:  # demo
         if args.data:
             raise ActsimInputError("fit demo: takes no DATA (it fits the bundled synthetic data)")
@@ -468,10 +480,7 @@ def cmd_fit(args) -> int:
         with compile_notice():
             text = run_demo(out)
         files = [out / k for k in ("tensile", "dma", "spectra", "bend")]
-    print(text)
-    names = ", ".join(str(Path(f).relative_to(out)) if Path(f).is_relative_to(out) else str(f) for f in files)
-    print(with_caution(f"\nfit results written to {out}/ ({names})"))
-    return 0
+    return text, files
 
 
 def register(subparsers) -> None:
@@ -488,6 +497,9 @@ def register(subparsers) -> None:
     p.add_argument("data", nargs="*", metavar="DATA", help="data file(s), or a fit plan .toml for bend")
     p.add_argument("-o", "--output", metavar="OUT", help="output folder (default: actsim-out/fit-KIND)")
     p.add_argument("--confidence", type=float, default=None, help="confidence level of the intervals (default 0.95)")
+    from ..cli import add_overwrite_option
+
+    add_overwrite_option(p)
     g = p.add_argument_group("tensile / dma")
     g.add_argument("--toe", action="store_true", help="tensile: apply toe compensation (ASTM D638 Appendix X1)")
     g.add_argument("--step", choices=("log", "linear"), default="log", help="dma: step in log E (default) or in E")

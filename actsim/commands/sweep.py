@@ -15,7 +15,8 @@ VALUES is a list (10 mW/cm^2,50 mW/cm^2), a linear range lin(5 um, 200 um, 40) o
 log range log(1 mW/cm^2, 100 mW/cm^2, 9). Fields are dotted paths into the scenario,
 list entries by index or name. --link FIELD=VALUES ties a field to the --vary before it,
 value by value (same number of values). Results: OUT/sweep.nc, OUT/metrics.csv,
-OUT/chunks/ (one file per chunk; re-run the same command to resume), OUT/figures/.
+OUT/chunks/ (one file per chunk), OUT/figures/, OUT/manifest.json. While it runs the chunks
+are kept in .OUT.sweep-work/ beside OUT: after an interruption re-run the same command to resume.
 
 example:
   actsim sweep scenarios/thickness_study.toml --vary "layers[active film].thickness=lin(5 um, 200 um, 40)" \\
@@ -187,15 +188,35 @@ def _check_heatmap(metric, *, n_dims, sampling, has_target):
 
 
 def cmd_sweep(args) -> int:
+    from ..folders import remove_part_files, result_folder, work_folder
+
+    checked = check_arguments(args)  # before the scenario is read and anything runs or is written (the lock too)
+    final = Path(args.output or Path("actsim-out") / f"{Path(args.scenario).stem}-sweep")
+    # the resumable chunk store lives beside the folder (it survives a kill; the same command finds it again);
+    # its chunks join the staging folder as chunks/ and it goes when the finished folder is swapped in
+    work = work_folder(final, "sweep")
+    with result_folder(final, kind="sweep", overwrite=args.overwrite, parts=["inverse"] * bool(args.optimise),
+                       then_remove=[] if args.optimise else [work]) as out:
+        remove_part_files(work)  # left by a killed run (this one holds the lock now)
+        try:
+            return _sweep_into(args, out, final, work, checked)
+        except BaseException:
+            if work.is_dir() and not any(work.glob("chunk_*.nc")):
+                import shutil
+
+                shutil.rmtree(work, ignore_errors=True)  # nothing to resume: leave nothing behind
+            raise
+
+
+def _sweep_into(args, out, final, work, checked) -> int:
+    """``actsim sweep`` writing into the staging folder ``out`` of the result folder ``final``."""
     from ..cautions import with_caution
     from ..scenario import load_scenario
 
-    checked = check_arguments(args)  # before the scenario is read and anything runs or is written
     sc = load_scenario(args.scenario)
-    out = Path(args.output or Path("actsim-out") / f"{Path(args.scenario).stem}-sweep")
     target, within = checked["target"], checked["within"]
     if args.optimise:
-        return _cmd_optimise(args, sc, out, target, within)
+        return _cmd_optimise(args, sc, out, target, within, final=final)
     if args.free:
         raise ActsimInputError("--free: only used with --optimise power|force")
     from ..io import write_json, write_netcdf
@@ -225,9 +246,12 @@ def cmd_sweep(args) -> int:
     shown = args.scheduler is not None and notify_if_compiling([batch_kernel])
     with contextlib.nullcontext() if shown else compile_notice():
         ds = sweep(sc, vary, sampling=sampling, n_samples=args.samples, seed=args.seed, target_bend_angle=target,
-                   keep_series=args.series, chunk_size=args.chunk_size, store=out / "chunks",
+                   keep_series=args.series, chunk_size=args.chunk_size, store=work,
                    scheduler=args.scheduler, progress=not args.no_progress, yes=args.yes,
                    connect_timeout=args.timeout, threads=args.threads)
+    from ..folders import link_files
+
+    link_files(work, out / "chunks")
     write_netcdf(ds, out / "sweep.nc")
     _metrics_csv(ds, out / "metrics.csv")
     files = ["sweep.nc", "metrics.csv", "chunks/"]
@@ -295,11 +319,11 @@ def cmd_sweep(args) -> int:
         files.append("figures/bend_family.png")
     if not math.isnan(float(ds["peak_temperature"].max(skipna=True).fillna(math.nan))):
         print(f"  peak temperature over the sweep: {float(ds['peak_temperature'].max()) - 273.15:.4g} degC")
-    print(with_caution(f"\nsweep written to {out}/ ({', '.join(files)})"))
+    print(with_caution(f"\nsweep written to {final}/ ({', '.join(files)})"))
     return 0
 
 
-def _cmd_optimise(args, sc, out, target, within):
+def _cmd_optimise(args, sc, out, target, within, final=None):
     from ..cautions import with_caution
     from ..io import write_json
     from ..study.inverse import format_inverse, inverse_design
@@ -321,7 +345,7 @@ def _cmd_optimise(args, sc, out, target, within):
     write_json(out / "inverse.json", json.loads(json.dumps(res, default=str).replace("NaN", "null")))
     print(sc.title)
     print(format_inverse(res))
-    print(with_caution(f"\ninverse design written to {out}/inverse.json"))
+    print(with_caution(f"\ninverse design written to {final or out}/inverse.json"))
     if not res["feasible"]:
         print("actsim sweep: no feasible design between the bounds (exit status 1); widen the bounds or relax "
               "the targets")
@@ -373,6 +397,9 @@ def register(subparsers) -> None:
     p.add_argument("--within", metavar="TIME", help="time limit for --recommend and --optimise, e.g. \"20 s\"")
     p.add_argument("--heatmap", metavar="METRIC", help="metric of the heat map over the first two swept fields")
     p.add_argument("--no-progress", action="store_true", help="no progress bar")
+    from ..cli import add_overwrite_option
+
+    add_overwrite_option(p)
     g = p.add_argument_group("inverse design (--optimise)")
     g.add_argument("--optimise", choices=("power", "force"), help="least optical power, or largest blocked force, meeting the targets")
     g.add_argument("--free", action="append", metavar="FIELD=LOW..HIGH", help="a free field and its bounds (repeat)")
