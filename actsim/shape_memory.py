@@ -68,7 +68,7 @@ def cycles_from_arrays(*, protocol_step, axial_strain, curvature, bend_angle, pr
     axial_strain, curvature, bend_angle : numpy.ndarray, shape (n_time,)
         Mid-thickness strain [1], curvature [m-1] and bend angle [rad].
     protocol : sequence of actsim.scenario.Step
-        The scenario's protocol.
+        The scenario's protocol (hold values: strain [1] or curvature [m-1]).
 
     Returns
     -------
