@@ -319,11 +319,11 @@ def read_table_csv(path, *, field_name, value_unit_kind=None):
     (numpy.ndarray, numpy.ndarray)
         Wavelengths [m] and values in SI.
     """
-    from .tables import read_csv_table, read_xy_csv
+    from .tables import read_csv_table, read_xy_csv, sent_file
     from .units import SI_UNITS
 
     path = Path(path)
-    if not path.is_file():
+    if not path.is_file() and sent_file(path) is None:
         raise ActsimInputError(f"{field_name}: spectrum file '{path}' does not exist")
     try:
         table = read_csv_table(path)

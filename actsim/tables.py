@@ -27,6 +27,8 @@ and the line.
 
 from __future__ import annotations
 
+import contextlib
+import contextvars
 import os
 import re
 from dataclasses import dataclass, field
@@ -258,6 +260,40 @@ class CSVTable:
                                    f"{unit!r}") from None
 
 
+#: Data files sent with a task (normalised path -> bytes) while :func:`preread_files` is active, else None.
+_SENT_FILES: contextvars.ContextVar = contextvars.ContextVar("actsim_sent_files", default=None)
+
+
+@contextlib.contextmanager
+def preread_files(files):
+    """Read data files from ``files`` instead of the disk while the block runs (this thread only).
+
+    A sweep's chunk on a dask worker parses its scenario with the data files the client read and
+    sent with the task (:mod:`actsim.study.execute`); the worker's own disk is never read.
+
+    Parameters
+    ----------
+    files : dict of str to bytes
+        Path as the scenario parser resolves it (scenario folder / name as written) -> file contents.
+    """
+    token = _SENT_FILES.set({os.path.normpath(str(k)): bytes(v) for k, v in files.items()})
+    try:
+        yield
+    finally:
+        _SENT_FILES.reset(token)
+
+
+def sent_file(path):
+    """The bytes sent for ``path`` while :func:`preread_files` is active, else None (read the disk)."""
+    files = _SENT_FILES.get()
+    if files is None:
+        return None
+    key = os.path.normpath(str(path))
+    if key not in files:
+        raise ActsimInputError(f"data file: '{Path(key).name}' was not sent with the task (the client did not read it)")
+    return files[key]
+
+
 def read_csv_table(path) -> CSVTable:
     """Read a CSV file with a header line: comments, header (names and units), data rows.
 
@@ -280,10 +316,11 @@ def read_csv_table(path) -> CSVTable:
     """
     p = Path(path) if isinstance(path, (str, os.PathLike)) else path
     name = p.name
-    if not p.is_file():
+    sent = sent_file(p) if isinstance(p, Path) else None  # a task's data (preread_files), never the disk
+    if sent is None and not p.is_file():
         raise ActsimInputError(f"data file: {str(path)!r} does not exist or is not a file")
     try:
-        text = p.read_text(encoding="utf-8-sig")
+        text = sent.decode("utf-8-sig") if sent is not None else p.read_text(encoding="utf-8-sig")
     except UnicodeDecodeError:
         raise ActsimInputError(f"{name}: not a UTF-8 text file (save it as CSV text)") from None
     except OSError as exc:

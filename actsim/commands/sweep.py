@@ -123,6 +123,10 @@ def cmd_sweep(args) -> int:
     from ..cautions import with_caution
     from ..scenario import load_scenario
 
+    from ..study.execute import check_scheduler, tls_security
+
+    security = tls_security(ca=args.tls_ca, cert=args.tls_cert, key=args.tls_key)
+    check_scheduler(args.scheduler, security)  # before the scenario is read: a bad address writes nothing
     sc = load_scenario(args.scenario)
     out = Path(args.output or Path("actsim-out") / f"{Path(args.scenario).stem}-sweep")
     target = _quantity(args.target_angle, "--target-angle", "angle")
@@ -152,7 +156,7 @@ def cmd_sweep(args) -> int:
         ds = sweep(sc, vary, sampling=sampling, n_samples=args.samples, seed=args.seed, target_bend_angle=target,
                    keep_series=args.series, chunk_size=args.chunk_size, store=out / "chunks",
                    scheduler=args.scheduler, progress=not args.no_progress, yes=args.yes,
-                   connect_timeout=args.timeout, threads=args.threads)
+                   connect_timeout=args.timeout, threads=args.threads, security=security)
     write_netcdf(ds, out / "sweep.nc")
     _metrics_csv(ds, out / "metrics.csv")
     files = ["sweep.nc", "metrics.csv", "chunks/"]
@@ -280,12 +284,16 @@ def register(subparsers) -> None:
     p.add_argument("--series", action="store_true", help="keep the bend, force and temperature time series of every design")
     p.add_argument("-o", "--output", metavar="OUT", help="output folder (default: actsim-out/<scenario>-sweep)")
     p.add_argument("--scheduler", metavar="ADDRESS",
-                   help="where the designs run: a dask scheduler address tcp://host:port, or 'local' (dask worker "
-                        "processes on this machine); default: this process, in parallel over designs")
+                   help="where the designs run: a dask scheduler address tcp://host:port (or tls://host:port with "
+                        "--tls-ca/--tls-cert), or 'local' (dask worker processes on this machine); default: this "
+                        "process, in parallel over designs. Workers run code as you: trusted machines only")
     p.add_argument("--threads", type=int, metavar="N",
                    help="cores used in this process (default: all; or the NUMBA_NUM_THREADS environment variable)")
     p.add_argument("--timeout", type=float, default=10.0, metavar="SECONDS",
-                   help="seconds to wait for the scheduler to answer (default 10)")
+                   help="seconds to wait for the scheduler to answer and for a worker to be alive (default 10)")
+    p.add_argument("--tls-ca", metavar="FILE", help="tls:// scheduler: certificate authority (PEM)")
+    p.add_argument("--tls-cert", metavar="FILE", help="tls:// scheduler: this client's certificate (PEM)")
+    p.add_argument("--tls-key", metavar="FILE", help="tls:// scheduler: this client's private key (PEM), if not in --tls-cert")
     p.add_argument("--chunk-size", type=int, metavar="N", help="designs per chunk (default from a memory budget)")
     p.add_argument("--yes", action="store_true", help="run a grid larger than 20000 designs")
     p.add_argument("--pareto", action="store_true",
