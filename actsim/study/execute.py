@@ -461,16 +461,16 @@ def data_file_contents(plan) -> tuple:
     for name in dict.fromkeys(names):
         path = Path(base) / name
         try:
-            if not stat.S_ISREG(os.stat(path).st_mode):
+            st = os.stat(path)
+            if not stat.S_ISREG(st.st_mode):
                 continue
-            data = path.read_bytes()
+            total += st.st_size
+            if total > MAX_SENT_FILES:  # checked before reading
+                raise ActsimInputError(f"data files: more than {MAX_SENT_FILES // 2**20} MiB to send to the workers "
+                                       f"(at {_shown(name)}); run without --scheduler")
+            files[name] = path.read_bytes()
         except OSError:
             continue
-        total += len(data)
-        if total > MAX_SENT_FILES:
-            raise ActsimInputError(f"data files: more than {MAX_SENT_FILES // 2**20} MiB to send to the workers "
-                                   f"(at '{name}'); run without --scheduler")
-        files[name] = data
     return base, files
 
 
