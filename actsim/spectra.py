@@ -319,7 +319,8 @@ def read_table_csv(path, *, field_name, value_unit_kind=None):
     (numpy.ndarray, numpy.ndarray)
         Wavelengths [m] and values in SI.
     """
-    from .tables import read_csv_table, read_xy_csv, sent_file
+    from .sentfiles import sent_file
+    from .tables import read_csv_table, read_xy_csv
     from .units import SI_UNITS
 
     path = Path(path)

@@ -27,8 +27,6 @@ and the line.
 
 from __future__ import annotations
 
-import contextlib
-import contextvars
 import os
 import re
 from dataclasses import dataclass, field
@@ -38,6 +36,7 @@ from pathlib import Path
 import numpy as np
 
 from .errors import ActsimInputError
+from .sentfiles import sent_file
 from .units import SI_UNITS, registry
 
 __all__ = ["XYData", "KINDS", "CSVTable", "read_csv_table", "read_xy_csv", "as_xy", "data_file"]
@@ -258,40 +257,6 @@ class CSVTable:
         except pint.DimensionalityError:
             raise ActsimInputError(f"{self.source}: column '{self.header[i]}' unit {given!r} cannot be converted to "
                                    f"{unit!r}") from None
-
-
-#: Data files sent with a task (normalised path -> bytes) while :func:`preread_files` is active, else None.
-_SENT_FILES: contextvars.ContextVar = contextvars.ContextVar("actsim_sent_files", default=None)
-
-
-@contextlib.contextmanager
-def preread_files(files):
-    """Read data files from ``files`` instead of the disk while the block runs (this thread only).
-
-    A sweep's chunk on a dask worker parses its scenario with the data files the client read and
-    sent with the task (:mod:`actsim.study.execute`); the worker's own disk is never read.
-
-    Parameters
-    ----------
-    files : dict of str to bytes
-        Path as the scenario parser resolves it (scenario folder / name as written) -> file contents.
-    """
-    token = _SENT_FILES.set({os.path.normpath(str(k)): bytes(v) for k, v in files.items()})
-    try:
-        yield
-    finally:
-        _SENT_FILES.reset(token)
-
-
-def sent_file(path):
-    """The bytes sent for ``path`` while :func:`preread_files` is active, else None (read the disk)."""
-    files = _SENT_FILES.get()
-    if files is None:
-        return None
-    key = os.path.normpath(str(path))
-    if key not in files:
-        raise ActsimInputError(f"data file: '{Path(key).name}' was not sent with the task (the client did not read it)")
-    return files[key]
 
 
 def read_csv_table(path) -> CSVTable:

@@ -120,13 +120,13 @@ def _check_heatmap(metric, *, n_dims, sampling, has_target):
 
 
 def cmd_sweep(args) -> int:
-    from ..cautions import with_caution
-    from ..scenario import load_scenario
-
     from ..study.execute import check_scheduler, tls_security
 
     security = tls_security(ca=args.tls_ca, cert=args.tls_cert, key=args.tls_key)
     check_scheduler(args.scheduler, security)  # before the scenario is read: a bad address writes nothing
+    from ..cautions import with_caution
+    from ..scenario import load_scenario
+
     sc = load_scenario(args.scenario)
     out = Path(args.output or Path("actsim-out") / f"{Path(args.scenario).stem}-sweep")
     target = _quantity(args.target_angle, "--target-angle", "angle")

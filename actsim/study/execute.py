@@ -25,7 +25,7 @@ cluster (:func:`connect`; ``tls://`` with certificate files, :func:`tls_security
 
 On a dask cluster (``"local"`` or an address) the scenario and every data file it
 names travel with each task as contents (:func:`data_file_contents`): the worker
-parses the scenario text with those bytes (:func:`actsim.tables.preread_files`)
+parses the scenario text with those bytes (:func:`actsim.sentfiles.preread_files`)
 and never reads its own disk, so relative paths work whatever the worker's
 folder. Each task checks that the worker runs the client's actsim version, and
 numba on a worker uses the worker's threads (:func:`worker_threads`).
@@ -107,7 +107,7 @@ def run_chunk(base_text, base_path, overrides, design_ids, target, keep_series, 
         numba_threads = worker_threads()
     if files is None:
         return _run_chunk(base_text, base_path, overrides, design_ids, target, keep_series, numba_threads, None)
-    from ..tables import preread_files
+    from ..sentfiles import preread_files
 
     base = base_dir or (str(Path(base_path).parent) if base_path else ".")
     with preread_files({str(Path(base) / name): data for name, data in files.items()}):
