@@ -25,6 +25,7 @@ import stat
 from pathlib import Path
 
 from .errors import ActsimInputError
+from .sentfiles import sent_file
 
 __all__ = ["MAX_TEXT_FILE_BYTES", "ALLOW_OUTSIDE_ENV", "outside_allowed", "resolve_data_path", "check_data_file",
            "read_file_bytes", "read_text_file"]
@@ -130,6 +131,12 @@ def check_data_file(path, *, field: str, shown: str | None = None, max_bytes: in
     """
     shown = os.fspath(path) if shown is None else shown
     max_bytes = MAX_TEXT_FILE_BYTES if max_bytes is None else max_bytes
+    sent = sent_file(path)  # a sweep task's data files (actsim.sentfiles): never this machine's disk
+    if sent is not None:
+        if len(sent) > max_bytes:
+            raise ActsimInputError(f"{_label(field)}'{shown}' is {len(sent) / 2**20:.1f} MiB, more than the "
+                                   f"{max_bytes / 2**20:g} MiB allowed for a text or data file")
+        return
     if _in_system_folder(os.path.realpath(path)):
         raise ActsimInputError(f"{_label(field)}'{shown}' is a system file under /proc, /sys or /dev, not a data file")
     try:
@@ -166,6 +173,9 @@ def read_file_bytes(path, *, field: str = "", shown: str | None = None, max_byte
     shown = os.fspath(path) if shown is None else shown
     max_bytes = MAX_TEXT_FILE_BYTES if max_bytes is None else max_bytes
     check_data_file(path, field=field, shown=shown, max_bytes=max_bytes)
+    sent = sent_file(path)
+    if sent is not None:
+        return sent
     try:
         fd = os.open(path, os.O_RDONLY | getattr(os, "O_NONBLOCK", 0) | getattr(os, "O_NOCTTY", 0))
     except OSError as exc:

@@ -84,7 +84,7 @@ def test_parse_values():
 def test_dask_cluster_equals_local(base, local):
     from distributed import LocalCluster
 
-    with LocalCluster(n_workers=1, threads_per_worker=2, processes=False, dashboard_address=None) as cluster:
+    with LocalCluster(n_workers=1, threads_per_worker=2, processes=False, protocol="tcp", dashboard_address=None) as cluster:
         remote = sweep(base, VARY, target_bend_angle=TARGET, scheduler=cluster.scheduler_address, chunk_size=3,
                        progress=False)
     xr.testing.assert_identical(local, remote)

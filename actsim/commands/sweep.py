@@ -191,6 +191,10 @@ def cmd_sweep(args) -> int:
     from ..folders import remove_part_files, result_folder, work_folder
 
     checked = check_arguments(args)  # before the scenario is read and anything runs or is written (the lock too)
+    from ..study.execute import check_scheduler, tls_security
+
+    checked["security"] = tls_security(ca=args.tls_ca, cert=args.tls_cert, key=args.tls_key)
+    check_scheduler(args.scheduler, checked["security"])  # a bad address or certificate writes nothing
     final = Path(args.output or Path("actsim-out") / f"{Path(args.scenario).stem}-sweep")
     # the resumable chunk store lives beside the folder (it survives a kill; the same command finds it again);
     # its chunks join the staging folder as chunks/ and it goes when the finished folder is swapped in
@@ -248,7 +252,7 @@ def _sweep_into(args, out, final, work, checked) -> int:
         ds = sweep(sc, vary, sampling=sampling, n_samples=args.samples, seed=args.seed, target_bend_angle=target,
                    keep_series=args.series, chunk_size=args.chunk_size, store=work,
                    scheduler=args.scheduler, progress=not args.no_progress, yes=args.yes,
-                   connect_timeout=args.timeout, threads=args.threads)
+                   connect_timeout=args.timeout, threads=args.threads, security=checked["security"])
     from ..folders import link_files
 
     link_files(work, out / "chunks")
@@ -379,12 +383,16 @@ def register(subparsers) -> None:
     p.add_argument("--series", action="store_true", help="keep the bend, force and temperature time series of every design")
     p.add_argument("-o", "--output", metavar="OUT", help="output folder (default: actsim-out/<scenario>-sweep)")
     p.add_argument("--scheduler", metavar="ADDRESS",
-                   help="where the designs run: a dask scheduler address tcp://host:port, or 'local' (dask worker "
-                        "processes on this machine); default: this process, in parallel over designs")
+                   help="where the designs run: a dask scheduler address tcp://host:port (or tls://host:port with "
+                        "--tls-ca/--tls-cert), or 'local' (dask worker processes on this machine); default: this "
+                        "process, in parallel over designs. Workers run code as you: trusted machines only")
     p.add_argument("--threads", type=int, metavar="N",
                    help="cores used in this process (default: all; or the NUMBA_NUM_THREADS environment variable)")
     p.add_argument("--timeout", type=float, default=10.0, metavar="SECONDS",
-                   help="seconds to wait for the scheduler to answer (default 10)")
+                   help="seconds to wait for the scheduler to answer and for a worker to be alive (default 10)")
+    p.add_argument("--tls-ca", metavar="FILE", help="tls:// scheduler: certificate authority (PEM)")
+    p.add_argument("--tls-cert", metavar="FILE", help="tls:// scheduler: this client's certificate (PEM)")
+    p.add_argument("--tls-key", metavar="FILE", help="tls:// scheduler: this client's private key (PEM), if not in --tls-cert")
     p.add_argument("--chunk-size", type=int, metavar="N", help="designs per chunk (default from a memory budget)")
     p.add_argument("--yes", action="store_true", help="run a grid larger than 20000 designs")
     p.add_argument("--pareto", action="store_true",

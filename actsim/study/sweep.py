@@ -109,7 +109,7 @@ def assemble(plan: SweepPlan, chunks) -> xr.Dataset:
 
 def sweep(scenario, vary, *, sampling="grid", n_samples=None, seed=0, metrics=None, target_bend_angle=None,
           keep_series=False, chunk_size=None, store=None, scheduler=None, progress=True, yes=False,
-          connect_timeout=10.0, n_workers=None, threads=None) -> xr.Dataset:
+          connect_timeout=10.0, n_workers=None, threads=None, security=None) -> xr.Dataset:
     """Run a design sweep and return its metrics as one Dataset.
 
     Parameters
@@ -154,6 +154,8 @@ def sweep(scenario, vary, *, sampling="grid", n_samples=None, seed=0, metrics=No
         Worker processes of the local cluster (default: the number of cores).
     threads : int, optional
         Cores of the parallel loop over designs in this process (default: all numba may use).
+    security : distributed.security.Security, optional
+        TLS settings of a ``tls://`` scheduler (:func:`actsim.study.execute.tls_security`).
 
     Returns
     -------
@@ -172,7 +174,7 @@ def sweep(scenario, vary, *, sampling="grid", n_samples=None, seed=0, metrics=No
                 extra = f"; did you mean '{hint[0]}'?" if hint else f"; metrics are: {', '.join(METRIC_INFO)}"
                 raise ActsimInputError(f"metrics: no metric '{m}'{extra}")
     chunks = execute(plan, store=store, scheduler=scheduler, progress=progress, connect_timeout=connect_timeout,
-                     n_workers=n_workers, threads=threads)
+                     n_workers=n_workers, threads=threads, security=security)
     ds = assemble(plan, chunks)
     if metrics is not None:
         drop = [m for m in METRIC_INFO if m in ds and m not in metrics]
