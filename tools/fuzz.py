@@ -657,6 +657,8 @@ def fuzz(*, cases: int = 200, seed: int = 0, jobs: int = 2, timeout: float = 20.
     def tick(n):
         if bar is not None:
             bar.update(n - done[0])
+            if bar.disable and (n % 100 == 0 or n == cases):  # not a terminal: a line every 100 cases
+                print(f"fuzz: {n}/{cases} cases", file=sys.stderr, flush=True)
         done[0] = n
 
     try:
