@@ -48,14 +48,22 @@ References
 
 from __future__ import annotations
 
+import contextvars
 import math
-from dataclasses import dataclass
+import time
+from contextlib import contextmanager
+from dataclasses import dataclass, field
 
 import numpy as np
 
 from .errors import ActsimInputError, ActsimSimulationError
 
 __all__ = [
+    "SolveBudget",
+    "ElasticaLimitError",
+    "FULL_TURN",
+    "bend_beyond_range",
+    "progress_bar",
     "ElasticaShape",
     "BlockedTip",
     "LoadLine",
@@ -82,6 +90,183 @@ _MIN_STEP = 1.0 / 512
 #: the thickness, where the slender-beam model itself no longer holds.
 _MAX_LOAD = 1e6
 _MAX_CONTINUATION_STEPS = 300
+#: Default wall-time limit of one group of large-deflection solves [s] (:class:`SolveBudget`).
+DEFAULT_TIME_LIMIT = 20.0
+#: Default limit on the number of BVP solves of one group (:class:`SolveBudget`); a converging
+#: check of a bundled scenario uses a few hundred.
+DEFAULT_MAX_SOLVES = 20000
+#: Bend angle of a full turn [rad]. Past it a free strip of uniform curvature overlaps itself; the
+#: elastica here has no contact, so the checks do not solve it there (:func:`bend_beyond_range`).
+FULL_TURN = 2.0 * math.pi
+
+
+# --------------------------------------------------------------------------- limits on the work
+
+
+class ElasticaLimitError(ActsimSimulationError):
+    """A group of large-deflection solves ran out of its :class:`SolveBudget` (time or solve count).
+
+    The message says, in a user's words, which limit stopped the work and after how long.
+    """
+
+
+@dataclass(eq=False)
+class SolveBudget:
+    """Wall-time and solve-count limit shared by a group of large-deflection solves.
+
+    One budget is handed to every solve of a job (for example all the blocked forces and load
+    lines of ``actsim check``), so the whole job stops within ``time_limit``. The clock starts
+    at the first solve. When a limit is reached the running solve raises
+    :class:`ElasticaLimitError` (from inside the BVP iteration, so within a fraction of a
+    second), and so does every later solve with this budget.
+
+    Parameters
+    ----------
+    time_limit : float
+        Wall time the group may take [s], > 0 (``math.inf``: no limit). Default 20 s.
+    max_solves : int
+        Largest number of BVP solves (continuation steps of all the solves together) [-], >= 1.
+
+    Attributes
+    ----------
+    solves : int
+        BVP solves started so far [-].
+    elapsed : float
+        Wall time since the first solve [s] (0 before it).
+    """
+
+    time_limit: float = DEFAULT_TIME_LIMIT
+    max_solves: int = DEFAULT_MAX_SOLVES
+    solves: int = field(default=0, init=False)
+    _start: float | None = field(default=None, init=False, repr=False)
+    _reason: str = field(default="", init=False, repr=False)
+
+    def __post_init__(self):
+        try:
+            tl = float(self.time_limit)
+        except (TypeError, ValueError):
+            raise ActsimInputError(f"time_limit: {self.time_limit!r} is not a number [s]") from None
+        if math.isnan(tl) or tl <= 0.0:
+            raise ActsimInputError(f"time_limit: {tl:g} s is outside the allowed range (> 0 s; inf for no limit)")
+        self.time_limit = tl
+        self.max_solves = _n_points(self.max_solves, "max_solves", lo=1)
+
+    @property
+    def elapsed(self) -> float:
+        return 0.0 if self._start is None else time.monotonic() - self._start
+
+    @property
+    def exhausted(self) -> str:
+        """Why the budget is used up, in a user's words; empty while it is not."""
+        return self._reason
+
+    def _fail(self, reason: str):
+        self._reason = self._reason or reason
+        raise ElasticaLimitError(self._reason)
+
+    def start_solve(self) -> None:
+        """Count one BVP solve; raise :class:`ElasticaLimitError` when a limit is reached."""
+        if self._reason:
+            raise ElasticaLimitError(self._reason)
+        if self._start is None:
+            self._start = time.monotonic()
+        self.solves += 1
+        if self.solves > self.max_solves:
+            self._fail(f"the large-deflection solve stopped after {self.max_solves} solver steps (the step limit)")
+        self.check_time()
+
+    def check_time(self) -> None:
+        """Raise :class:`ElasticaLimitError` when the wall-time limit has passed."""
+        if self._start is not None and time.monotonic() - self._start > self.time_limit:
+            self._fail(f"the large-deflection solve did not finish within {self.time_limit:g} s (the time limit)")
+
+
+_BUDGET: contextvars.ContextVar = contextvars.ContextVar("actsim_elastica_budget", default=None)
+
+
+@contextmanager
+def _budget_scope(budget):
+    """Make ``budget`` (or a fresh default one) the budget of the solves inside; nested scopes keep the outer one."""
+    if budget is not None and not isinstance(budget, SolveBudget):
+        raise ActsimInputError(f"budget: {budget!r} is not a SolveBudget")
+    if budget is None and _BUDGET.get() is not None:
+        yield _BUDGET.get()
+        return
+    token = _BUDGET.set(budget if budget is not None else SolveBudget())
+    try:
+        yield _BUDGET.get()
+    finally:
+        _BUDGET.reset(token)
+
+
+def bend_beyond_range(*, curvature, length) -> bool:
+    """Whether a uniform curvature bends the strip past a full turn, outside the checks' elastica range.
+
+    Parameters
+    ----------
+    curvature : float
+        Spontaneous (free) curvature [1/m].
+    length : float
+        Free length [m].
+
+    Returns
+    -------
+    bool
+        True when ``|curvature| * length > 2 pi``: the free strip, a circular arc, would pass
+        through itself, and the elastica without contact no longer describes it.
+
+    Notes
+    -----
+    The free strip of uniform curvature is the arc :math:`\\theta(s) = \\kappa s`; it closes into
+    a full circle at
+
+    .. math::
+
+        |\\kappa| L = 2\\pi ,
+
+    beyond which the tip part lies on the clamped part (Timoshenko and Gere, 1961, pure bending
+    gives a circular arc). The continuation of the held strip folds near the same bend.
+
+    References
+    ----------
+    .. [1] Timoshenko, S. P. and Gere, J. M., *Theory of Elastic Stability*, 2nd ed.,
+       McGraw-Hill, 1961 (pure bending gives a circular arc).
+    """
+    return abs(float(curvature) * float(length)) > FULL_TURN
+
+
+def _user_reason(exc) -> str:
+    """A failed solve's reason in a user's words (no parameter names of the solver functions)."""
+    if isinstance(exc, ElasticaLimitError):
+        return str(exc)
+    return "the large-deflection solve did not converge (the strip may snap through or touch itself there)"
+
+
+def progress_bar(total, desc, *, on=True):
+    """A progress line on stderr that appears only after 2 s of work.
+
+    Parameters
+    ----------
+    total : int
+        Number of steps (unitless).
+    desc : str
+        What is being done.
+    on : bool, optional
+        False: a silent bar. The line is never shown when stderr is not a terminal or the ``CI``
+        environment variable is set.
+
+    Returns
+    -------
+    tqdm.tqdm
+        Use as a context manager; ``update(1)`` per step.
+    """
+    import os
+    import sys
+
+    from tqdm import tqdm
+
+    disable = (not on) or (not sys.stderr.isatty()) or bool(os.environ.get("CI"))
+    return tqdm(total=total, desc=desc, unit="solve", disable=disable, leave=False, delay=2.0, file=sys.stderr)
 
 
 # --------------------------------------------------------------------------- results
@@ -401,6 +586,7 @@ class _System:
         self.weight = float(weight)
         self.gdir = np.asarray(gdir, float)
         self.free = tuple(free_force)
+        self.budget = _BUDGET.get()
 
     def _n(self, t, p):
         fx, fy = self.force
@@ -413,6 +599,8 @@ class _System:
         return nx, ny
 
     def fun(self, t, y, p=None):
+        if self.budget is not None:
+            self.budget.check_time()
         th = y[0] + self.prof.K(t)
         c, s = np.cos(th), np.sin(th)
         nx, ny = self._n(t, p)
@@ -440,6 +628,9 @@ def _solve(system, bc, guess, p0=None):
     """One solve_bvp call; returns the solution object or None."""
     from scipy.integrate import solve_bvp  # here, not at the top: mechanics imports this module for a closed form
 
+    budget = _BUDGET.get()
+    if budget is not None:
+        budget.start_solve()
     t, y = guess
     kw = dict(tol=_BVP_TOL, max_nodes=_MAX_NODES, verbose=0)
     try:
@@ -540,6 +731,7 @@ def cantilever_shape(
     gravity_direction=(0.0, -1.0),
     n_points=201,
     raise_on_failure=True,
+    budget=None,
 ) -> ElasticaShape:
     """Large-deflection shape of a clamped strip under spontaneous curvature and loads.
 
@@ -570,6 +762,9 @@ def cantilever_shape(
         If True (default) a load the solver cannot reach raises
         :class:`~actsim.errors.ActsimInputError`; if False the shape at the
         largest load reached is returned with ``success=False``.
+    budget : SolveBudget, optional
+        Time and solve-count limit shared with other solves (a limit object, unitless); None: a
+        fresh one with the defaults (20 s), or the budget of an enclosing solve.
 
     Returns
     -------
@@ -581,6 +776,8 @@ def cantilever_shape(
     ActsimInputError
         Bad input, or (with ``raise_on_failure``) no converged solution; the
         one-line message gives the largest load fraction solved.
+    ElasticaLimitError
+        The budget's time or solve-count limit was reached.
 
     Notes
     -----
@@ -640,28 +837,29 @@ def cantilever_shape(
                 f"solver handles (<= {_MAX_LOAD:g}); the slender-beam model does not hold there"
             )
 
-    t0 = _initial_mesh(prof)
-    guess = _unloaded_guess(prof, t0)
+    with _budget_scope(budget):
+        t0 = _initial_mesh(prof)
+        guess = _unloaded_guess(prof, t0)
 
-    def solve_at(lam, state):
-        system = _System(prof, lam * Fd, lam * wd, g)
+        def solve_at(lam, state):
+            system = _System(prof, lam * Fd, lam * wd, g)
 
-        def bc(ya, yb):
-            return np.array([ya[0], ya[2], ya[3], yb[1] - lam * Md])
+            def bc(ya, yb):
+                return np.array([ya[0], ya[2], ya[3], yb[1] - lam * Md])
 
-        return _solve(system, bc, state)
+            return _solve(system, bc, state)
 
-    first = solve_at(0.0, guess)
-    if first is None:  # pragma: no cover - the unloaded problem is linear in x, y
-        raise ActsimSimulationError("spontaneous_curvature: the unloaded shape could not be solved; check the profile")
-    if Fd.any() or Md or wd:
-        # first step: a dimensionless load of about 2 (|F| L^2/EI, |M| L/EI, w L^3/(8 EI))
-        size = max(float(np.hypot(*Fd)), abs(Md), wd / 8.0)
-        _, lam, sol, ok = _continuation(
-            lambda lam, st: solve_at(lam, (st.x, st.y)), first, first_step=2.0 / max(size, 1e-300)
-        )
-    else:
-        lam, sol, ok = 1.0, first, True
+        first = solve_at(0.0, guess)
+        if first is None:  # pragma: no cover - the unloaded problem is linear in x, y
+            raise ActsimSimulationError("spontaneous_curvature: the unloaded shape could not be solved; check the profile")
+        if Fd.any() or Md or wd:
+            # first step: a dimensionless load of about 2 (|F| L^2/EI, |M| L/EI, w L^3/(8 EI))
+            size = max(float(np.hypot(*Fd)), abs(Md), wd / 8.0)
+            _, lam, sol, ok = _continuation(
+                lambda lam, st: solve_at(lam, (st.x, st.y)), first, first_step=2.0 / max(size, 1e-300)
+            )
+        else:
+            lam, sol, ok = 1.0, first, True
     if not ok:
         msg = (
             f"tip_force/tip_moment/weight_per_length: the elastica did not converge beyond {100 * lam:.3g} % of the load "
@@ -710,7 +908,8 @@ def _blocked_solution(prof, rotation):
     return st[2]
 
 
-def blocked_tip_force(*, length, bending_stiffness, spontaneous_curvature, rotation="free", n_points=201) -> BlockedTip:
+def blocked_tip_force(*, length, bending_stiffness, spontaneous_curvature, rotation="free", n_points=201,
+                      budget=None) -> BlockedTip:
     """Force needed to hold the tip of a curling strip on its original axis.
 
     Parameters
@@ -726,12 +925,23 @@ def blocked_tip_force(*, length, bending_stiffness, spontaneous_curvature, rotat
         tip is also held at zero rotation (a guided clamp) [-].
     n_points : int, optional
         Points of the returned shape [-].
+    budget : SolveBudget, optional
+        Time and solve-count limit shared with other solves (a limit object, unitless); None: a
+        fresh one with the defaults (20 s), or the budget of an enclosing solve.
 
     Returns
     -------
     BlockedTip
         Force along +y exerted by the strip on the support [N], tip moment
         [N m] and the held shape.
+
+    Raises
+    ------
+    ActsimInputError
+        Bad input, or the continuation from the straight strip did not converge (one line with the
+        fraction of the curvature reached).
+    ElasticaLimitError
+        The budget's time or solve-count limit was reached.
 
     Notes
     -----
@@ -770,14 +980,15 @@ def blocked_tip_force(*, length, bending_stiffness, spontaneous_curvature, rotat
     if rotation not in ("free", "fixed"):
         raise ActsimInputError(f"rotation: {rotation!r} is not one of 'free', 'fixed'")
     prof = _profile(spontaneous_curvature, L, n_points)
-    sol = _blocked_solution(prof, rotation)
+    with _budget_scope(budget):
+        sol = _blocked_solution(prof, rotation)
     fy = float(sol.p[0]) * EI / L**2  # applied (reaction) force on the strip, along y
     mtip = float(sol.y[1, -1]) * EI / L  # applied tip moment on the strip
     shape = _shape_from(sol, prof, L, EI, n_points)
     return BlockedTip(force=-fy, tip_moment=-mtip if rotation == "fixed" else 0.0, shape=shape)
 
 
-def load_line(*, length, bending_stiffness, spontaneous_curvature, n=21, n_points=201) -> LoadLine:
+def load_line(*, length, bending_stiffness, spontaneous_curvature, n=21, n_points=201, budget=None) -> LoadLine:
     """Tip force against tip displacement, from blocked to free, and the work.
 
     Parameters
@@ -793,6 +1004,9 @@ def load_line(*, length, bending_stiffness, spontaneous_curvature, n=21, n_point
     n_points : int, optional
         Length of an array ``spontaneous_curvature`` (values at
         ``linspace(0, length, n_points)``) [-].
+    budget : SolveBudget, optional
+        Time and solve-count limit shared with other solves (a limit object, unitless); None: a
+        fresh one with the defaults (20 s), or the budget of an enclosing solve.
 
     Returns
     -------
@@ -800,6 +1014,13 @@ def load_line(*, length, bending_stiffness, spontaneous_curvature, n=21, n_point
         Displacement along y [m] (0 = blocked ... free tip y), force along +y
         on a frictionless support normal to the original axis [N], tip x [m]
         and the work [J].
+
+    Raises
+    ------
+    ActsimInputError
+        Bad input, or no quasi-static path from blocked to free was traced.
+    ElasticaLimitError
+        The budget's time or solve-count limit was reached.
 
     Notes
     -----
@@ -833,54 +1054,55 @@ def load_line(*, length, bending_stiffness, spontaneous_curvature, n=21, n_point
     EI = _positive(bending_stiffness, "bending_stiffness", "N m^2")
     n = _n_points(n, "n")
     n_points = _n_points(n_points)
-    prof = _profile(spontaneous_curvature, L, n_points)
-    free_guess = _unloaded_guess(prof, _initial_mesh(prof))
-    # tip rise of the unloaded strip, int_0^1 sin K(t) dt (adaptive quadrature, breaks at the jumps)
-    u_free = quad(lambda t: math.sin(float(prof.K(np.array([t]))[0])), 0.0, 1.0,
-                  points=prof.jumps if prof.jumps.size else None, limit=400, epsabs=1e-14, epsrel=1e-12)[0]
-    system = _System(prof, (0.0, 0.0), 0.0, (0.0, -1.0), free_force=(1,))
-    blocked = _blocked_solution(prof, "free")
-    f_scale = max(abs(float(blocked.p[0])), 1e-300)
+    with _budget_scope(budget):
+        prof = _profile(spontaneous_curvature, L, n_points)
+        free_guess = _unloaded_guess(prof, _initial_mesh(prof))
+        # tip rise of the unloaded strip, int_0^1 sin K(t) dt (adaptive quadrature, breaks at the jumps)
+        u_free = quad(lambda t: math.sin(float(prof.K(np.array([t]))[0])), 0.0, 1.0,
+                      points=prof.jumps if prof.jumps.size else None, limit=400, epsabs=1e-14, epsrel=1e-12)[0]
+        system = _System(prof, (0.0, 0.0), 0.0, (0.0, -1.0), free_force=(1,))
+        blocked = _blocked_solution(prof, "free")
+        f_scale = max(abs(float(blocked.p[0])), 1e-300)
 
-    def solve_at(lam, state):
-        delta = lam * u_free
+        def solve_at(lam, state):
+            delta = lam * u_free
 
-        def bc(ya, yb, pp):
-            return np.array([ya[0], ya[2], ya[3], yb[1], yb[3] - delta])
+            def bc(ya, yb, pp):
+                return np.array([ya[0], ya[2], ya[3], yb[1], yb[3] - delta])
 
-        sol = _solve(system, bc, state[0], state[1])
-        return None if sol is None else ((sol.x, sol.y), sol.p.copy(), sol)
+            sol = _solve(system, bc, state[0], state[1])
+            return None if sol is None else ((sol.x, sol.y), sol.p.copy(), sol)
 
-    grid = np.linspace(0.0, 1.0, n)
-    # branch A: from the blocked state, raising the support toward the free tip position
-    state0 = ((blocked.x, blocked.y), blocked.p.copy(), blocked)
-    reached, lam_a, _, ok_a = _continuation(solve_at, state0, grid[1:])
-    sols = [blocked] + [r[2] for r in reached]
-    snap = math.nan
-    if not ok_a or abs(float(sols[-1].p[0])) > 1e-6 * f_scale:
-        # the path from blocked folds (or ends on a loaded shape): past the fold the strip snaps
-        # to the branch that joins the free shape; trace that branch from the free end downward
-        if ok_a:
-            lam_a = 1.0 - 1.0 / (n - 1)
-            sols = sols[:-1]
-        snap = lam_a * u_free * L
-        sol_free = _solve(system, (lambda ya, yb, pp: np.array([ya[0], ya[2], ya[3], yb[1], yb[3] - u_free])),
-                          free_guess, np.array([0.0]))
-        if sol_free is None:  # pragma: no cover
-            raise ActsimSimulationError("spontaneous_curvature: the free shape could not be solved; check the profile")
-        k_a = len(sols)  # grid points 0 .. k_a-1 come from branch A
-        down = 1.0 - grid[::-1][1 : n - k_a]  # lam along the free branch (delta = (1 - lam) u_free)
+        grid = np.linspace(0.0, 1.0, n)
+        # branch A: from the blocked state, raising the support toward the free tip position
+        state0 = ((blocked.x, blocked.y), blocked.p.copy(), blocked)
+        reached, lam_a, _, ok_a = _continuation(solve_at, state0, grid[1:])
+        sols = [blocked] + [r[2] for r in reached]
+        snap = math.nan
+        if not ok_a or abs(float(sols[-1].p[0])) > 1e-6 * f_scale:
+            # the path from blocked folds (or ends on a loaded shape): past the fold the strip snaps
+            # to the branch that joins the free shape; trace that branch from the free end downward
+            if ok_a:
+                lam_a = 1.0 - 1.0 / (n - 1)
+                sols = sols[:-1]
+            snap = lam_a * u_free * L
+            sol_free = _solve(system, (lambda ya, yb, pp: np.array([ya[0], ya[2], ya[3], yb[1], yb[3] - u_free])),
+                              free_guess, np.array([0.0]))
+            if sol_free is None:  # pragma: no cover
+                raise ActsimSimulationError("spontaneous_curvature: the free shape could not be solved; check the profile")
+            k_a = len(sols)  # grid points 0 .. k_a-1 come from branch A
+            down = 1.0 - grid[::-1][1 : n - k_a]  # lam along the free branch (delta = (1 - lam) u_free)
 
-        def solve_down(lam, state):
-            return solve_at(1.0 - lam, state)
+            def solve_down(lam, state):
+                return solve_at(1.0 - lam, state)
 
-        reached_b, lam_b, _, ok_b = _continuation(solve_down, ((sol_free.x, sol_free.y), np.array([0.0]), sol_free), down)
-        if not ok_b:
-            raise ActsimInputError(
-                f"spontaneous_curvature: the load line has a snap-through at {100 * lam_a:.3g} % of the free tip "
-                f"travel, and the branch through the free shape ends at {100 * (1 - lam_b):.3g} %; no quasi-static path"
-            )
-        sols = sols + [r[2] for r in reached_b][::-1] + [sol_free]
+            reached_b, lam_b, _, ok_b = _continuation(solve_down, ((sol_free.x, sol_free.y), np.array([0.0]), sol_free), down)
+            if not ok_b:
+                raise ActsimInputError(
+                    f"spontaneous_curvature: the load line has a snap-through at {100 * lam_a:.3g} % of the free tip "
+                    f"travel, and the branch through the free shape ends at {100 * (1 - lam_b):.3g} %; no quasi-static path"
+                )
+            sols = sols + [r[2] for r in reached_b][::-1] + [sol_free]
     u = np.array([s_.y[3, -1] for s_ in sols]) * L
     u[0] = 0.0
     force = -np.array([s_.p[0] for s_ in sols]) * EI / L**2
@@ -937,12 +1159,14 @@ def circular_arc_tip(*, curvature, length):
     return x, y, th
 
 
-def load_line_history(ds, *, n_times=25, n=11, times=None):
+def load_line_history(ds, *, n_times=25, n=11, times=None, budget=None, progress=False):
     """Large-deflection load lines at output times of a simulation (time-resolved force–travel curves).
 
     At each selected output time the strip's free curvature and bending stiffness give one
     :func:`load_line`: the force the tip delivers along +y at each tip travel between blocked and free,
-    and the work it can do. Times whose curvature is zero get a zero line.
+    and the work it can do. Times whose curvature is zero get a zero line. Times whose free strip bends
+    past a full turn (:func:`bend_beyond_range`), whose line does not converge, or that the budget
+    does not reach get NaN, and the dataset's ``not_solved`` attribute says which and why.
 
     Parameters
     ----------
@@ -956,6 +1180,12 @@ def load_line_history(ds, *, n_times=25, n=11, times=None):
         Points on each load line [dimensionless].
     times : array_like, optional
         Output times to use [s] (nearest output times are taken).
+    budget : SolveBudget, optional
+        Time and solve-count limit of all the lines together (a limit object, unitless); None: a
+        fresh one with the defaults (20 s).
+    progress : bool, optional
+        Show a progress line on stderr when the lines take more than 2 s (never when stderr is not
+        a terminal or the ``CI`` environment variable is set).
 
     Returns
     -------
@@ -978,24 +1208,47 @@ def load_line_history(ds, *, n_times=25, n=11, times=None):
     force = np.zeros((idx.size, n))
     work = np.zeros(idx.size)
     snap = np.full(idx.size, np.nan)
-    for row, i in enumerate(idx):
-        k = float(kappa[i])
-        if k == 0.0:
-            continue
-        ll = load_line(length=length, bending_stiffness=float(ei[i]), spontaneous_curvature=abs(k), n=n)
-        sign = 1.0 if k > 0 else -1.0
-        disp[row] = sign * np.asarray(ll.displacement)
-        force[row] = sign * np.asarray(ll.force)
-        work[row] = ll.work
-        snap[row] = sign * ll.snap_displacement if np.isfinite(ll.snap_displacement) else np.nan
+    not_solved = []
+    bar = progress_bar(idx.size, "large deflection: load lines", on=progress)
+    with _budget_scope(budget), bar:
+        for row, i in enumerate(idx):
+            bar.update(1)
+            k = float(kappa[i])
+            if k == 0.0:
+                continue
+            reason = ""
+            if bend_beyond_range(curvature=k, length=length):
+                reason = f"the strip bends {math.degrees(abs(k) * length):.4g} degrees, past a full turn"
+            else:
+                try:
+                    ll = load_line(length=length, bending_stiffness=float(ei[i]), spontaneous_curvature=abs(k), n=n)
+                except (ActsimInputError, ElasticaLimitError) as exc:
+                    reason = _user_reason(exc)
+            if reason:
+                disp[row] = force[row] = np.nan
+                work[row] = np.nan
+                not_solved.append(f"t = {t_all[i]:g} s: {reason}")
+                continue
+            sign = 1.0 if k > 0 else -1.0
+            disp[row] = sign * np.asarray(ll.displacement)
+            force[row] = sign * np.asarray(ll.force)
+            work[row] = ll.work
+            snap[row] = sign * ll.snap_displacement if np.isfinite(ll.snap_displacement) else np.nan
+    attrs = {"model": "elastica of a uniformly curved cantilever, tip load normal to the clamped tangent"}
+    missing = {}
+    if not_solved:
+        attrs["not_solved"] = "; ".join(not_solved)
+        missing = {"missing_means": "the load line at that time was not solved (see the not_solved attribute)"}
     return xr.Dataset(
         data_vars={
-            "displacement": (("time", "point"), disp, {"units": "m", "long_name": "tip travel along +y from the clamped tangent"}),
-            "force": (("time", "point"), force, {"units": "N", "long_name": "force the tip delivers along +y at that travel"}),
-            "work": (("time",), work, {"units": "J", "long_name": "work the tip can do from blocked to free"}),
+            "displacement": (("time", "point"), disp, {"units": "m", "long_name": "tip travel along +y from the clamped tangent",
+                                                       **missing}),
+            "force": (("time", "point"), force, {"units": "N", "long_name": "force the tip delivers along +y at that travel",
+                                                 **missing}),
+            "work": (("time",), work, {"units": "J", "long_name": "work the tip can do from blocked to free", **missing}),
             "snap_displacement": (("time",), snap, {"units": "m", "long_name": "travel at which the line snaps to the free branch",
                                                    "missing_means": "the load line does not snap at that time"}),
         },
         coords={"time": ("time", t_all[idx], {"units": "s", "long_name": "output time"})},
-        attrs={"model": "elastica of a uniformly curved cantilever, tip load normal to the clamped tangent"},
+        attrs=attrs,
     )

@@ -93,7 +93,9 @@ def size_joint(scenario, ds, js, cs: CheckSettings, act: dict) -> JointSizing:
                  "pure end moment (circular arc)")
     else:
         if "load_line" not in act:
-            return JointSizing(out, unavailable="no load line at peak bend (elastica not solved or not run)")
+            why = act.get("load_line_not_solved")
+            return JointSizing(out, unavailable=(f"no load line at peak bend: {why}" if why else
+                                                 "no load line at peak bend (elastica not solved or not run)"))
         m1 = np.atleast_1d(jt.lever_moment_over_travel(load_line=act["load_line"]["_object"], lever_arm=js.lever_arm,
                                                       joint_angle=phi, start_angle=js.angle_start))
         model = f"strip tips push a lever of {js.lever_arm * 1e3:.4g} mm with the force of their load line"

@@ -220,7 +220,7 @@ class StressHistory:
     details: dict
 
 
-def stress_history(scenario, ds, li, *, stress, how: str, tip: dict | None) -> StressHistory:
+def stress_history(scenario, ds, li, *, stress, how: str, tip: dict | None, tip_not_solved: str = "") -> StressHistory:
     """The equivalent stress of every cell over the protocol, with the tip-loaded state at peak bend.
 
     Parameters
@@ -236,6 +236,9 @@ def stress_history(scenario, ds, li, *, stress, how: str, tip: dict | None) -> S
         Whose stress it is, for the notes.
     tip : dict or None
         ``tip_load`` of the actuation state (:func:`actsim.checks.actuation.tip_load_shape`) or None.
+    tip_not_solved : str, optional
+        Why the tip-loaded shape of ``[checks].tip_force`` could not be solved (the actuation state's
+        ``tip_load_not_solved``); the yield and fatigue checks then add a "not assessed" row with it.
 
     Returns
     -------
@@ -258,7 +261,7 @@ def stress_history(scenario, ds, li, *, stress, how: str, tip: dict | None) -> S
                  "(sigma_y = nu sigma_x - E alpha (T - T_ref), E = section modulus (1 - nu^2))")
     times = ds["time"].values
     sdet = {"time": times, "state": state, "history": how, "layers": {}}
-    tip_ins, tip_reason = None, ""
+    tip_ins, tip_reason = None, tip_not_solved
     sig_c, eig_c, eq_c, times_c = sigma, eig, eq, times
     if tip is not None:
         row, info = tip_loaded_stress(scenario, ds, tip)

@@ -64,7 +64,7 @@ import numpy as np
 from .. import io
 from ..cautions import caution_lines
 from ..errors import ActsimInputError
-from .actuation import actuation_state
+from .actuation import actuation_state, elastica_check
 from .context import CheckContext, CheckOutput, layer_index
 from .joint_checks import joint_check, joint_loaded_stress, size_joint
 from .mechanical import fatigue_check, stress_history, yield_check
@@ -112,13 +112,14 @@ class RegisteredCheck:
 REGISTRY: tuple[RegisteredCheck, ...] = (
     RegisteredCheck("yield strength", yield_check, per_layer=True),
     RegisteredCheck("fatigue", fatigue_check, per_layer=True, details_key="fatigue"),
+    RegisteredCheck("large-deflection blocked force and load line", elastica_check),
     RegisteredCheck("joint moment and stack", joint_check, section="joint"),
     RegisteredCheck("light at the exposure position", light_check, details_key="light"),
     RegisteredCheck("skin contact", skin_check, details_key="skin"),
 )
 
 
-def build_context(scenario, ds, *, elastica: bool = True) -> CheckContext:
+def build_context(scenario, ds, *, elastica: bool = True, elastica_budget=None, progress: bool = False) -> CheckContext:
     """Parse the scenario's check sections and compute the states the checks share, once.
 
     Parameters
@@ -128,6 +129,11 @@ def build_context(scenario, ds, *, elastica: bool = True) -> CheckContext:
         Result of :func:`actsim.simulate` for that scenario.
     elastica : bool, optional
         Compute the large-deflection blocked force at every output time and the load line.
+    elastica_budget : actsim.elastica.SolveBudget, optional
+        Time and solve-count limit of the large-deflection solves (default 20 s); what it does not
+        reach is reported "not assessed".
+    progress : bool, optional
+        Show a progress line on stderr when the large-deflection solves take more than 2 s.
 
     Returns
     -------
@@ -147,7 +153,7 @@ def build_context(scenario, ds, *, elastica: bool = True) -> CheckContext:
     li = layer_index(scenario)
     if li.size != ds.sizes["z"]:
         raise ActsimInputError(f"run_checks: the result has {ds.sizes['z']} cells but the scenario {li.size}; pass the matching pair")
-    act = actuation_state(scenario, ds, cs, elastica=elastica)
+    act = actuation_state(scenario, ds, cs, elastica=elastica, budget=elastica_budget, progress=progress)
     sigma = ds["stress"].values
     stress_how = "free strip as simulated"
     joint = None
@@ -158,7 +164,8 @@ def build_context(scenario, ds, *, elastica: bool = True) -> CheckContext:
             if loaded is not None:
                 sigma = loaded
                 stress_how = how
-    stress = stress_history(scenario, ds, li, stress=sigma, how=stress_how, tip=act.get("tip_load"))
+    stress = stress_history(scenario, ds, li, stress=sigma, how=stress_how, tip=act.get("tip_load"),
+                            tip_not_solved=act.get("tip_load_not_solved", ""))
     return CheckContext(scenario=scenario, ds=ds, checks=cs, safety=ss, joint_settings=js, elastica=elastica,
                         layers=li, actuation=act, joint=joint, stress=stress)
 
@@ -208,7 +215,7 @@ def dispatch(ctx: CheckContext, registry=REGISTRY):
     return results, details
 
 
-def run_checks(scenario, ds, *, elastica: bool = True):
+def run_checks(scenario, ds, *, elastica: bool = True, elastica_budget=None, progress: bool = False):
     """All design checks of a scenario on its simulated result.
 
     Parameters
@@ -220,6 +227,11 @@ def run_checks(scenario, ds, *, elastica: bool = True):
     elastica : bool, optional
         Compute the large-deflection blocked force at every output time and the
         load line (default True).
+    elastica_budget : actsim.elastica.SolveBudget, optional
+        Time and solve-count limit of those solves (default 20 s). A bend past a full turn, a solve
+        that does not converge or a budget used up gives a "not assessed" row, never an error.
+    progress : bool, optional
+        Show a progress line on stderr when the large-deflection solves take more than 2 s.
 
     Returns
     -------
@@ -253,7 +265,7 @@ def run_checks(scenario, ds, *, elastica: bool = True):
     .. [2] S. P. Timoshenko and J. M. Gere, *Mechanics of Materials*, Van Nostrand Reinhold, 1972.
     .. [3] IEC 62471:2006, *Photobiological safety of lamps and lamp systems*.
     """
-    return dispatch(build_context(scenario, ds, elastica=elastica))
+    return dispatch(build_context(scenario, ds, elastica=elastica, elastica_budget=elastica_budget, progress=progress))
 
 
 # ---------------------------------------------------------------------------

@@ -65,6 +65,18 @@ def _actuation_lines(details) -> list[str]:
     return lines
 
 
+def _time_limit(text) -> float:
+    from ..errors import ActsimInputError
+
+    try:
+        v = float(text)
+    except (TypeError, ValueError):
+        raise ActsimInputError(f"--elastica-time-limit: {text!r} is not a number of seconds (> 0; inf for no limit)") from None
+    if math.isnan(v) or v <= 0:
+        raise ActsimInputError(f"--elastica-time-limit: {text} s is outside the allowed range (> 0 s; inf for no limit)")
+    return v
+
+
 def cmd_check(args) -> int:
     from ..checks.run import any_failed, format_results, run_checks, write_checks
     from ..checks.settings import checks_settings, joint_settings, safety_settings
@@ -74,6 +86,9 @@ def cmd_check(args) -> int:
     from ..scenario import load_scenario
     from ..solver import simulate
 
+    from ..elastica import SolveBudget
+
+    budget = SolveBudget(time_limit=_time_limit(args.elastica_time_limit))  # a bad option is refused before any work
     sc = load_scenario(args.scenario)
     for read_section in (checks_settings, safety_settings, joint_settings):
         read_section(sc)  # a bad [checks], [safety] or [joint] field is refused before the simulation
@@ -84,17 +99,21 @@ def cmd_check(args) -> int:
     with result_folder(out, kind="check", overwrite=args.overwrite) as stage:
         with compile_notice():
             ds = simulate(sc)
-        results, details = run_checks(sc, ds, elastica=not args.no_elastica)
+        results, details = run_checks(sc, ds, elastica=not args.no_elastica, elastica_budget=budget, progress=True)
         if not results:
             raise ActsimInputError("check: nothing to check in this scenario; add a [checks] section (see docs/checks.md)")
+        lines = None
+        if not args.no_elastica:  # computed before anything is written
+            from ..elastica import load_line_history
+
+            lines = load_line_history(ds, budget=budget, progress=True)
         write_result_files(ds, sc, stage, figures=not args.no_figures)
         write_checks(results, details, stage)
         extra_files = ""
-        if not args.no_elastica:
-            from ..elastica import load_line_history
+        if lines is not None:
             from ..io import write_netcdf
 
-            write_netcdf(load_line_history(ds), stage / "load_lines.nc")
+            write_netcdf(lines, stage / "load_lines.nc")
             extra_files = ", load_lines.nc"
     print(sc.title)
     print("\n".join(_actuation_lines(details)))
@@ -129,6 +148,9 @@ def register(subparsers) -> None:
     p.add_argument("--no-figures", action="store_true", help="skip the PNG figures")
     p.add_argument("--no-elastica", action="store_true",
                    help="skip the large-deflection blocked force and load line (faster)")
+    p.add_argument("--elastica-time-limit", default="20", metavar="SECONDS",
+                   help="wall-time limit of the large-deflection solves together (default 20 s; inf: none); what "
+                        "it does not reach is reported 'not assessed'")
     p.add_argument("--strict", action="store_true", help="exit 1 also when a check could not be assessed")
     from ..cli import add_overwrite_option
 
