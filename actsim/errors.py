@@ -9,7 +9,16 @@ from __future__ import annotations
 
 
 class ActsimError(Exception):
-    """Base class of all actsim errors."""
+    """Base class of all actsim errors.
+
+    The message is one line: a line break that came with a user's text (a name, a choice) is shown as
+    ``\\n`` rather than splitting the message.
+    """
+
+    def __init__(self, message="", *args):
+        if isinstance(message, str) and ("\n" in message or "\r" in message):
+            message = message.replace("\r\n", "\\n").replace("\n", "\\n").replace("\r", "\\r")
+        super().__init__(message, *args)
 
 
 class ActsimInputError(ActsimError, ValueError):

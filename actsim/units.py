@@ -142,6 +142,7 @@ def parse_quantity(value, *, field: str, kind: str):
             f"{field}: bare number {value!r} has no unit; write it with a unit of {kind.replace('_', ' ')}, e.g. \"{example}\""
         )
     if isinstance(value, str):
+        _check_length(value, field)
         status, payload = _string_to_si(value, si_unit, kind == "temperature")
     else:
         status, payload = _quantity_to_si(value, si_unit)
@@ -182,6 +183,17 @@ def _quantity_to_si(q, si_unit):
         return "dimension", f"{q.units:~}"
 
 
+#: Longest quantity text accepted: a number and a unit fit in far fewer (common practice, no source); longer
+#: texts are refused before the unit parser sees them (its time grows with the length).
+MAX_QUANTITY_CHARS = 100
+
+
+def _check_length(text: str, field: str):
+    if len(text) > MAX_QUANTITY_CHARS:
+        raise ActsimInputError(f"{field}: a quantity of {len(text)} characters is too long (allowed <= "
+                               f"{MAX_QUANTITY_CHARS}: a number and a unit, e.g. \"50 mW/cm^2\")")
+
+
 @functools.lru_cache(maxsize=8192)
 def _string_to_si(text: str, si_unit: str, absolute_temperature: bool = False):
     """Cached pint conversion of a unit string (scenario files and sweeps repeat the same strings)."""
@@ -205,6 +217,8 @@ def parse_dimensionless(value, *, field: str) -> float:
     else:
         import pint
 
+        if isinstance(value, str):
+            _check_length(value, field)
         try:
             q = registry().Quantity(value) if isinstance(value, str) else value
             v = float(q.to("dimensionless").magnitude) if isinstance(q, pint.Quantity) else float(q)

@@ -314,3 +314,24 @@ def test_optics_cell_cap_is_the_scenario_limit():
     from actsim.optics import MAX_LAYER_CELLS
 
     assert MAX_LAYER_CELLS == LIMITS["layers[].cells"].hi
+
+
+def test_overlong_quantity_text_is_refused_before_the_unit_parser():
+    # a quantity is a number and a unit; 300,000 characters once kept the unit parser busy for 20 s (issue 12)
+    import time
+
+    from actsim.units import MAX_QUANTITY_CHARS, parse_dimensionless, parse_quantity
+
+    text = "1" * 300_000 + " um"
+    t0 = time.perf_counter()
+    with pytest.raises(ActsimInputError, match=rf"layers\[0\].thickness: a quantity of 300003 characters is too long "
+                                               rf"\(allowed <= {MAX_QUANTITY_CHARS}"):
+        parse_quantity(text, field="layers[0].thickness", kind="length")
+    with pytest.raises(ActsimInputError, match="too long"):
+        parse_dimensionless("1" * 300_000 + " %", field="x")
+    assert time.perf_counter() - t0 < 1.0
+
+
+def test_a_line_break_in_user_text_stays_on_one_line():
+    err = ActsimInputError("sources[0].face: 'top\nbottom' is not one of 'top', 'bottom'")
+    assert "\n" not in str(err) and "top\\nbottom" in str(err)
