@@ -54,7 +54,7 @@ DEPENDENCIES = ("numpy", "scipy", "numba", "xarray", "pint", "matplotlib", "netC
 #: one first screen and one body per folder kind.
 TEMPLATES = ("report.html", "_macros.html", "report.css", "report.js", "answer_run.html", "answer_check.html",
              "answer_sweep.html", "answer_fit.html", "body_run.html", "body_check.html", "body_sweep.html",
-             "body_fit.html")
+             "body_fit.html", "_scenario.html")
 
 _PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"
 _HINT = "make it with `actsim run SCENARIO -o RESULT_DIR` (or `actsim check`, `actsim sweep`, `actsim fit`)"
