@@ -221,9 +221,9 @@ def test_report_is_well_formed_self_contained_html(fresh, capsys):
     # The caution near the top (before the scenario section) and with the checks.
     plain = p.plain
     assert CAUTION in plain
-    assert plain.index(CAUTION) < plain.index("1. Scenario")
-    assert plain.count(CAUTION) == 2
-    assert "No design checks were run" in plain and "actsim check SCENARIO -o RESULT_DIR" in plain
+    assert plain.index(CAUTION) < plain.index("Figures (")
+    assert plain.count(CAUTION) == 1  # once per page
+    assert "Key results" in plain and "Scenario" in plain
 
 
 def test_report_content_scenario_results_versions(result_dir, tmp_path):
@@ -271,14 +271,15 @@ def test_report_check_table_rows(fresh):
     assert first[1].startswith("yield strength, layer 2 (active film)")
     assert first[2:5] == ["21 MPa", "50 MPa", f"{50 / 21:.3g}×"]
     assert "within the modelled limit" in first[5] and first[6] == "illustrative limits file, generic network"
-    assert second[1] == "actinic UV exposure <8 h>[2]"  # escaped text, not a tag; [2] points to its validity note
+    assert second[1] == "actinic UV exposure <8 h>"  # escaped text, not a tag
     assert second[2:5] == ["250 J/m2", "30 J/m2", f"{30 / 250:.3g}×"]
     assert "exceeds the modelled limit" in second[5] and second[6] == "test limit & source"
     plain = p.plain
-    assert "Validity: temperature 0..40 degC" in plain and "von Mises stress at the top face" in plain
-    assert plain.count(CAUTION) == 2
+    assert "checks 1: temperature 0..40 degC" in plain and "checks 2: 180-400 nm" in plain and "von Mises stress at the top face" in plain
+    assert plain.count(CAUTION) == 1
     assert "No design checks were run" not in plain
     assert "2 check(s): 1 passed (within the modelled limit), 1 exceeds the modelled limit." in plain
+    assert "Verdict: 1 of 2 checks failed" in plain and "Tightest margin: 0.12× — check 2, actinic UV exposure <8 h>" in plain
     # A record as written by json with an infinite margin (value 0) still renders.
     recs = fake_checks() + to_records([CheckResult.upper_bound(check="zero load", value=0.0, limit=1.0, unit="N",
                                                                source="s", validity="")])
@@ -318,7 +319,7 @@ def test_bad_result_folders(tmp_path, fresh):
         build_report(tmp_path / "nowhere")
     empty = tmp_path / "empty"
     empty.mkdir()
-    with pytest.raises(ActsimInputError, match=r"no result.nc and no summary.json") as exc:
+    with pytest.raises(ActsimInputError, match=r"has no actsim manifest.json, so it is not a complete result folder") as exc:
         build_report(empty)
     assert "\n" not in str(exc.value)
     (fresh / "checks.json").write_text("{not json")

@@ -6,15 +6,20 @@ import argparse
 
 EPILOG = """\
 The report is one self-contained HTML file (figures embedded, no external
-resources): the scenario in words and as a parameter table, the key results,
-every figure of the folder, the design checks of checks.json (from
-`actsim check`), the caution, and the software versions.
+resources) of any result folder: a run (with its uncertainty bands or mask),
+a check, a sweep or a fit. It opens with the answer (the verdict and the
+tightest margin of a check; peak bend, time to target, force and peak
+temperature of a run; the recommended design and the Pareto set of a sweep;
+the fitted parameters and residual of a fit), then the caution, every figure
+of the folder, the tables, the scenario and the software versions.
 
 example:
   actsim run scenarios/vent_flap.toml -o out/vent
   actsim report out/vent                      # writes out/vent/report.html
   actsim check scenarios/vent_flap.toml -o out/vent && actsim report out/vent
   actsim report out/vent -o vent_report.html
+  actsim sweep scenarios/thickness_study.toml --vary "layers[active film].thickness=lin(5 um, 200 um, 40)" \\
+      --target-angle "30 deg" --pareto -o out/thick && actsim report out/thick
 """
 
 
@@ -36,6 +41,6 @@ def register(subparsers) -> None:
         epilog=EPILOG,
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
-    p.add_argument("result_dir", metavar="RESULT_DIR", help="result folder written by `actsim run`")
+    p.add_argument("result_dir", metavar="RESULT_DIR", help="result folder written by `actsim run`, `check`, `sweep` or `fit`")
     p.add_argument("-o", "--output", metavar="FILE", help="report file (default: RESULT_DIR/report.html)")
     p.set_defaults(func=cmd_report)
