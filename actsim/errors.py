@@ -29,5 +29,9 @@ class ActsimSimulationError(ActsimError, RuntimeError):
     """The simulation could not produce finite results (never written to disk)."""
 
 
+class ActsimOutputError(ActsimError, OSError):
+    """A result file could not be written (a full disk, a failing file library); nothing partial is kept."""
+
+
 class ActsimWarning(UserWarning):
     """A result is usable but the user should know something about it."""

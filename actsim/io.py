@@ -6,6 +6,7 @@ none) or the complete new one is there.
 
 from __future__ import annotations
 
+import errno
 import json
 import os
 import tempfile
@@ -35,12 +36,25 @@ def atomic_path(path):
     try:
         yield Path(tmp)
         os.replace(tmp, path)
-    except BaseException:
+    except BaseException as exc:
         try:
             os.unlink(tmp)
         except FileNotFoundError:
             pass
+        if isinstance(exc, RuntimeError) or (isinstance(exc, OSError) and exc.errno in _DISK_FULL):
+            # the NetCDF/HDF5 library reports a full disk as RuntimeError("NetCDF: HDF error"), naming no file
+            from .errors import ActsimError, ActsimOutputError
+
+            if not isinstance(exc, ActsimError):
+                reason = (exc.strerror if isinstance(exc, OSError) else str(exc).splitlines()[0] if str(exc) else
+                          exc.__class__.__name__)
+                raise ActsimOutputError(f"{path}: could not be written ({reason}); is the disk full? "
+                                        "Nothing partial was kept") from None
         raise
+
+
+#: errno values of a full disk or an exhausted quota.
+_DISK_FULL = {errno.ENOSPC, getattr(errno, "EDQUOT", errno.ENOSPC)}
 
 
 def write_text(path, text: str):

@@ -310,3 +310,28 @@ def test_exception_in_block_removes_staging(tmp_path):
     assert (target / "a.txt").read_text() == "kept" and [p.name for p in tmp_path.iterdir()] == ["E"]
     write_manifest(target, kind="run")  # a hand-assembled folder can be sealed as it is
     verify_folder(target)
+
+
+@pytest.mark.parametrize("failure", ["netcdf", "disk full"])
+def test_a_full_disk_is_one_line_and_leaves_no_folder(tmp_path, capsys, monkeypatch, failure):
+    # a full disk while result.nc is written: the NetCDF library raises RuntimeError("NetCDF: HDF error") naming no
+    # file (issue 12), a plain write OSError(ENOSPC); either is one line naming the file, exit 3, nothing kept
+    import errno
+
+    from actsim import io
+    from actsim.cli import main
+    from conftest import film_toml
+
+    def full(*args, **kwargs):
+        if failure == "netcdf":
+            raise RuntimeError("NetCDF: HDF error")
+        raise OSError(errno.ENOSPC, "No space left on device")
+
+    monkeypatch.setattr(io, "_to_netcdf", full)
+    scen = tmp_path / "s.toml"
+    scen.write_text(film_toml(duration="1 s", step="0.1 s"))
+    out = tmp_path / "out"
+    assert main(["run", str(scen), "-o", str(out), "--no-figures"]) == 3
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and "result.nc" in err[0] and "could not be written" in err[0] and "disk full" in err[0], err
+    assert not out.exists() and not any(p.name.startswith(".out") for p in tmp_path.iterdir())
