@@ -248,10 +248,18 @@ def check_range(value: float, *, field: str, unit: str, lo=None, hi=None, lo_ope
         if hi is not None:
             parts.append(("< " if hi_open else "<= ") + f"{hi:g}")
         allowed = " and ".join(parts)
-        shown_value = shown if shown is not None else f"{value:g}"
+        shown_value = shown if shown is not None else _shown_number(value)
         unit_txt = "" if unit in ("", "1") else f" {unit}"
         raise ActsimInputError(f"{field}: {shown_value} is outside the allowed range ({allowed}{unit_txt})")
     return value
+
+
+def _shown_number(value) -> str:
+    """A number as an error shows it: ``%g`` (an integer too large for a float shown by its digit count)."""
+    try:
+        return f"{value:g}"
+    except OverflowError:
+        return f"an integer of {len(str(abs(value)))} digits"
 
 
 def finite_array(value, *, field, unit, lo=None, lo_open=False):

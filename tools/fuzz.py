@@ -27,7 +27,7 @@ mutant (``NNNNN-outcome-class.toml``) and a note with the outcome, the message a
 The run is deterministic for a given ``--seed`` and ``--cases`` (case i depends on the seed and i
 only, not on ``--jobs``)::
 
-    python3 tools/fuzz.py --cases 2000 --jobs 2 --timeout 20 --seed 1 --out fuzz-out
+    python3 tools/fuzz.py --cases 2000 --jobs 2 --seed 1 --out fuzz-out
     python3 tools/fuzz.py --cases 200 --classes number_extreme,unit_wrong_kind --cli-fraction 0
 
 Workers import actsim once, run with one numba thread and an address-space limit (``--memory``),
@@ -512,7 +512,13 @@ class _Slot:
             self.conn.close()
 
 
-def run_cases(cases, *, jobs: int = 2, timeout: float = 20.0, memory: int = 3 << 30, progress=None):
+#: Seconds without an answer that count as a hang: a valid scenario within every size limit may take up to
+#: about a minute of time loop before actsim asks for --yes (actsim.scenario.limits.WORK_LIMIT), so a shorter
+#: limit would count legitimate work (5,000 protocol steps of a heated strip) as a hang.
+HANG_SECONDS = 90.0
+
+
+def run_cases(cases, *, jobs: int = 2, timeout: float = HANG_SECONDS, memory: int = 3 << 30, progress=None):
     """Run the cases in ``jobs`` worker processes; returns one result dict per case, in case order."""
     from multiprocessing.connection import wait
 
@@ -641,7 +647,7 @@ def format_summary(summary: dict, n_cases: int, seconds: float, top: int = 15) -
     return "\n".join(lines)
 
 
-def fuzz(*, cases: int = 200, seed: int = 0, jobs: int = 2, timeout: float = 20.0, classes=CLASSES,
+def fuzz(*, cases: int = 200, seed: int = 0, jobs: int = 2, timeout: float = HANG_SECONDS, classes=CLASSES,
          cli_fraction: float = 0.05, memory: int = 3 << 30, out: Path | None = None, progress: bool = False):
     """Generate and run ``cases`` mutants; returns (cases, results, summary)."""
     bases = base_scenarios()
@@ -680,7 +686,8 @@ def main(argv=None) -> int:
     p.add_argument("--cases", type=int, default=200, help="number of mutants (default 200)")
     p.add_argument("--seed", type=int, default=0, help="seed; the same seed gives the same mutants (default 0)")
     p.add_argument("--jobs", type=int, default=max(1, min(2, os.cpu_count() or 1)), help="worker processes")
-    p.add_argument("--timeout", type=float, default=20.0, help="seconds per case before it counts as a hang")
+    p.add_argument("--timeout", type=float, default=HANG_SECONDS,
+                   help=f"seconds per case before it counts as a hang (default {HANG_SECONDS:g}: the work actsim runs without asking)")
     p.add_argument("--classes", default=",".join(CLASSES), help="comma-separated mutation classes")
     p.add_argument("--cli-fraction", type=float, default=0.05,
                    help="share of cases run through `actsim run`/`check` instead of the Python API")

@@ -176,7 +176,7 @@ SIZE_LIMITS: dict[str, int] = {
     "spectral_bands": 1_000,  # Gaussian bands of one spectral property
     "total_cells": 100_000,  # cells of all layers
     "output_times": 1_000_000,
-    "output_values": 200_000_000,  # output times x cells, per (time, z) field
+    "output_values": 20_000_000,  # output times x cells, per (time, z) field: about 1.1 GB for the seven fields
     "time_steps": 5_000_000,  # fixed time steps over the protocol
 }
 
