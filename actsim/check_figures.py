@@ -178,8 +178,8 @@ def fatigue_figure(ctx, details, path) -> dict | None:
         n = np.logspace(1, 12, 200)
         ax.loglog(n, sd(sf * (2 * n) ** b), color="k", lw=1.4, label="Basquin S-N curve")
         ax.axvspan(lo, hi, color="0.9", lw=0, zorder=0, label=f"fitted range {fmt(lo)}-{fmt(hi)} cycles")
-        n_target = float(cs.target_passes) * (float(cyc[int(np.argmax(cyc[:, 0])), 2]) if cyc.size else 1.0)
-        ax.axvline(n_target, color="0.3", ls="--", lw=1, label=f"target {fmt(n_target)} cycles")
+        n_target = float(cs.target_passes)  # each run of the protocol loads the critical point once
+        ax.axvline(n_target, color="0.3", ls="--", lw=1, label=f"target {fmt(n_target)} runs of the protocol")
         points = []
         if cyc.size:
             c = cyc[int(np.argmax(cyc[:, 0]))]  # the largest counted range
