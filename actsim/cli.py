@@ -133,6 +133,20 @@ def load_with_overrides(scenario_path, set_items=None):
     return apply_overrides(sc, overrides) if overrides else sc
 
 
+def _add_figures(stage, records) -> None:
+    """Append figure records (file, title, caption) to the summary.json of a staging folder."""
+    import json
+
+    from .io import write_json
+
+    if not records:
+        return
+    record = json.loads((stage / "summary.json").read_text(encoding="utf-8"))
+    record["figures"] = record.get("figures", []) + list(records)
+    record["files"] = record.get("files", []) + [r["file"] for r in records if r["file"] not in record.get("files", [])]
+    write_json(stage / "summary.json", record)
+
+
 def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set_items=None, overwrite=False,
                    uncertainty=0, allow_large=False):
     from .cautions import with_caution
@@ -166,9 +180,11 @@ def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set
             pat = write_patterned(simulate_patterned(sc, engine=engine), stage, figures=figures)
             from .io import write_json
 
+            pat_figures = pat.pop("figures", [])
             record = json.loads((stage / "summary.json").read_text(encoding="utf-8"))
             record["patterned"] = pat
-            record["files"] += ["patterned.nc"] + (["figures/folded_shape.png"] if figures else [])
+            record["files"] += ["patterned.nc"] + [f["file"] for f in pat_figures]
+            record["figures"] = record.get("figures", []) + pat_figures
             write_json(stage / "summary.json", record)
             print("  through the mask (the table above is the strip lit all along its length):")
             print(f"  peak fold angle  {_fmt_angle(pat['peak_fold_angle'])} at t = {pat['time_of_peak_fold']:.4g} s")
@@ -176,7 +192,9 @@ def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set
         if uncertainty:
             from .calibrate.uncertainty import run_uncertainty
 
-            run_uncertainty(sc, n_draws=uncertainty, out_dir=stage, shown_as=out_dir)
+            unc = run_uncertainty(sc, n_draws=uncertainty, out_dir=stage, shown_as=out_dir,
+                                  changed=parse_set_options(set_items))
+            _add_figures(stage, unc.figures)
     print(with_caution(f"\nresults written to {out_dir}/ (result.nc, timeseries.csv, summary.json{', figures/' if figures else ''})"))
     return 0
 

@@ -311,9 +311,9 @@ def patterned_summary(ds) -> dict:
     }
 
 
-def folded_shape_figure(ds, path, n_times: int = 6):
-    """Folded shape y(x) of the masked strip at a few times, with the lit regions marked."""
-    from .figures import new_figure
+def folded_shape_figure(ds, path, n_times: int = 6) -> dict:
+    """Folded shape y(x) (mm) of the masked strip at a few times, with the lit regions marked; returns its record."""
+    from .figures import figure_record, fmt, new_figure
     from .io import save_figure
 
     fig = new_figure((6.0, 4.2))
@@ -325,18 +325,24 @@ def folded_shape_figure(ds, path, n_times: int = 6):
     for k, i in enumerate(idx):
         x = 1e3 * ds["x"].values[i]
         y = 1e3 * ds["y"].values[i]
-        ax.plot(x, y, color=f"C{k}", lw=1.2, label=f"t = {ds['time'].values[i]:.3g} s")
+        ax.plot(x, y, color=f"C{k}", lw=1.2, label=f"t = {fmt(ds['time'].values[i])} s")
         ax.plot(np.where(lit, x, np.nan), np.where(lit, y, np.nan), color=f"C{k}", lw=3.5, alpha=0.5)
     ax.set_aspect("equal", adjustable="datalim")
-    ax.set_xlabel("x along the clamped direction [mm]")
-    ax.set_ylabel("y toward +z [mm]")
+    ax.set_xlabel("x along the clamped direction (mm)")
+    ax.set_ylabel("y toward +z (mm)")
     ax.set_title("Folded shape through the mask (thick: lit regions)", fontsize=10)
     ax.legend(fontsize=7)
     save_figure(fig, path)
+    caption = (f"Folded shape of the masked strip, y (mm) against x along the clamped direction (mm, equal scales), at "
+               f"t = {', '.join(fmt(ds['time'].values[i]) for i in idx)} s up to the peak fold; thick segments: lit "
+               f"regions ({fmt(100 * lit.mean())} % of the length); peak tip angle "
+               f"{fmt(np.degrees(ds['tip_angle'].values[ipk]))}° at {fmt(ds['time'].values[ipk])} s")
+    return figure_record(path, "Folded shape through the mask", caption)
 
 
 def write_patterned(ds, out_dir, *, figures=True) -> dict:
-    """Write ``patterned.nc`` (and ``figures/folded_shape.png``) into a result folder; returns the summary."""
+    """Write ``patterned.nc`` (and ``figures/folded_shape.png``) into a result folder; returns the summary
+    (with ``figures``: the figure's record, when drawn)."""
     from pathlib import Path
 
     from .io import write_netcdf
@@ -345,6 +351,7 @@ def write_patterned(ds, out_dir, *, figures=True) -> dict:
     clean = ds.copy()
     clean.attrs = {k: (v.tolist() if isinstance(v, np.ndarray) else v) for k, v in ds.attrs.items()}
     write_netcdf(clean, out / "patterned.nc")
+    summary = patterned_summary(ds)
     if figures:
-        folded_shape_figure(ds, out / "figures" / "folded_shape.png")
-    return patterned_summary(ds)
+        summary["figures"] = [folded_shape_figure(ds, out / "figures" / "folded_shape.png")]
+    return summary

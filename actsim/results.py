@@ -4,7 +4,7 @@ Layout of ``OUT/``::
 
     result.nc          the full xarray Dataset (NetCDF)
     timeseries.csv     every (time,) variable, units in the header
-    summary.json       key metrics (SI) and file list
+    summary.json       key metrics (SI), file list, figures with their titles and captions
     scenario.toml      the scenario text exactly as run
     figures/*.png      bend angle and blocked force; conversion and irradiance profiles
     manifest.json      every file with its size and SHA-256, the actsim version, the kind of folder
@@ -58,8 +58,11 @@ def write_result_files(ds, scenario, out_dir, *, figures=True):
     if figures:
         from .figures import write_standard_figures
 
-        paths = write_standard_figures(ds, out / "figures", target_bend_angle=scenario.target_bend_angle)
-        files += [str(p.relative_to(out)) for p in paths]
+        figs = write_standard_figures(ds, out / "figures", target_bend_angle=scenario.target_bend_angle,
+                                      scenario=scenario)
+        files += [f["file"] for f in figs]
+    else:
+        figs = []
     record = {
         "title": scenario.title,
         "actsim_version": __version__,
@@ -67,6 +70,7 @@ def write_result_files(ds, scenario, out_dir, *, figures=True):
         "units": "SI (rad, s, N, N m, m, J m-2, K)",
         "metrics": summary,
         "files": files,
+        "figures": figs,
     }
     io.write_json(out / SUMMARY_FILE, record)
     return summary

@@ -20,9 +20,10 @@ def main():
         sc = actsim.load_scenario(scen)
         ds = actsim.simulate(sc)
         with tempfile.TemporaryDirectory() as tmp:
-            for p in write_standard_figures(ds, tmp, target_bend_angle=sc.target_bend_angle):
-                dest = ROOT / "figures" / f"{scen.stem}_{p.name}"
-                shutil.copyfile(p, dest)
+            for rec in write_standard_figures(ds, tmp, target_bend_angle=sc.target_bend_angle, scenario=sc):
+                name = Path(rec["file"]).name
+                dest = ROOT / "figures" / f"{scen.stem}_{name}"
+                shutil.copyfile(Path(tmp) / name, dest)
                 print(f"wrote {dest.relative_to(ROOT)}")
 
 

@@ -115,6 +115,21 @@ def _first_screen_expectations(kind, folder):
 KINDS = ("run", "check", "sweep", "fit", "uncertainty", "mask")
 
 
+def _figure_records(folder):
+    """Every figure record ({"file", "title", "caption"}) of the folder's JSON records, by resolved PNG path."""
+    out = {}
+    for rec_file in folder.rglob("*.json"):
+        try:
+            data = json.loads(rec_file.read_text(encoding="utf-8"))
+        except ValueError:
+            continue
+        if isinstance(data, dict):
+            for rec in data.get("figures", []) or []:
+                if isinstance(rec, dict) and "file" in rec and "caption" in rec:
+                    out[(rec_file.parent / rec["file"]).resolve()] = rec
+    return out
+
+
 @pytest.mark.parametrize("kind", KINDS)
 def test_report_for_every_kind(folders, check_folder, kind):
     folder = _all(folders, check_folder)[kind]
@@ -138,8 +153,13 @@ def test_report_for_every_kind(folders, check_folder, kind):
     # captions never name a mark that is not drawn, never put the file name in the sentence
     assert "dotted line marks the target" not in plain
     assert not re.search(r"\(figures/[^)]*\.png\)", plain)
+    recorded = _figure_records(folder)
     for q in pngs:
-        assert f"{figure_title(q)}." in plain
+        rec = recorded.get(q.resolve())
+        if rec is None:  # no record of the figure: a neutral title made from the file name
+            assert f"{figure_title(q)}." in plain
+        else:  # the caption the verb generated from what the figure shows
+            assert " ".join(rec["caption"].split())[:60] in plain, (q.name, rec["caption"])
     assert p.resource_refs == []
 
 

@@ -440,44 +440,55 @@ class BendFit:
         )
         return d
 
-    def plot(self, path):
+    def plot(self, path, *, records=None):
         """Data, fitted curves and residuals against time to a PNG (written atomically).
 
         Parameters
         ----------
         path : str or os.PathLike
             The PNG file.
+        records : list, optional
+            The figure's :func:`actsim.figures.figure_record` (title, generated caption) is appended to it.
 
         Returns
         -------
         pathlib.Path
         """
-        from matplotlib.backends.backend_agg import FigureCanvasAgg
-        from matplotlib.figure import Figure
-
+        from ..figures import display_unit, figure_record, fmt, new_figure
         from ..io import save_figure
 
-        fig = Figure(figsize=(7.2, 6.0))
-        FigureCanvasAgg(fig)
+        ang = display_unit("rad")
+        fig = new_figure((7.2, 6.0))
         ax, axr = fig.subplots(2, 1, sharex=True, gridspec_kw={"height_ratios": [2.2, 1]})
+        parts = []
         for k, (c, tm, am, fd) in enumerate(zip(self.curves, self.model_time, self.model_angle, self.fitted_at_data)):
             col = f"C{k % 10}"
-            ax.plot(c.time, np.degrees(c.angle), "o", ms=3, color=col, alpha=0.7, label=f"{c.label} (data)")
-            ax.plot(tm, np.degrees(am), "-", color=col, lw=1.3)
-            axr.plot(c.time, np.degrees(fd - c.angle), "o", ms=3, color=col)
+            ax.plot(c.time, ang(c.angle), "o", ms=3, color=col, alpha=0.7, label=f"{c.label} (data)")
+            ax.plot(tm, ang(am), "-", color=col, lw=1.3)
+            axr.plot(c.time, ang(fd - c.angle), "o", ms=3, color=col)
+            rms = float(np.sqrt(np.mean((fd - c.angle) ** 2)))
+            parts.append(f"{c.label}: {c.time.size} points, rms residual {fmt(ang(rms))}°")
         axr.axhline(0.0, color="0.4", lw=0.8)
-        ax.set_ylabel("bend angle [deg]")
-        axr.set_ylabel("model - data [deg]")
-        axr.set_xlabel("time [s]")
+        ax.set_ylabel(f"bend angle ({ang.unit})")
+        axr.set_ylabel(f"model - data ({ang.unit})")
+        axr.set_xlabel("time (s)")
         ax.grid(True, alpha=0.3)
         axr.grid(True, alpha=0.3)
         ax.legend(fontsize=7, loc="best")
         ttl = "bend-angle fit: data (points) and model (lines)"
-        if any(c.synthetic for c in self.curves):
+        synthetic = any(c.synthetic for c in self.curves)
+        if synthetic:
             ttl += " - synthetic data"
         ax.set_title(ttl, fontsize=10)
         fig.tight_layout()
         save_figure(fig, path)
+        if records is not None:
+            fitted = "; ".join(f"{n} = {fmt(v, 4)} {u}".rstrip() for n, v, u in
+                               zip(self.result.names, self.result.values, self.result.units))
+            records.append(figure_record(path, "Bend-angle fit", (
+                f"Measured bend angle (points, degrees) and the fitted model (lines) against time (s) for "
+                f"{len(self.curves)} curve(s), residuals (model - data, degrees) below; " + "; ".join(parts)
+                + f"; fitted {fitted}" + ("; synthetic data" if synthetic else ""))))
         return Path(path)
 
 
@@ -631,7 +642,8 @@ def fit_bend(scenario, curves, *, parameters=None, confidence=0.95, max_iteratio
     jac_p = np.asarray(sol.jac, dtype=float) / scale
     res = fit_statistics(jac_p, sol.fun, values=pfit, names=[p.label for p in params], units=[p.unit for p in params],
                          confidence=confidence, success=sol.status > 0, message=str(sol.message),
-                         active_mask=sol.active_mask)
+                         active_mask=sol.active_mask,
+                         residual_unit="rad" if all(c.sigma is None for c in resolved) else "1 (residual / sigma)")
     full = simulate_curves(pfit, full=True)
     at_data = [np.interp(c.time, t, a) for c, (t, a) in zip(resolved, full)]
     return BendFit(result=res, parameters=params, curves=resolved, base=scenario, initial=p0,

@@ -318,7 +318,8 @@ def fit_dma(data, *, step="log", temperature_unit=None, modulus_unit=None, initi
     # fitstats wants the Jacobian of the residuals in the fitted parameters; recompute analytically
     sol.jac = jac(sol.x)
     fs = from_least_squares(sol, names=("log10_glassy_modulus", "log10_rubbery_modulus", "glass_transition", "width"),
-                            units=("log10(Pa)", "log10(Pa)", "K", "K"), confidence=confidence)
+                            units=("log10(Pa)", "log10(Pa)", "K", "K"), confidence=confidence,
+                            residual_unit="log10(Pa)")
     params = fs.transformed({
         "log10_glassy_modulus": ("glassy_modulus", "Pa", lambda q: 10.0 ** q, lambda q: _LN10 * 10.0 ** q),
         "log10_rubbery_modulus": ("rubbery_modulus", "Pa", lambda q: 10.0 ** q, lambda q: _LN10 * 10.0 ** q),

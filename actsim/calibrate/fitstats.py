@@ -94,7 +94,9 @@ class FitResult:
         Degrees of freedom used for ``s^2`` and the t quantile (n - rank); with known sigma
         (``absolute_sigma``) the interval uses the normal quantile instead.
     residual_std : float
-        Residual standard deviation ``s``.
+        Residual standard deviation ``s`` [``residual_unit``].
+    residual_unit : str
+        Unit of the residuals and of ``residual_std`` ("" when not given).
     confidence : float
         Confidence level of ``ci_low``/``ci_high`` [1].
     """
@@ -115,6 +117,7 @@ class FitResult:
     dof: int = 0
     residual_std: float = float("nan")
     confidence: float = 0.95
+    residual_unit: str = ""
 
     # -- access by name -------------------------------------------------------------------
     def index(self, name: str) -> int:
@@ -188,6 +191,7 @@ class FitResult:
             correlation=corr, units=tuple(units), residuals=self.residuals, n_points=self.n_points,
             success=self.success, message=self.message, warnings=list(self.warnings), covariance=cov,
             dof=self.dof, residual_std=self.residual_std, confidence=self.confidence,
+            residual_unit=self.residual_unit,
         )
 
     def to_table(self) -> str:
@@ -202,7 +206,7 @@ class FitResult:
         lines = ["  ".join(c.ljust(w) for c, w in zip(head, widths)).rstrip()]
         lines.append("  ".join("-" * w for w in widths))
         lines += ["  ".join(c.ljust(w) for c, w in zip(r, widths)).rstrip() for r in rows]
-        lines.append(f"n = {self.n_points} points, dof = {self.dof}, residual std = {_fmt(self.residual_std)}, "
+        lines.append(f"n = {self.n_points} points, dof = {self.dof}, residual std = {self.residual_std_text()}, "
                      f"converged = {'yes' if self.success else 'no'}")
         if len(self.names) > 1:
             lines.append("correlation:")
@@ -213,6 +217,13 @@ class FitResult:
         for wtxt in self.warnings:
             lines.append(f"warning: {wtxt}")
         return "\n".join(lines)
+
+    def residual_std_text(self) -> str:
+        """The residual standard deviation with its unit ("0.00877 rad (0.502 deg)")."""
+        text = _fmt(self.residual_std)
+        if self.residual_unit == "rad" and math.isfinite(self.residual_std):
+            return f"{text} rad ({math.degrees(self.residual_std):.3g} deg)"
+        return f"{text} {self.residual_unit}".rstrip()
 
     def to_dict(self) -> dict:
         """Plain Python types (for JSON): lists and floats; inf/NaN become None."""
@@ -233,6 +244,7 @@ class FitResult:
             "n_points": int(self.n_points),
             "dof": int(self.dof),
             "residual_std": clean(self.residual_std),
+            "residual_unit": self.residual_unit,
             "success": bool(self.success),
             "message": str(self.message),
             "warnings": list(self.warnings),
@@ -336,7 +348,8 @@ def covariance_from_jacobian(jacobian, residuals, *, n_params_dof=None, absolute
 
 
 def fit_statistics(jacobian, residuals, *, values, names, units, confidence=0.95, success=True, message="",
-                   absolute_sigma=False, active_mask=None, sv_warn_rtol=SV_WARN_RTOL, corr_warn=CORR_WARN):
+                   absolute_sigma=False, active_mask=None, sv_warn_rtol=SV_WARN_RTOL, corr_warn=CORR_WARN,
+                   residual_unit=""):
     """Build a :class:`FitResult` from the Jacobian and residuals at a least-squares solution.
 
     Parameters
@@ -358,6 +371,8 @@ def fit_statistics(jacobian, residuals, *, values, names, units, confidence=0.95
         confidence interval then uses the normal quantile instead of Student t.
     active_mask : array_like of int, optional
         ``least_squares``' ``active_mask``; a parameter sitting on a bound is reported.
+    residual_unit : str, optional
+        Unit of the residuals, shown with the residual standard deviation.
     sv_warn_rtol : float
         Relative singular value that triggers a "poorly identifiable" warning [1].
     corr_warn : float
@@ -443,7 +458,7 @@ def fit_statistics(jacobian, residuals, *, values, names, units, confidence=0.95
         names=names, values=values, standard_errors=se, ci_low=lo, ci_high=hi, correlation=corr, units=units,
         residuals=np.asarray(residuals, dtype=float).ravel(), n_points=int(J.shape[0]), success=bool(success),
         message=str(message), warnings=msgs, covariance=cov, dof=int(info["dof"]),
-        residual_std=float(math.sqrt(info["s2"])), confidence=float(confidence),
+        residual_std=float(math.sqrt(info["s2"])), confidence=float(confidence), residual_unit=str(residual_unit),
     )
 
 

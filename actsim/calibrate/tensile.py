@@ -213,7 +213,7 @@ def regression_modulus(strain, stress, *, strain_range, min_points=5, confidence
     coef, *_ = np.linalg.lstsq(A, y, rcond=None)
     resid = A @ coef - y
     return fit_statistics(A, resid, values=coef, names=("modulus", "intercept"), units=("Pa", "Pa"),
-                          confidence=confidence, message="linear least squares (exact)")
+                          confidence=confidence, message="linear least squares (exact)", residual_unit="Pa")
 
 
 @dataclass
@@ -580,7 +580,7 @@ def fit_tensile(data, *, toe=False, linear_range=None, offset=0.002, e1=0.0005, 
                          warnings=notes + list(reg.warnings))
 
 
-def plot_tensile(result: TensileResult, path, *, title=None):
+def plot_tensile(result: TensileResult, path, *, title=None, records=None):
     """Plot the curve, the fitted line and the offset construction to a PNG (written atomically).
 
     Parameters
@@ -591,17 +591,17 @@ def plot_tensile(result: TensileResult, path, *, title=None):
         PNG file to write.
     title : str, optional
         Figure title; default names the source (and says "synthetic data" when it is).
+    records : list, optional
+        The figure's :func:`actsim.figures.figure_record` (title, generated caption) is appended to it.
 
     Returns
     -------
     pathlib.Path
         The written file.
     """
-    from matplotlib.backends.backend_agg import FigureCanvasAgg
-    from matplotlib.figure import Figure
+    from ..figures import figure_record, fmt, new_figure
 
-    fig = Figure(figsize=(7.0, 4.8))
-    FigureCanvasAgg(fig)
+    fig = new_figure((7.0, 4.8))
     ax = fig.add_subplot(1, 1, 1)
     e, s = result.strain, result.stress
     ax.plot(100 * e, s / 1e6, color="0.2", lw=1.4, label="data")
@@ -621,8 +621,8 @@ def plot_tensile(result: TensileResult, path, *, title=None):
                 label=f"offset yield {result.yield_strength / 1e6:.4g} MPa")
     ax.plot(100 * result.strain_at_ultimate, result.ultimate_strength / 1e6, "s", color="tab:green",
             label=f"ultimate {result.ultimate_strength / 1e6:.4g} MPa")
-    ax.set_xlabel("strain [%]" + (" (toe-compensated)" if result.toe_shift else ""))
-    ax.set_ylabel("stress [MPa]")
+    ax.set_xlabel("strain (%)" + (", toe-compensated" if result.toe_shift else ""))
+    ax.set_ylabel("stress (MPa)")
     ax.set_xlim(left=0)
     ax.set_ylim(bottom=0)
     ax.grid(True, alpha=0.3)
@@ -633,4 +633,13 @@ def plot_tensile(result: TensileResult, path, *, title=None):
     ax.set_title(ttl)
     fig.tight_layout()
     save_figure(fig, path)
+    if records is not None:
+        yld = (f"; red: {100 * result.offset:g} % offset line and the offset yield strength "
+               f"{fmt(result.yield_strength / 1e6, 4)} MPa at {fmt(100 * result.yield_strain)} % strain"
+               if result.yield_strength is not None else "; no offset yield point")
+        records.append(figure_record(path, "Tensile curve and fit", (
+            f"Stress (MPa) against strain (%{', toe-compensated' if result.toe_shift else ''}) of {result.source}"
+            f"{' (synthetic data)' if result.synthetic else ''}: the data (black), the regression line of the "
+            f"linear range {fmt(100 * lo)}-{fmt(100 * hi)} % (blue, shaded), modulus E = {fmt(E / 1e9, 4)} GPa"
+            f"{yld}; green square: ultimate strength {fmt(result.ultimate_strength / 1e6, 4)} MPa")))
     return Path(path)

@@ -60,6 +60,8 @@ class UncertaintyResult:
         clipped to the bounds; draws whose simulation failed (left out).
     files : list of pathlib.Path
     messages : list of str
+    figures : list of dict
+        :func:`actsim.figures.figure_record` of the figure written.
     """
 
     dataset: xr.Dataset
@@ -69,6 +71,7 @@ class UncertaintyResult:
     n_failed: int = 0
     files: list = field(default_factory=list)
     messages: list = field(default_factory=list)
+    figures: list = field(default_factory=list)
 
 
 def _calibration(scenario):
@@ -247,61 +250,94 @@ def prediction_bands(scenario, *, n_draws, seed=0, calibration=None, engine="ker
                              messages=msgs)
 
 
-def _measured(cal):
-    """Measured curves named by the calibration section: list of (label, t [s], theta [rad])."""
+def _same_conditions(overrides: dict, changed: dict) -> bool:
+    """Whether a calibration curve measured with ``overrides`` was taken under the conditions simulated
+    (the scenario changed by ``changed``, e.g. ``--set``): the same fields set to the same values."""
+    def norm(d):
+        return {str(k).strip(): " ".join(str(v).split()) for k, v in (d or {}).items()}
+
+    return norm(overrides) == norm(changed)
+
+
+def _measured(cal, changed=None):
+    """Measured curves of the calibration section taken under the simulated conditions.
+
+    Returns
+    -------
+    curves : list of (label, t [s], theta [rad], synthetic)
+    notes : list of str
+        One per curve left out (other conditions, refused or unreadable file).
+    """
     from .readers import read_xy_csv
 
     out, notes = [], []
     for d in cal.data:
         if d.file is None:
             continue
+        name = d.label or d.file.name
         if d.refused:
-            notes.append(f"measured points of '{d.label or d.file.name}' not shown ({d.refused})")
+            notes.append(f"measured points of '{name}' not shown ({d.refused})")
+            continue
+        if not _same_conditions(d.overrides, changed or {}):
+            how = ", ".join(f"{k} = {v}" for k, v in d.overrides.items()) or "the calibration's base conditions"
+            notes.append(f"measured points of '{name}' not shown: measured under other conditions ({how})")
             continue
         try:
             xy = read_xy_csv(d.file, x_kind="time", y_kind="angle")
         except ActsimInputError as exc:
-            notes.append(f"measured points of '{d.label or d.file.name}' not shown ({exc})")
+            notes.append(f"measured points of '{name}' not shown ({exc})")
             continue
-        out.append((d.label or d.file.name, xy.x, xy.y, d.synthetic))
+        out.append((name, xy.x, xy.y, d.synthetic))
     return out, notes
 
 
-def _figure(res, cal, path, *, title):
-    from matplotlib.backends.backend_agg import FigureCanvasAgg
-    from matplotlib.figure import Figure
+def _changed_words(changed) -> str:
+    from ..figures import field_words
 
+    return ", ".join(f"{field_words(k)} = {v}" for k, v in (changed or {}).items())
+
+
+def _figure(res, cal, path, *, title, changed=None):
+    """Draw the band figure; returns (notes, record)."""
+    from ..figures import display_unit, figure_record, fmt, new_figure
     from ..io import save_figure
 
     ds = res.dataset
     t = ds["time"].values
-    fig = Figure(figsize=(7.0, 4.4))
-    FigureCanvasAgg(fig)
+    ang = display_unit("rad")
+    fig = new_figure((7.0, 4.4))
     ax = fig.add_subplot(1, 1, 1)
-    ax.fill_between(t, np.degrees(ds["bend_angle_p05"].values), np.degrees(ds["bend_angle_p95"].values),
-                    color="C0", alpha=0.25, lw=0, label=f"5-95 % band ({res.n_draws} draws)")
-    ax.plot(t, np.degrees(ds["bend_angle_p50"].values), color="C0", lw=1.2, label="median of draws")
-    ax.plot(t, np.degrees(ds["bend_angle_nominal"].values), color="k", ls="--", lw=1.0, label="fitted values")
-    measured, notes = _measured(cal)
-    syn = False
+    lo, hi = ang(ds["bend_angle_p05"].values), ang(ds["bend_angle_p95"].values)
+    ax.fill_between(t, lo, hi, color="C0", alpha=0.25, lw=0, label=f"5-95 % band ({res.n_draws} draws)")
+    ax.plot(t, ang(ds["bend_angle_p50"].values), color="C0", lw=1.2, label="median of draws")
+    nominal = ang(ds["bend_angle_nominal"].values)
+    ax.plot(t, nominal, color="k", ls="--", lw=1.0, label="fitted values")
+    measured, notes = _measured(cal, changed)
     for k, (lab, mt, ma, s) in enumerate(measured):
-        syn = syn or s
-        ax.plot(mt, np.degrees(ma), "o", ms=3, color=f"C{(k + 1) % 10}", alpha=0.8,
-                label=f"calibration data: {lab}" + (" (synthetic)" if s else ""))
-    ax.set_xlabel("time [s]")
-    ax.set_ylabel("bend angle [deg]")
+        ax.plot(mt, ang(ma), "o", ms=3, color=f"C{(k + 1) % 10}", alpha=0.8,
+                label=f"measured: {lab}" + (" (synthetic)" if s else ""))
+    ax.set_xlabel("time (s)")
+    ax.set_ylabel(f"bend angle ({ang.unit})")
     ax.grid(True, alpha=0.3)
     ax.legend(fontsize=7, loc="best")
-    ttl = title
-    if measured:
-        ttl += "\n(points: the calibration experiments, under their own conditions)"
+    what = _changed_words(changed)
+    ttl = title + (f"\nwith {what} (changed from the calibration)" if what else "")
     ax.set_title(ttl, fontsize=9)
     fig.tight_layout()
     save_figure(fig, path)
-    return notes
+    i = int(np.argmax(np.abs(nominal)))
+    caption = (f"Bend angle (degrees) against time (s) with the fitted parameter values (dashed), the median (line) "
+               f"and the 5-95 % band (shaded) of {res.n_draws} parameter draws"
+               + (f", for {what}" if what else "")
+               + f"; at {fmt(t[i])} s: {fmt(nominal[i])}°, band {fmt(lo[i])}-{fmt(hi[i])}°"
+               + (f"; points: measured {', '.join(m[0] for m in measured)} under the same conditions" if measured
+                  else "; no measured curve under these conditions")
+               + "; parameter uncertainty only (not model error or measurement scatter)")
+    return notes, figure_record(path, "Bend angle with its uncertainty band", caption)
 
 
-def run_uncertainty(scenario, *, n_draws, out_dir, seed=0, engine="kernel", quiet=False, shown_as=None) -> UncertaintyResult:
+def run_uncertainty(scenario, *, n_draws, out_dir, seed=0, engine="kernel", quiet=False, shown_as=None,
+                    changed=None) -> UncertaintyResult:
     """Prediction bands of a calibrated scenario, written to ``out_dir``.
 
     Parameters
@@ -323,6 +359,9 @@ def run_uncertainty(scenario, *, n_draws, out_dir, seed=0, engine="kernel", quie
     shown_as : str or os.PathLike, optional
         The folder named in the printed message (default ``out_dir``; ``actsim run`` writes into
         a staging folder that becomes the result folder it names here).
+    changed : dict, optional
+        Field path -> value the scenario was changed by (``actsim run --set``): named in the figure's
+        title, and only the calibration curves measured with the same changes are drawn.
 
     Returns
     -------
@@ -353,8 +392,9 @@ def run_uncertainty(scenario, *, n_draws, out_dir, seed=0, engine="kernel", quie
     nc, csv, png = out / "uncertainty.nc", out / "uncertainty.csv", out / "figures" / "uncertainty_bend_angle.png"
     io.write_netcdf(res.dataset, nc)
     io.write_timeseries_csv(res.dataset, csv)
-    notes = _figure(res, cal, png, title=f"bend angle with 5-95 % band: {scenario.title}")
+    notes, record = _figure(res, cal, png, title=f"bend angle with 5-95 % band: {scenario.title}", changed=changed)
     res.files = [nc, csv, png]
+    res.figures = [record]
     res.messages += notes
     if not quiet:
         lines = [f"uncertainty: {m}" for m in res.messages]

@@ -77,8 +77,22 @@ def _time_limit(text) -> float:
     return v
 
 
+def _add_check_figures(ctx, results, details, stage) -> None:
+    """Draw the figures of the checks that ran and list them in the folder's summary.json."""
+    import json
+
+    from ..check_figures import write_check_figures
+    from ..io import write_json
+
+    records = write_check_figures(ctx, results, details, stage / "figures")
+    record = json.loads((stage / "summary.json").read_text(encoding="utf-8"))
+    record["figures"] = record.get("figures", []) + records
+    record["files"] = record.get("files", []) + [r["file"] for r in records]
+    write_json(stage / "summary.json", record)
+
+
 def cmd_check(args) -> int:
-    from ..checks.run import any_failed, format_results, run_checks, write_checks
+    from ..checks.run import any_failed, build_context, dispatch, format_results, write_checks
     from ..checks.settings import checks_settings, joint_settings, safety_settings
     from ..errors import ActsimInputError
     from ..folders import result_folder
@@ -99,7 +113,8 @@ def cmd_check(args) -> int:
     with result_folder(out, kind="check", overwrite=args.overwrite) as stage:
         with compile_notice():
             ds = simulate(sc)
-        results, details = run_checks(sc, ds, elastica=not args.no_elastica, elastica_budget=budget, progress=True)
+        ctx = build_context(sc, ds, elastica=not args.no_elastica, elastica_budget=budget, progress=True)
+        results, details = dispatch(ctx)
         if not results:
             raise ActsimInputError("check: nothing to check in this scenario; add a [checks] section (see docs/checks.md)")
         lines = None
@@ -109,6 +124,8 @@ def cmd_check(args) -> int:
             lines = load_line_history(ds, budget=budget, progress=True)
         write_result_files(ds, sc, stage, figures=not args.no_figures)
         write_checks(results, details, stage)
+        if not args.no_figures:
+            _add_check_figures(ctx, results, details, stage)
         extra_files = ""
         if lines is not None:
             from ..io import write_netcdf

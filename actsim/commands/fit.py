@@ -84,12 +84,9 @@ def _need(args, n_min, n_max, what):
 
 
 def _figure():
-    from matplotlib.backends.backend_agg import FigureCanvasAgg
-    from matplotlib.figure import Figure
+    from ..figures import new_figure
 
-    fig = Figure(figsize=(7.0, 4.6))
-    FigureCanvasAgg(fig)
-    return fig
+    return new_figure((7.0, 4.6))
 
 
 # ----------------------------------------------------------------------------------------------
@@ -101,15 +98,17 @@ def fit_tensile_to(path, out: Path, *, toe=False, confidence=0.95):
     from ..calibrate.tensile import fit_tensile, plot_tensile
 
     res = fit_tensile(path, toe=toe, confidence=confidence)
-    png = plot_tensile(res, out / "figures" / "tensile_fit.png")
-    js = _write_json(out, {"kind": "tensile", "data": str(path), **res.to_dict()})
+    figures = []
+    png = plot_tensile(res, out / "figures" / "tensile_fit.png", records=figures)
+    js = _write_json(out, {"kind": "tensile", "data": str(path), **res.to_dict(), "figures": figures})
     return res, [js, png]
 
 
-def plot_dma(res, path):
-    """Storage modulus data and the fitted smooth step (log scale) to a PNG."""
+def plot_dma(res, path, *, records=None):
+    """Storage modulus data and the fitted smooth step (log scale) to a PNG; its record is appended to ``records``."""
     import numpy as np
 
+    from ..figures import figure_record, fmt
     from ..io import save_figure
 
     fig = _figure()
@@ -118,15 +117,21 @@ def plot_dma(res, path):
     ax.semilogy(T - 273.15, E / 1e6, "o", ms=3, color="0.3", label="data")
     Tf = np.linspace(T.min(), T.max(), 300)
     ax.semilogy(Tf - 273.15, res.model(Tf) / 1e6, color="C0",
-                label=f"smooth step: Tg = {res.glass_transition - 273.15:.4g} degC, width {res.width:.3g} K")
+                label=f"smooth step: Tg = {res.glass_transition - 273.15:.4g} °C, width {res.width:.3g} K")
     ax.axvline(res.glass_transition - 273.15, color="C0", ls=":", lw=1)
-    ax.set_xlabel("temperature [degC]")
-    ax.set_ylabel("storage modulus [MPa]")
+    ax.set_xlabel("temperature (°C)")
+    ax.set_ylabel("storage modulus (MPa, log scale)")
     ax.grid(True, which="both", alpha=0.3)
     ax.legend(fontsize=8)
     ax.set_title(f"DMA fit: {res.source}" + (" (synthetic data)" if res.synthetic else ""), fontsize=10)
     fig.tight_layout()
     save_figure(fig, path)
+    if records is not None:
+        records.append(figure_record(path, "DMA fit", (
+            f"Storage modulus (MPa, log scale) against temperature (°C) of {res.source}"
+            f"{' (synthetic data)' if res.synthetic else ''}: {T.size} data points "
+            f"({fmt(T.min() - 273.15)}-{fmt(T.max() - 273.15)} °C) and the fitted smooth step (blue), glass transition "
+            f"{fmt(res.glass_transition - 273.15, 4)} °C (dotted), width {fmt(res.width)} K")))
     return Path(path)
 
 
@@ -135,14 +140,16 @@ def fit_dma_to(path, out: Path, *, step="log", confidence=0.95):
     from ..calibrate.dma import fit_dma
 
     res = fit_dma(path, step=step, confidence=confidence)
-    png = plot_dma(res, out / "figures" / "dma_fit.png")
-    js = _write_json(out, {"kind": "dma", "data": str(path), **res.to_dict()})
+    figures = []
+    png = plot_dma(res, out / "figures" / "dma_fit.png", records=figures)
+    js = _write_json(out, {"kind": "dma", "data": str(path), **res.to_dict(), "figures": figures})
     return res, [js, png]
 
 
-def plot_spectra(res, before, after, path):
-    """Absorbance spectra and the derived absorptivities to a PNG."""
+def plot_spectra(res, before, after, path, *, records=None):
+    """Absorbance spectra and the derived absorptivities to a PNG; its record is appended to ``records``."""
     from ..calibrate.spectra import read_spectrum
+    from ..figures import figure_record, fmt
     from ..io import save_figure
 
     fig = _figure()
@@ -152,20 +159,31 @@ def plot_spectra(res, before, after, path):
         a1.plot(xy.x * 1e9, xy.y, label=lab)
     for x in res.isosbestic_points:
         a1.axvline(x * 1e9, color="0.6", lw=0.8, ls=":")
-    a1.set_xlabel("wavelength [nm]")
-    a1.set_ylabel("absorbance [1]")
+    a1.set_xlabel("wavelength (nm)")
+    a1.set_ylabel("absorbance (decadic)")
     a1.legend(fontsize=8)
     wl = res.wavelength * 1e9
     a2.plot(wl, res.epsilon10_reactant * 10, label="reactant")
     a2.plot(wl, res.epsilon10_product * 10, label="product")
-    a2.set_xlabel("wavelength [nm]")
-    a2.set_ylabel("epsilon10 [L/(mol cm)]")
+    a2.set_xlabel("wavelength (nm)")
+    a2.set_ylabel("decadic molar absorptivity (L/(mol cm))")
     a2.legend(fontsize=8)
     for a in (a1, a2):
         a.grid(True, alpha=0.3)
     fig.suptitle(f"absorptivities, conversion {res.conversion:.3g} ({res.conversion_method})", fontsize=10)
     fig.tight_layout()
     save_figure(fig, path)
+    if records is not None:
+        import numpy as np
+
+        peaks = "; ".join(f"{lab} peak {fmt(e.max() * 10, 4)} L/(mol cm) at {fmt(wl[int(np.argmax(e))], 4)} nm"
+                          for lab, e in (("reactant", res.epsilon10_reactant), ("product", res.epsilon10_product)))
+        iso = res.isosbestic_points
+        records.append(figure_record(path, "Absorptivities from spectra", (
+            f"Left: absorbance (decadic) against wavelength (nm) before and after irradiation"
+            + (f", dotted: isosbestic points at {', '.join(fmt(x * 1e9, 4) for x in iso)} nm" if iso.size else "")
+            + f"; right: decadic molar absorptivity (L/(mol cm)) of reactant and product derived with conversion "
+              f"{fmt(res.conversion)} ({res.conversion_method}); {peaks}")))
     return Path(path)
 
 
@@ -195,14 +213,15 @@ def fit_spectra_to(paths, out: Path, *, concentration, thickness, conversion=Non
     res = fit_spectra(before, after, concentration=c0, thickness=d, conversion=conversion, partial=partial,
                       absorbance_matrix=absorbance_matrix)
     syn = read_xy_csv(before, x_kind="wavelength", y_kind="absorbance").synthetic
-    png = plot_spectra(res, before, after, out / "figures" / "spectra_fit.png")
+    figures = []
+    png = plot_spectra(res, before, after, out / "figures" / "spectra_fit.png", records=figures)
     f1 = _absorptivity_csv(out / "absorptivity_reactant.csv", res.wavelength, res.epsilon10_reactant, "reactant", syn)
     f2 = _absorptivity_csv(out / "absorptivity_product.csv", res.wavelength, res.epsilon10_product, "product", syn)
     if np.min(res.epsilon10_product) < 0:
         res.notes.append("negative product absorptivities (noise) were written as 0 in absorptivity_product.csv")
     js = _write_json(out, {"kind": "spectra", "data": [str(p) for p in paths], "concentration_mol_per_m3": c0,
                            "thickness_m": d, "absorbance_matrix": absorbance_matrix, "synthetic": syn,
-                           **res.to_dict()})
+                           **res.to_dict(), "figures": figures})
     return res, [js, png, f1, f2]
 
 
@@ -315,7 +334,8 @@ def fit_bend_to(out: Path, *, plan=None, scenario=None, files=(), curve_specs=()
         if bar is not None:
             bar.close()
     notes = []
-    png = fit.plot(out / "figures" / "bend_fit.png")
+    figures = []
+    png = fit.plot(out / "figures" / "bend_fit.png", records=figures)
     out.mkdir(parents=True, exist_ok=True)
     try:
         toml_path = write_fitted_scenario(fit, out / "fitted.toml")
@@ -323,7 +343,7 @@ def fit_bend_to(out: Path, *, plan=None, scenario=None, files=(), curve_specs=()
         toml_path = write_fitted_scenario(fit, out / "fitted.toml", with_calibration=False)
         notes.append(f"fitted.toml has no [calibration] section, so --uncertainty cannot use it: {exc}")
     js = _write_json(out, {"kind": "bend", "plan": str(plan) if plan else None,
-                           "scenario": sc.path, **fit.to_dict()})
+                           "scenario": sc.path, **fit.to_dict(), "figures": figures})
     return fit, [js, png, toml_path], notes
 
 

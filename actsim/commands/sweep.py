@@ -260,6 +260,7 @@ def _sweep_into(args, out, final, work, checked) -> int:
     _metrics_csv(ds, out / "metrics.csv")
     files = ["sweep.nc", "metrics.csv", "chunks/"]
     figs = out / "figures"
+    figures = []  # records of the figures drawn (file, title, caption), kept in summary.json
     dims = [d for d in ds["status"].dims if d != "design"]
     has_target = "time_to_target" in ds
     print(f"{sc.title}: {ds.attrs['n_designs']} designs ({sampling})"
@@ -270,7 +271,7 @@ def _sweep_into(args, out, final, work, checked) -> int:
         print(f"  {n_reach} reach {math.degrees(target if target is not None else ds.attrs['target_bend_angle']):.4g} deg")
     metric = args.heatmap or ("time_to_target" if has_target else "peak_bend_angle")
     if len(dims) >= 2 and sampling == "grid":
-        tradeoff.heatmap(ds, metric, dims[0], dims[1], figs / f"heatmap_{metric}.png")
+        figures.append(tradeoff.heatmap(ds, metric, dims[0], dims[1], figs / f"heatmap_{metric}.png"))
         files.append(f"figures/heatmap_{metric}.png")
         if len(dims) > 2:
             print(f"  heat map of {metric} over {dims[0]} and {dims[1]}; "
@@ -287,7 +288,10 @@ def _sweep_into(args, out, final, work, checked) -> int:
         if not has_target:
             raise ActsimInputError("--pareto: needs a target bend angle (--target-angle or [report] target_bend_angle)")
         pf = tradeoff.pareto_front(ds, force=force)
-        tradeoff.pareto_plot(ds, figs / "pareto.png", force=force)
+        rec_dim = (_resolve_dim(ds, args.recommend, "--recommend")
+                   if args.recommend and within is not None and sampling == "grid" else None)
+        figures.append(tradeoff.pareto_plot(ds, figs / "pareto.png", force=force,
+                                            within=within if args.recommend else None, recommend_dim=rec_dim))
         write_json(out / "pareto.json", {k: v for k, v in pf.items() if k != "mask"})
         files += ["pareto.json", "figures/pareto.png"]
         print(f"  Pareto front (time to target vs {flabel}): {pf['n_on_front']} designs; "
@@ -319,10 +323,13 @@ def _sweep_into(args, out, final, work, checked) -> int:
                       f"{tradeoff.format_quantity(row['recommended'], unit)} (target in {row['time_to_target']:.3g} s, "
                       f"{flabel} {tradeoff.format_quantity(row[force], 'N')})")
     if args.series and dims:
-        tradeoff.bend_family(ds, figs / "bend_family.png", along=dims[0])
+        figures.append(tradeoff.bend_family(ds, figs / "bend_family.png", along=dims[0]))
         files.append("figures/bend_family.png")
     if not math.isnan(float(ds["peak_temperature"].max(skipna=True).fillna(math.nan))):
         print(f"  peak temperature over the sweep: {float(ds['peak_temperature'].max()) - 273.15:.4g} degC")
+    write_json(out / "summary.json", {"kind": "sweep", "title": sc.title, "files": files + ["summary.json"],
+                                      "figures": figures})
+    files.append("summary.json")
     print(with_caution(f"\nsweep written to {final}/ ({', '.join(files)})"))
     return 0
 

@@ -39,6 +39,11 @@ def force_label(metric: str) -> str:
     return FORCE_LABELS.get(metric, metric.replace("_", " "))
 
 
+#: SI unit -> (scale, unit) of :func:`format_quantity` (screens; figures use :func:`actsim.figures.display_unit`).
+_SCALE = {"rad": (180 / math.pi, "deg"), "N": (1e3, "mN"), "N m": (1e6, "uN m"), "m": (1e6, "um"),
+          "W/m^2": (0.1, "mW/cm^2"), "W m-2": (0.1, "mW/cm^2"), "K": (1.0, "K"), "s": (1.0, "s")}
+
+
 def format_quantity(value, unit: str) -> str:
     """A SI value with its unit in a readable scale: (7.5e-05, "m") -> "75 um", (50.0, "W/m^2") -> "5 mW/cm^2".
 
@@ -281,30 +286,96 @@ def recommend(ds: xr.Dataset, field_dim: str, *, within: float, maximise="blocke
 # Figures
 # ----------------------------------------------------------------------------
 
-_SCALE = {"rad": (180 / math.pi, "deg"), "N": (1e3, "mN"), "N m": (1e6, "uN m"), "m": (1e6, "um"),
-          "W/m^2": (0.1, "mW/cm^2"), "W m-2": (0.1, "mW/cm^2"), "K": (1.0, "K"), "s": (1.0, "s")}
+#: Words of the sweep metrics in figures.
+METRIC_WORDS = {"time_to_target": "time to the target angle", "reached_target": "target reached",
+                "peak_temperature": "peak temperature", "peak_bend_angle": "peak bend angle",
+                "final_bend_angle": "final bend angle", "time_of_peak_bend": "time of the peak bend",
+                "time_of_peak_force": "time of the peak force", "peak_blocked_moment": "peak blocked moment",
+                "peak_tip_deflection": "peak tip travel", "optical_dose": "optical dose",
+                "optical_energy": "optical energy", "peak_optical_power": "peak optical power",
+                "mechanical_work": "mechanical work", "efficiency": "efficiency", **FORCE_LABELS}
+#: A colour scale (or a value axis) spanning more than this ratio is logarithmic [1] (1.5 decades; common practice, no source).
+LOG_SPAN = 10 ** 1.5
 
 
-def _display(var):
-    u = var.attrs.get("units", "")
-    k, du = _SCALE.get(u, (1.0, u))
-    return k, du
+def metric_words(metric: str) -> str:
+    """Words for a sweep metric (``time_to_target`` -> "time to the target angle")."""
+    return METRIC_WORDS.get(metric, metric.replace("_", " "))
 
 
-def _label(ds, name):
-    var = ds[name]
-    k, du = _display(var)
-    title = var.attrs.get("field", name)
-    return f"{title} [{du}]" if du and du != "1" else title
+def _field_of(ds, dim):
+    return ds[dim].attrs.get("field", dim)
 
 
-def heatmap(ds: xr.Dataset, metric: str, x: str, y: str, path, *, select=None):
-    """Heat map of ``metric`` over two swept dimensions (other dimensions fixed by ``select`` or at index 0)."""
-    import matplotlib
+def _spaced(v, geometric=False):
+    v = np.asarray(v, float)
+    if v.size < 3:
+        return True
+    if geometric:
+        if np.any(v <= 0):
+            return False
+        v = np.log(v)
+    d = np.diff(v)
+    return bool(np.allclose(d, d[0], rtol=1e-3, atol=0.0))
 
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
 
+def is_categorical(ds, dim) -> bool:
+    """Whether a swept dimension is a set of choices (words, wavelengths of sources, a few unevenly spaced values)."""
+    v = ds[dim].values
+    if v.dtype.kind not in "fiu":
+        return True
+    if str(_field_of(ds, dim)).endswith("wavelength"):
+        return True
+    return v.size <= 6 and not (_spaced(v) or _spaced(v, geometric=True))
+
+
+def _is_log(values) -> bool:
+    v = np.asarray(values, float)
+    v = v[np.isfinite(v)]
+    return bool(v.size >= 2 and np.all(v > 0) and v.max() / v.min() > LOG_SPAN)
+
+
+def _axis(ds, dim):
+    """(positions, labels or None, axis label, display, log, caption text) of a swept dimension."""
+    from ..figures import axis_label, display_unit, field_words, fmt
+
+    field = _field_of(ds, dim)
+    words = field_words(field)
+    v = ds[dim].values
+    if v.dtype.kind not in "fiu":
+        labels = [str(x) for x in v]
+        return np.arange(v.size), labels, words, None, False, f"{words} ({', '.join(labels)})"
+    d = display_unit(ds[dim].attrs.get("units", ""), v, quantity=field)
+    shown_v = d(v)
+    if is_categorical(ds, dim):
+        labels = [fmt(x, 4) for x in shown_v]
+        return (np.arange(v.size), labels, axis_label(words, d.unit), d, False,
+                f"{words} ({', '.join(labels)} {d.unit})".replace(" )", ")"))
+    log = _is_log(shown_v) and not _spaced(shown_v)
+    return (shown_v, None, axis_label(words, d.unit), d, log,
+            f"{words} ({fmt(shown_v.min())}-{fmt(shown_v.max())} {d.unit}, {v.size} values{', log axis' if log else ''})")
+
+
+def _rest_text(ds, fixed):
+    from ..figures import field_words, shown
+
+    parts = []
+    for d, i in fixed.items():
+        c = ds[d]
+        parts.append(f"{field_words(_field_of(ds, d))} = {shown(c.values[i], c.attrs.get('units', ''), quantity=_field_of(ds, d))}")
+    return ("; other swept fields at " + ", ".join(parts)) if parts else ""
+
+
+def heatmap(ds: xr.Dataset, metric: str, x: str, y: str, path, *, select=None) -> dict:
+    """Heat map of ``metric`` over two swept dimensions (other dimensions fixed by ``select`` or at index 0).
+
+    Display units on both axes and the colour bar, categorical axes for choices (e.g. LED wavelengths),
+    a logarithmic colour scale when the values span more than :data:`LOG_SPAN`, each cell's value written
+    in it on small grids. Returns the figure's :func:`actsim.figures.figure_record`.
+    """
+    from matplotlib.colors import LogNorm
+
+    from ..figures import axis_label, display_unit, figure_record, fmt, new_figure
     from ..io import save_figure
 
     for d in (x, y):
@@ -316,57 +387,135 @@ def heatmap(ds: xr.Dataset, metric: str, x: str, y: str, path, *, select=None):
     m = m.isel(rest).transpose(y, x)
     if m.dtype == bool:
         m = m.astype(float)
-    k, du = _display(m)
-    fig, ax = plt.subplots(figsize=(6, 4.2))
-    kx, _ = _display(ds[x])
-    ky, _ = _display(ds[y])
-    pc = ax.pcolormesh(ds[x].values * kx, ds[y].values * ky, np.abs(m.values) * k if "force" in metric else m.values * k,
-                       shading="nearest", cmap="viridis")
-    fig.colorbar(pc, ax=ax, label=f"{metric} [{du}]")
-    ax.set_xlabel(_label(ds, x))
-    ax.set_ylabel(_label(ds, y))
-    if ds[x].attrs.get("units") in ("W/m^2",) and ds[x].values.min() > 0 and ds[x].values.max() / ds[x].values.min() > 20:
-        ax.set_xscale("log")
-    if ds[y].attrs.get("units") in ("W/m^2",) and ds[y].values.min() > 0 and ds[y].values.max() / ds[y].values.min() > 20:
-        ax.set_yscale("log")
-    ax.set_title(f"{metric} (NaN/blank: not reached or invalid)", fontsize=9)
+    vals = np.abs(m.values) if ("force" in metric or "moment" in metric) else m.values.astype(float)
+    dm = display_unit(m.attrs.get("units", ""), vals, quantity=metric)
+    z = dm(vals)
+    finite = z[np.isfinite(z)]
+    log = _is_log(finite)
+    fig = new_figure((6.6, 4.6))
+    ax = fig.subplots()
+    xp, xl, xlab, _, xlog, xtxt = _axis(ds, x)
+    yp, yl, ylab, _, ylog, ytxt = _axis(ds, y)
+    norm = LogNorm(vmin=finite.min(), vmax=finite.max()) if log else None
+    pc = ax.pcolormesh(xp, yp, np.ma.masked_invalid(z), shading="nearest", cmap="viridis", norm=norm)
+    words = metric_words(metric)
+    fig.colorbar(pc, ax=ax, label=axis_label(words, dm.unit) + (", log scale" if log else ""))
+    for axis, pos, lab, lg in ((ax.xaxis, xp, xl, xlog), (ax.yaxis, yp, yl, ylog)):
+        if lab is not None:
+            axis.set_ticks(pos)
+            axis.set_ticklabels(lab)
+        elif lg:
+            (ax.set_xscale if axis is ax.xaxis else ax.set_yscale)("log")
+    ax.set_xlabel(xlab)
+    ax.set_ylabel(ylab)
+    if z.size <= 64:  # small grids: the value in each cell
+        for i in range(z.shape[0]):
+            for j in range(z.shape[1]):
+                if np.isfinite(z[i, j]):
+                    ax.text(xp[j], yp[i], fmt(z[i, j]), ha="center", va="center", fontsize=7, color="w",
+                            path_effects=_outline())
+    n_blank = int((~np.isfinite(z)).sum())
+    ax.set_title(f"{words[:1].upper() + words[1:]}" + (f" ({n_blank} blank: not reached or invalid)" if n_blank else ""),
+                 fontsize=9)
     save_figure(fig, path)
-    plt.close(fig)
-    return path
+    rng = f"{fmt(finite.min())}-{fmt(finite.max())} {dm.unit}".strip() if finite.size else "no finite values"
+    caption = (f"{words[:1].upper() + words[1:]} ({dm.unit or 'fraction'}; {'logarithmic' if log else 'linear'} colour scale, "
+               f"{rng}) over {xtxt} and {ytxt}"
+               + (f"; {n_blank} blank cells: the design never reaches the target or is invalid" if n_blank else "")
+               + _rest_text(ds, {d: i for d, i in rest.items() if d in ds.dims and d not in (x, y)}))
+    return figure_record(path, f"Heat map of {words}", caption)
 
 
-def pareto_plot(ds: xr.Dataset, path, *, speed="time_to_target", force="blocked_force_at_target"):
-    """All designs (time to target against force) with the Pareto front highlighted."""
-    import matplotlib
+def _outline():
+    from matplotlib import patheffects
 
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
+    return [patheffects.withStroke(linewidth=1.5, foreground="0.2")]
 
+
+def _design_text(ds, row, skip):
+    from ..figures import shown
+
+    units = field_units(ds)
+    return ", ".join(shown(v, units.get(k, ""), quantity=k) for k, v in row.items() if k not in skip)
+
+
+def pareto_plot(ds: xr.Dataset, path, *, speed="time_to_target", force="blocked_force_at_target", within=None,
+                recommend_dim=None) -> dict:
+    """All designs (time to target against force) with the Pareto front, its swept values, the time limit
+    ``within`` [s] and the recommended design of ``recommend_dim`` marked.
+
+    Returns the figure's :func:`actsim.figures.figure_record`.
+    """
+    from ..figures import axis_label, display_unit, figure_record, fmt, new_figure
     from ..io import save_figure
 
     pf = pareto_front(ds, speed=speed, force=force)
-    t = ds[speed].values.ravel()
-    f = np.abs(ds[force].values.ravel()) * 1e3
-    fig, ax = plt.subplots(figsize=(6, 4.2))
-    ax.scatter(t, f, s=12, c="0.6", label="designs")
+    t = ds[speed].values.ravel().astype(float)
+    fraw = np.abs(ds[force].values.ravel().astype(float))
+    fd = display_unit("N", fraw)
+    fig = new_figure((6.8, 4.6))
+    ax = fig.subplots()
+    ax.scatter(t, fd(fraw), s=12, c="0.65", label=f"designs ({int(np.isfinite(t).sum())} reach the target)")
     front = sorted(pf["table"], key=lambda r: r[speed])
-    ax.plot([r[speed] for r in front], [r[force] * 1e3 for r in front], "o-", c="C3", ms=5, label="Pareto front")
-    ax.set_xlabel("time to target angle [s]")
-    ax.set_ylabel(f"{force_label(force)} [mN]")
+    ft = np.array([r[speed] for r in front])
+    ff = fd(np.array([r[force] for r in front]))
+    ax.plot(ft, ff, "o-", c="C3", ms=5, label=f"Pareto front ({len(front)} designs)")
+    skip = ("design", speed, force)
+    n = len(front)
+    show = range(n) if n <= 12 else sorted(set(np.linspace(0, n - 1, 10).round().astype(int)))
+    for i in show:
+        ax.annotate(_design_text(ds, front[i], skip), (ft[i], ff[i]), textcoords="offset points", xytext=(5, 4),
+                    fontsize=7, color="C3")
+    if _is_log(t[np.isfinite(t)]):
+        ax.set_xscale("log")
+    if _is_log(ff):
+        ax.set_yscale("log")
+    limit_txt = rec_txt = ""
+    if within is not None:
+        ax.axvline(within, color="0.3", ls="--", lw=1, label=f"limit {fmt(within)} s")
+        right = ax.get_xlim()[1]
+        ax.axvspan(within, max(right, within * 1.05), color="0.5", alpha=0.08, lw=0)
+        ax.set_xlim(right=max(right, within * 1.05))
+        limit_txt = f"; dashed line: the {fmt(within)} s limit (grey beyond it: too slow)"
+    if recommend_dim is not None and within is not None:
+        rows = [r for r in recommend(ds, recommend_dim, within=within, maximise=force) if r["recommended"] is not None]
+        unit = ds[recommend_dim].attrs.get("units", "")
+        field = _field_of(ds, recommend_dim)
+        from ..figures import field_words, shown
+
+        for k, r in enumerate(rows):
+            ax.plot([r["time_to_target"]], [fd(r[force])], "*", ms=16, mfc="gold", mec="k", zorder=5,
+                    label="recommended" if k == 0 else None)
+            ax.annotate(f"recommended: {shown(r['recommended'], unit, quantity=field)}", (r["time_to_target"], fd(r[force])),
+                        textcoords="offset points", xytext=(8, -18), ha="left", fontsize=8, fontweight="bold")
+        if rows:
+            rec_txt = "; star: recommended " + "; ".join(
+                f"{field_words(field)} {shown(r['recommended'], unit, quantity=field)} (target in {fmt(r['time_to_target'])} s, "
+                f"{fmt(fd(r[force]))} {fd.unit})" for r in rows[:3])
+    ax.set_xlabel(axis_label("time to the target angle", "s"))
+    ax.set_ylabel(axis_label(force_label(force), fd.unit))
     ax.set_title(f"{pf['n_on_front']} on the front; {pf['n_not_reaching']} never reach the target (not shown)", fontsize=9)
-    ax.legend()
+    ax.legend(fontsize=7)
     save_figure(fig, path)
-    plt.close(fig)
-    return path
+    caption = (f"Time to the target angle (s) against {force_label(force)} ({fd.unit}) of every design (grey) and the "
+               f"Pareto front (red, {len(front)} designs"
+               + (f", {fmt(ft.min())}-{fmt(ft.max())} s, {fmt(ff.min())}-{fmt(ff.max())} {fd.unit}" if len(front) else "")
+               + ", labelled with their swept values)"
+               + f"; {pf['n_not_reaching']} designs never reach the target (not shown)" + limit_txt + rec_txt)
+    return figure_record(path, "Speed against force: Pareto front", caption)
 
 
-def bend_family(ds: xr.Dataset, path, *, along: str, select=None):
-    """Bend angle against time for every value of ``along`` (other dimensions fixed by ``select`` or index 0)."""
-    import matplotlib
+def bend_family(ds: xr.Dataset, path, *, along: str, select=None) -> dict:
+    """Bend angle against time for every value of ``along`` (other dimensions fixed by ``select`` or index 0).
 
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
+    A colour bar of the swept value (a legend for a few categories). Returns the figure's
+    :func:`actsim.figures.figure_record`.
+    """
+    from matplotlib import colormaps
+    from matplotlib.cm import ScalarMappable
+    from matplotlib.colors import BoundaryNorm, LogNorm, Normalize
 
+    from ..figures import display_unit, figure_record, fmt, new_figure
     from ..io import save_figure
 
     if "series_bend_angle" not in ds:
@@ -377,23 +526,39 @@ def bend_family(ds: xr.Dataset, path, *, along: str, select=None):
     rest = {d: 0 for d in s.dims if d not in (along, "time")}
     rest.update(select or {})
     s = s.isel(rest)
-    k, du = _display(ds[along])
-    fig, ax = plt.subplots(figsize=(6, 4.2))
-    cmap = plt.get_cmap("viridis")
+    pos, labels, label, d, log, txt = _axis(ds, along)
+    ang = display_unit("rad")
+    fig = new_figure((6.8, 4.4))
+    ax = fig.subplots()
+    cmap = colormaps["viridis"]
     n = ds.sizes[along]
+    if labels is not None:
+        norm = BoundaryNorm(np.arange(n + 1) - 0.5, cmap.N)
+        values = np.arange(n)
+    else:
+        values = np.asarray(pos, float)
+        norm = LogNorm(values.min(), values.max()) if log else Normalize(values.min(), values.max())
+    t = ds["time"].values
     for i in range(n):
-        ax.plot(ds["time"].values, np.degrees(s.isel({along: i}).values), c=cmap(i / max(1, n - 1)),
-                label=f"{ds[along].values[i] * k:.4g} {du}")
+        ax.plot(t, ang(s.isel({along: i}).values), c=cmap(norm(values[i])), lw=1.0)
+    sm = ScalarMappable(norm=norm, cmap=cmap)
+    cb = fig.colorbar(sm, ax=ax, label=label + (", log scale" if log else ""))
+    if labels is not None:
+        cb.set_ticks(np.arange(n))
+        cb.set_ticklabels(labels)
+    tgt = ""
     if "target_bend_angle" in ds.attrs:
-        ax.axhline(math.degrees(ds.attrs["target_bend_angle"]), ls="--", c="0.4", lw=0.8)
-    ax.set_xlabel("time [s]")
-    ax.set_ylabel("bend angle [deg]")
-    ax.set_title(f"along {ds[along].attrs.get('field', along)}", fontsize=9)
-    if n <= 12:
-        ax.legend(fontsize=7)
+        ta = ang(ds.attrs["target_bend_angle"])
+        ax.axhline(ta, ls="--", c="0.3", lw=0.9, label=f"target {fmt(ta)}°")
+        ax.legend(fontsize=7, loc="best")
+        tgt = f"; dashed: target {fmt(ta)}°"
+    ax.set_xlabel("time (s)")
+    ax.set_ylabel(f"bend angle ({ang.unit})")
+    ax.set_title(f"Bend angle for each {label}", fontsize=9)
     save_figure(fig, path)
-    plt.close(fig)
-    return path
+    caption = (f"Bend angle (degrees) over {fmt(t[-1] - t[0])} s for {n} values of {txt}, coloured by the colour bar"
+               + tgt + _rest_text(ds, {k: i for k, i in rest.items() if k in ds.dims and k != along}))
+    return figure_record(path, "Bend angle against time, family", caption)
 
 
 def swept_fields(ds):
@@ -402,4 +567,4 @@ def swept_fields(ds):
 
 
 __all__ = ["pareto_mask", "pareto_front", "best_value", "recommend", "heatmap", "pareto_plot", "bend_family",
-           "swept_fields", "format_quantity", "field_units", "force_label", "FORCE_METRICS", "FORCE_LABELS"]
+           "swept_fields", "is_categorical", "metric_words", "METRIC_WORDS", "LOG_SPAN", "format_quantity", "field_units", "force_label", "FORCE_METRICS", "FORCE_LABELS"]
