@@ -232,6 +232,12 @@ def add_overwrite_option(p) -> None:
                         "folder is always replaced whole)")
 
 
+def add_set_option(p) -> None:
+    """``--set FIELD=VALUE`` of every verb that simulates one scenario (read by :func:`load_with_overrides`)."""
+    p.add_argument("--set", action="append", metavar="FIELD=VALUE",
+                   help="change a scenario field for this run, e.g. \"layers[1].thickness=40 um\" (repeatable)")
+
+
 def build_parser() -> argparse.ArgumentParser:
     from . import __version__
 
@@ -260,8 +266,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--no-figures", action="store_true", help="skip the PNG figures")
     p.add_argument("--engine", choices=("kernel", "reference"), default="kernel",
                    help="numba kernel (default) or the slow readable reference path")
-    p.add_argument("--set", action="append", metavar="FIELD=VALUE",
-                   help="change a scenario field for this run, e.g. \"layers[1].thickness=40 um\" (repeatable)")
+    add_set_option(p)
     p.add_argument("--uncertainty", type=int, metavar="N", default=0,
                    help="also draw N parameter sets from the scenario's [calibration] covariance and write 5-95 %% bands")
     p.add_argument("--yes", action="store_true",

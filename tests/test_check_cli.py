@@ -55,7 +55,7 @@ def test_failing_check_exit_1(tmp_path, capsys):
     status, text, _ = run(["check", str(write(tmp_path, sec)), "-o", str(out), "--no-figures", "--no-elastica"], capsys)
     assert status == 1
     assert "exceeds the modelled limit" in text
-    rec = [r for r in json.loads((out / "checks.json").read_text())["checks"] if r["check"].startswith("yield strength, layer 1")]
+    rec = [r for r in json.loads((out / "checks.json").read_text())["checks"] if r["check"].startswith("von Mises stress vs yield strength, layer 1")]
     assert rec[0]["status"] == "fail"
 
 
@@ -127,6 +127,6 @@ def test_tip_force_large_enough_fails_yield_exit_1(tmp_path, capsys):
                            "-o", str(tmp_path / "b"), *args], capsys)
     assert status == 1 and "tip-loaded state" in text
     data = json.loads((tmp_path / "b" / "checks.json").read_text())
-    rec = [r for r in data["checks"] if r["check"].startswith("yield strength, layer 1")][0]
+    rec = [r for r in data["checks"] if r["check"].startswith("von Mises stress vs yield strength, layer 1")][0]
     assert rec["status"] == "fail" and rec["value"] > 25e6
     assert data["details"]["stress"]["tip_load"]["moment"] == pytest.approx(data["details"]["actuation"]["tip_load"]["largest_moment"])
