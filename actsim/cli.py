@@ -49,8 +49,8 @@ def _fmt(v, unit, scale=1.0, digits=4):
     return "not reached" if v is None else f"{v * scale:.{digits}g} {unit}"
 
 
-def summary_table(summary: dict) -> str:
-    """Plain-text table of the key metrics of a run."""
+def summary_table(summary: dict, width: int | None = None) -> str:
+    """Plain-text table of the key metrics of a run, its long values wrapped to ``width`` (default: the screen's)."""
     where = ""
     if "step_of_peak_bend" in summary:
         label = summary.get("step_of_peak_bend_label")
@@ -92,8 +92,14 @@ def summary_table(summary: dict) -> str:
         if est > GRID_ERROR_HINT:
             text += f"; above {100 * GRID_ERROR_HINT:g} %: use about {_cells_factor(est)}x the cells in each layer"
         rows.append(("grid check", text))
+    from .screens import screen_width, wrap
+
+    width = width or screen_width()
     w = max(len(r[0]) for r in rows)
-    return "\n".join(f"  {k:<{w}}  {v}" for k, v in rows)
+    lines = []
+    for k, v in rows:
+        lines += wrap(f"{k:<{w}}  {v}", width, indent="  ", hang=" " * (w + 2))
+    return "\n".join(lines)
 
 
 #: Estimated grid error of the bend angle above which `actsim run` suggests more cells (common practice, no source).
@@ -156,8 +162,11 @@ def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set
         if est is not None:
             ds.attrs["grid_error_estimate"] = est
         summary = write_result_files(ds, sc, stage, figures=figures)
-        print(f"{sc.title}")
-        print(summary_table(summary))
+        from .screens import fit_text, screen_width
+
+        width = screen_width()
+        print(fit_text(sc.title, width))
+        print(summary_table(summary, width))
         if mask is not None:
             import json
 
@@ -177,7 +186,8 @@ def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set
             from .calibrate.uncertainty import run_uncertainty
 
             run_uncertainty(sc, n_draws=uncertainty, out_dir=stage, shown_as=out_dir)
-    print(with_caution(f"\nresults written to {out_dir}/ (result.nc, timeseries.csv, summary.json{', figures/' if figures else ''})"))
+    files = f"result.nc, timeseries.csv, summary.json{', figures/' if figures else ''}"
+    print(with_caution(fit_text(f"\nresults written to {out_dir}/ ({files})", width), width))
     return 0
 
 
