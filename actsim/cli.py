@@ -242,6 +242,13 @@ def add_overwrite_option(p) -> None:
                         "folder is always replaced whole)")
 
 
+def _wrapped(text: str) -> str:
+    """A help description wrapped by hand (the verbs use RawDescriptionHelpFormatter for their examples)."""
+    import textwrap
+
+    return textwrap.fill(text, width=78)
+
+
 def add_set_option(p) -> None:
     """``--set FIELD=VALUE`` of every verb that simulates one scenario (read by :func:`load_with_overrides`)."""
     p.add_argument("--set", action="append", metavar="FIELD=VALUE",
@@ -260,6 +267,9 @@ def build_parser() -> argparse.ArgumentParser:
     sub.required = True
 
     p = sub.add_parser("demo", help="run a bundled demo scenario", epilog=EXAMPLES["demo"],
+                       description=_wrapped("Simulate one of the bundled invented demo scenarios (default: the vent flap) and "
+                                   "write its results, summary and figures into an output folder; --list shows them, "
+                                   "--copy copies them to edit."),
                        formatter_class=argparse.RawDescriptionHelpFormatter)
     p.add_argument("--scenario", default="vent_flap", help="demo scenario name (default: vent_flap)")
     p.add_argument("--list", action="store_true", help="list the demo scenarios and exit")
@@ -270,6 +280,9 @@ def build_parser() -> argparse.ArgumentParser:
     p.set_defaults(func=cmd_demo)
 
     p = sub.add_parser("run", help="simulate a scenario file", epilog=EXAMPLES["run"],
+                       description=_wrapped("Simulate SCENARIO (light, photoreaction, heat, layered-beam mechanics) and write "
+                                   "result.nc, timeseries.csv, summary.json and figures into an output folder; print "
+                                   "the key numbers (peak bend, time to target, force, temperature)."),
                        formatter_class=argparse.RawDescriptionHelpFormatter)
     p.add_argument("scenario", help="scenario TOML file")
     p.add_argument("-o", "--output", help="output folder (default: actsim-out/<scenario name>)")
