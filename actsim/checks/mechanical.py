@@ -346,13 +346,13 @@ def fatigue_check(ctx: CheckContext) -> CheckOutput:
     lim = cs.materials.get(layer.material.name)
     eq_c, tip_ins, stress_how = sh.equivalent, sh.tip_index, sh.how
     results = []
-    flabel = f"fatigue damage vs allowed damage, {label}"
+    flabel = f"fatigue (damage vs allowed damage), {label}"
     if lim is None or lim.fatigue_strength_coefficient is None:
         return CheckOutput([NotAssessed(flabel, f"no Basquin constants for material '{layer.material.name}' in [checks.materials]")])
     if cs.target_passes is None:
         return CheckOutput([NotAssessed(flabel, "no target_cycles in [checks]")])
     if sh.tip_reason:
-        results.append(NotAssessed(f"fatigue damage under checks.tip_force vs allowed damage, {label}",
+        results.append(NotAssessed(f"fatigue (damage) under checks.tip_force vs allowed damage, {label}",
                                    f"the tip-loaded stress could not be formed: {sh.tip_reason}"))
     rng = eq_c[:, cells].max(axis=0) - eq_c[:, cells].min(axis=0)
     c = int(cells[int(np.argmax(rng))])
