@@ -166,7 +166,7 @@ def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set
 
         width = screen_width()
         print(fit_text(sc.title, width))
-        print(summary_table(summary, width))
+        print(summary_table(summary))  # its width: screen_width(), as here
         if mask is not None:
             import json
 
