@@ -375,7 +375,7 @@ def write_check_figures(ctx, results, details, folder) -> list[dict]:
     folder = Path(folder)
     names = [getattr(r, "check", "") for r in results]
     out = []
-    ran_yield = any(n.startswith("yield strength") and getattr(r, "value", None) is not None
+    ran_yield = any("yield strength" in n and getattr(r, "value", None) is not None  # "von Mises stress vs ..."
                     for n, r in zip(names, results))
     if ran_yield and ctx.stress is not None:
         out.append(stress_figure(ctx, folder / "check_stress.png"))

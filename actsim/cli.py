@@ -49,8 +49,8 @@ def _fmt(v, unit, scale=1.0, digits=4):
     return "not reached" if v is None else f"{v * scale:.{digits}g} {unit}"
 
 
-def summary_table(summary: dict) -> str:
-    """Plain-text table of the key metrics of a run."""
+def summary_table(summary: dict, width: int | None = None) -> str:
+    """Plain-text table of the key metrics of a run, its long values wrapped to ``width`` (default: the screen's)."""
     where = ""
     if "step_of_peak_bend" in summary:
         label = summary.get("step_of_peak_bend_label")
@@ -92,8 +92,14 @@ def summary_table(summary: dict) -> str:
         if est > GRID_ERROR_HINT:
             text += f"; above {100 * GRID_ERROR_HINT:g} %: use about {_cells_factor(est)}x the cells in each layer"
         rows.append(("grid check", text))
+    from .screens import screen_width, wrap
+
+    width = width or screen_width()
     w = max(len(r[0]) for r in rows)
-    return "\n".join(f"  {k:<{w}}  {v}" for k, v in rows)
+    lines = []
+    for k, v in rows:
+        lines += wrap(f"{k:<{w}}  {v}", width, indent="  ", hang=" " * (w + 2))
+    return "\n".join(lines)
 
 
 #: Estimated grid error of the bend angle above which `actsim run` suggests more cells (common practice, no source).
@@ -170,8 +176,11 @@ def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set
         if est is not None:
             ds.attrs["grid_error_estimate"] = est
         summary = write_result_files(ds, sc, stage, figures=figures)
-        print(f"{sc.title}")
-        print(summary_table(summary))
+        from .screens import fit_text, screen_width
+
+        width = screen_width()
+        print(fit_text(sc.title, width))
+        print(summary_table(summary))  # its width: screen_width(), as here
         if mask is not None:
             import json
 
@@ -195,7 +204,8 @@ def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set
             unc = run_uncertainty(sc, n_draws=uncertainty, out_dir=stage, shown_as=out_dir,
                                   changed=parse_set_options(set_items))
             _add_figures(stage, unc.figures)
-    print(with_caution(f"\nresults written to {out_dir}/ (result.nc, timeseries.csv, summary.json{', figures/' if figures else ''})"))
+    files = f"result.nc, timeseries.csv, summary.json{', figures/' if figures else ''}"
+    print(with_caution(fit_text(f"\nresults written to {out_dir}/ ({files})", width), width))
     return 0
 
 
@@ -250,6 +260,19 @@ def add_overwrite_option(p) -> None:
                         "folder is always replaced whole)")
 
 
+def _wrapped(text: str) -> str:
+    """A help description wrapped by hand (the verbs use RawDescriptionHelpFormatter for their examples)."""
+    import textwrap
+
+    return textwrap.fill(text, width=78)
+
+
+def add_set_option(p) -> None:
+    """``--set FIELD=VALUE`` of every verb that simulates one scenario (read by :func:`load_with_overrides`)."""
+    p.add_argument("--set", action="append", metavar="FIELD=VALUE",
+                   help="change a scenario field for this run, e.g. \"layers[1].thickness=40 um\" (repeatable)")
+
+
 def build_parser() -> argparse.ArgumentParser:
     from . import __version__
 
@@ -262,6 +285,9 @@ def build_parser() -> argparse.ArgumentParser:
     sub.required = True
 
     p = sub.add_parser("demo", help="run a bundled demo scenario", epilog=EXAMPLES["demo"],
+                       description=_wrapped("Simulate one of the bundled invented demo scenarios (default: the vent flap) and "
+                                   "write its results, summary and figures into an output folder; --list shows them, "
+                                   "--copy copies them to edit."),
                        formatter_class=argparse.RawDescriptionHelpFormatter)
     p.add_argument("--scenario", default="vent_flap", help="demo scenario name (default: vent_flap)")
     p.add_argument("--list", action="store_true", help="list the demo scenarios and exit")
@@ -272,14 +298,16 @@ def build_parser() -> argparse.ArgumentParser:
     p.set_defaults(func=cmd_demo)
 
     p = sub.add_parser("run", help="simulate a scenario file", epilog=EXAMPLES["run"],
+                       description=_wrapped("Simulate SCENARIO (light, photoreaction, heat, layered-beam mechanics) and write "
+                                   "result.nc, timeseries.csv, summary.json and figures into an output folder; print "
+                                   "the key numbers (peak bend, time to target, force, temperature)."),
                        formatter_class=argparse.RawDescriptionHelpFormatter)
     p.add_argument("scenario", help="scenario TOML file")
     p.add_argument("-o", "--output", help="output folder (default: actsim-out/<scenario name>)")
     p.add_argument("--no-figures", action="store_true", help="skip the PNG figures")
     p.add_argument("--engine", choices=("kernel", "reference"), default="kernel",
                    help="numba kernel (default) or the slow readable reference path")
-    p.add_argument("--set", action="append", metavar="FIELD=VALUE",
-                   help="change a scenario field for this run, e.g. \"layers[1].thickness=40 um\" (repeatable)")
+    add_set_option(p)
     p.add_argument("--uncertainty", type=int, metavar="N", default=0,
                    help="also draw N parameter sets from the scenario's [calibration] covariance and write 5-95 %% bands")
     p.add_argument("--yes", action="store_true",

@@ -11,17 +11,30 @@ from __future__ import annotations
 import sys
 from contextlib import contextmanager
 
+#: How long the first compile of the kernels usually takes on one core of a laptop [s] (measured, not a bound).
+TYPICAL_COMPILE_SECONDS = 20.0
 #: What a command prints on stderr when it starts compiling the kernels.
-COMPILE_NOTICE = "actsim: compiling the solver once for this machine (about 20 s); later runs start at once"
+COMPILE_NOTICE = (f"actsim: compiling the solver once for this machine (usually about {TYPICAL_COMPILE_SECONDS:.0f} s); "
+                  "later runs start at once")
+
+
+def _bar_wanted(stream) -> bool:
+    """A moving progress line only on a terminal, and never under CI."""
+    import os
+
+    return bool(getattr(stream, "isatty", lambda: False)()) and not os.environ.get("CI")
 
 
 @contextmanager
 def compile_notice(stream=None, *, package="actsim"):
-    """Within the block, print :data:`COMPILE_NOTICE` once when numba starts compiling an actsim function.
+    """Within the block, say on stderr when numba compiles an actsim function, how long it usually takes, and when done.
 
     Uses numba's event API (``numba:compile`` is announced only on a cache miss, just before the
     compiler runs), so a run whose kernels load from the cache prints nothing, and a run refused
-    for bad input before the kernel is called prints nothing either.
+    for bad input before the kernel is called prints nothing either. When it compiles: the line
+    :data:`COMPILE_NOTICE`, then (on a terminal, CI unset) a progress line on stderr with the time
+    spent against the usual :data:`TYPICAL_COMPILE_SECONDS`, and at the end of the block
+    ``actsim: solver compiled in N s``.
 
     Parameters
     ----------
@@ -30,23 +43,77 @@ def compile_notice(stream=None, *, package="actsim"):
     package : str, optional
         Only functions of this package count.
     """
+    import threading
+    import time
+
     from numba.core import event
+
+    out = stream if stream is not None else sys.stderr
 
     class Notice(event.Listener):
         shown = False
+        depth = 0
+        spent = 0.0  # compile time of finished compiles [s]
+        started = None
+        bar = None
 
-        def on_start(self, ev):
+        def _ours(self, ev):
             dispatcher = (ev.data or {}).get("dispatcher")
             module = getattr(getattr(dispatcher, "py_func", None), "__module__", None) or ""
-            if not self.shown and module.split(".")[0] == package:
+            return module.split(".")[0] == package
+
+        def elapsed(self):
+            return self.spent + (time.monotonic() - self.started if self.started is not None else 0.0)
+
+        def on_start(self, ev):
+            if not self._ours(ev):
+                return
+            if self.depth == 0:
+                self.started = time.monotonic()
+            self.depth += 1
+            if not self.shown:
                 self.shown = True
-                print(COMPILE_NOTICE, file=stream if stream is not None else sys.stderr, flush=True)
+                print(COMPILE_NOTICE, file=out, flush=True)
+                if _bar_wanted(out):
+                    from tqdm import tqdm
+
+                    self.bar = tqdm(total=TYPICAL_COMPILE_SECONDS, desc="compiling", file=out, leave=False,
+                                    bar_format="{desc}: {bar} {n:.0f} s of about {total:.0f} s")
+                    threading.Thread(target=self.tick, daemon=True).start()
 
         def on_end(self, ev):
-            pass
+            if not self._ours(ev) or self.depth == 0:
+                return
+            self.depth -= 1
+            if self.depth == 0 and self.started is not None:
+                self.spent += time.monotonic() - self.started
+                self.started = None
 
-    with event.install_listener("numba:compile", Notice()) as listener:
-        yield listener
+        def tick(self):
+            while self.bar is not None:
+                bar = self.bar
+                try:
+                    bar.n = min(self.elapsed(), 0.99 * bar.total) if self.elapsed() < bar.total else self.elapsed()
+                    if bar.n >= bar.total:
+                        bar.total = bar.n + 5.0  # slower than usual: the estimate moves on
+                    bar.refresh()
+                except Exception:
+                    return
+                time.sleep(0.25)
+
+        def done(self):
+            bar, self.bar = self.bar, None
+            if bar is not None:
+                bar.close()
+            if self.shown:
+                print(f"actsim: solver compiled in {self.elapsed():.0f} s", file=out, flush=True)
+
+    notice = Notice()
+    try:
+        with event.install_listener("numba:compile", notice) as listener:
+            yield listener
+    finally:
+        notice.done()
 
 
 def is_compiled(dispatcher):

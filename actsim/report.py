@@ -146,15 +146,15 @@ def _deg(rad) -> str:
     return _num(None) if rad is None else _num(math.degrees(float(rad)))
 
 
-def _quantity(x, unit) -> str:
-    """A SI value with a prefixed unit, as the check table prints it."""
+def _quantity(x, unit, difference=False) -> str:
+    """A SI value with a prefixed unit, as the check table prints it (a difference: a temperature stays in K)."""
     v = _float(x)
     if v is None:
         return "—" if x is None else str(x)
     try:
         from .checks.verdict import format_quantity
 
-        return format_quantity(v, str(unit)).replace("inf", "∞")
+        return format_quantity(v, str(unit), difference=difference).replace("inf", "∞")
     except Exception:  # formatting must never stop a report
         return f"{_num(v)} {unit}".strip()
 
@@ -796,7 +796,7 @@ def _check_rows(records, life_by_check):
         elif kind == "ratio":
             margin = _num(m, 3) + ("×" if math.isfinite(m) else "")
         else:
-            margin = _quantity(m, r["unit"])
+            margin = _quantity(m, r["unit"], difference=True)
         if r.get("validity"):
             validity.setdefault(str(r["validity"]), []).append(i)
         if r.get("note"):

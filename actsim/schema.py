@@ -68,7 +68,11 @@ class Table:
         if key in self.data:
             return self.data[key]
         if default is ...:
-            raise ActsimInputError(f"{self.field_path(key)}: required field is missing")
+            # a misspelt key is what usually hides a required one: name it
+            others = [k for k in self.data if isinstance(k, str) and k not in self.used]
+            hint = difflib.get_close_matches(key, others, n=1, cutoff=0.75)
+            extra = f"; did you mean '{key}' for '{hint[0]}'?" if hint else ""
+            raise ActsimInputError(f"{self.field_path(key)}: required field is missing{extra}")
         return default
 
     def quantity(self, key, kind, default=..., *, lo=None, hi=None, lo_open=False, hi_open=False):

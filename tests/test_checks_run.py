@@ -76,12 +76,12 @@ required_safety_factor = 2.0
 [checks.materials.film]
 yield_strength = "{ys} Pa"
 """)
-        r = by_name(res, "yield strength, layer 1 (film)")[0]
+        r = by_name(res, "von Mises stress vs yield strength, layer 1 (film)")[0]
         assert r.value == pytest.approx(peak, rel=1e-12)
         assert r.margin == pytest.approx(ys / peak, rel=1e-12)
         assert r.passed is ok
         # the layer without limits is reported, never silently passed
-        assert isinstance(by_name(res, "yield strength, layer 0 (sub)")[0], NotAssessed)
+        assert isinstance(by_name(res, "von Mises stress vs yield strength, layer 0 (sub)")[0], NotAssessed)
         # (the light check of this unshielded lamp fails over the default 8 h: leave it out here)
         assert any_failed([r for r in res if not r.check.startswith("light")]) is (not ok)
 
@@ -94,7 +94,7 @@ def test_plate_uses_plane_strain_von_mises():
     _, res, _ = checks(d, '[checks]\n[checks.materials.film]\nyield_strength = "50 MPa"\n', text=text)
     nu = 0.35  # film default Poisson ratio
     peak = float(np.abs(d["stress"].values[:, film_cells(d)]).max())
-    assert by_name(res, "yield strength, layer 1")[0].value == pytest.approx(peak * math.sqrt(1 - nu + nu * nu), rel=1e-12)
+    assert by_name(res, "von Mises stress vs yield strength, layer 1")[0].value == pytest.approx(peak * math.sqrt(1 - nu + nu * nu), rel=1e-12)
 
 
 # --------------------------------------------------------------------------- fatigue
@@ -136,7 +136,7 @@ def test_fatigue_life_hand_calculation_and_flip(ds):
 
 def test_fatigue_not_assessed_without_target(ds):
     _, res, _ = checks(ds, FATIGUE.format(n=1, ys="25 MPa", su="30 MPa", b=-0.1).replace("target_cycles = 1\n", ""))
-    assert isinstance(by_name(res, "fatigue, layer 1")[0], NotAssessed)
+    assert isinstance(by_name(res, "fatigue (damage vs allowed damage), layer 1")[0], NotAssessed)
 
 
 def test_stress_beyond_ultimate_fails_statically(ds):
@@ -171,7 +171,7 @@ def test_bad_checks_section_one_line(section, match):
 
 def test_limits_group_carries_source_and_validity(ds):
     _, res, _ = checks(ds, '[checks]\n[checks.materials.film]\nlimits = "generic_glassy_network"\n')
-    r = by_name(res, "yield strength, layer 1")[0]
+    r = by_name(res, "von Mises stress vs yield strength, layer 1")[0]
     assert "from memory" in r.source and "temperature" in r.validity
     assert "temperature not modelled" in r.note  # the validity range could not be checked: said so
 
@@ -311,7 +311,7 @@ def test_write_checks_json_and_csv(ds, tmp_path):
     data = json.loads((tmp_path / names[0]).read_text())
     assert data["any_failed"] is True
     statuses = {rec["check"]: rec["status"] for rec in data["checks"]}
-    assert statuses["yield strength, layer 1 (film)"] == "fail"
+    assert statuses["von Mises stress vs yield strength, layer 1 (film)"] == "fail"
     assert "not assessed" in statuses.values()
     rows = (tmp_path / names[1]).read_text().strip().splitlines()
     assert len(rows) == len(res) + 1 and rows[0].startswith("check,status,value")
@@ -363,7 +363,7 @@ def test_plate_with_heat_adds_transverse_thermal_stress():
     d = simulate(parse_scenario(text))
     assert float(np.abs(d["stress"].values).max()) < 1.0  # sigma_x ~ 0 Pa
     _, res, det = checks(d, '[checks]\n[checks.materials.film]\nyield_strength = "1.5 MPa"\n', text=text)
-    r = by_name(res, "yield strength, layer 0 (film)")[0]
+    r = by_name(res, "von Mises stress vs yield strength, layer 0 (film)")[0]
     assert r.value == pytest.approx(1e9 * 1e-4 * 20.0, rel=1e-6)
     assert r.passed is False and "E alpha (T - T_ref)" in det["stress"]["state"]
 
@@ -394,7 +394,7 @@ def test_tip_force_stress_homogeneous_strip_hand_calculation():
         alpha_l = F * L**2 / (1e9 * b * h**3 / 12)
         assert m == pytest.approx(F * L * (1 - alpha_l**2 / 15), rel=2e-6)
         hand = 6.0 * m / (b * h * h) * (1.0 - 1.0 / n)
-        r = by_name(res, "yield strength, layer 0 (film)")[0]
+        r = by_name(res, "von Mises stress vs yield strength, layer 0 (film)")[0]
         assert r.value == pytest.approx(hand, rel=1e-9)
         assert r.passed is ok and "tip-loaded state" in r.note
     assert hand == pytest.approx(73.1e3, rel=1e-3)  # 6 * 1e-8 N m / (2e-3 m * 4e-10 m^2) * 0.975 = 73.1 kPa (3 figures)
@@ -407,7 +407,7 @@ def test_tip_force_enters_strength_without_elastica_blocked_force():
     d = simulate(parse_scenario(text))
     _, res, det = checks(d, '[checks]\ntip_force = "1e-6 N"\n[checks.materials.film]\nyield_strength = "0.05 MPa"\n',
                          text=text, elastica=False)
-    assert "tip_load" in det["actuation"] and by_name(res, "yield strength, layer 0 (film)")[0].passed is False
+    assert "tip_load" in det["actuation"] and by_name(res, "von Mises stress vs yield strength, layer 0 (film)")[0].passed is False
 
 
 def test_joint_stack_of_strips_plausibility(ds):
@@ -516,6 +516,6 @@ def test_registry_runs_joint_checks_only_with_a_joint_section(ds):
     names = [r.check for r in res]
     first_joint = next(i for i, n in enumerate(names) if n.startswith("joint moment"))
     assert names[first_joint + 1].startswith("joint stack of 1 strip")
-    assert all(n.startswith(("yield", "fatigue")) for n in names[:first_joint])
+    assert all(n.startswith(("von Mises", "fatigue")) for n in names[:first_joint])
     assert all(n.startswith(("light", "photobiological", "skin")) for n in names[first_joint + 2:])
     assert list(det)[:5] == ["title", "required_safety_factor", "actuation", "joint", "stress"]

@@ -253,9 +253,12 @@ def test_format_quantity_readable_units():
     assert tradeoff.format_quantity("365 nm LED", "") == "365 nm LED"
 
 
-def test_cli_pareto_says_how_many_rows_are_not_printed(tmp_path, capsys):
+def test_cli_pareto_front_is_marked_in_the_ranked_table(tmp_path, capsys):
     # 16 thicknesses that all reach 10 deg: a thicker film is slower but pushes harder at the target angle
     # (F = 3 EI theta / (2 L^2) with EI growing as h^3), so every design is on the front (Deb 2001, ch. 2).
+    # A sweep of at most 20 designs prints every design, ranked, each on the front marked P.
+    import re
+
     from actsim.cli import main
 
     scen = tmp_path / "s.toml"
@@ -268,9 +271,12 @@ def test_cli_pareto_says_how_many_rows_are_not_printed(tmp_path, capsys):
 
     pf = json.loads((tmp_path / "o" / "pareto.json").read_text())
     n = pf["n_on_front"]
-    assert n > 12
-    assert sum(1 for line in out.splitlines() if line.startswith("    layers[film].thickness = ")) == 12
-    assert f"    ... {n - 12} more in pareto.json" in out
+    assert n == 16
+    rows = [line for line in out.splitlines() if re.match(r"^\s+\d+\*?P\s+\d+(\.\d+)? um\s", line)]
+    assert len(rows) == 16
+    assert f"P on the Pareto front of time to target vs force ({n} designs)" in " ".join(out.split())
+    # fastest first: the thinnest film (8 um) wins
+    assert re.match(r"^\s+1\*P\s+8 um\s", rows[0])
 
 
 def test_cli_heatmap_refused_when_it_cannot_be_drawn(tmp_path, capsys):

@@ -200,8 +200,9 @@ class FitResult:
         head = ("parameter", "value", "std. error", f"{pct} CI low", f"{pct} CI high", "unit")
         rows = []
         for i, n in enumerate(self.names):
-            rows.append((n, _fmt(self.values[i]), _fmt(self.standard_errors[i]), _fmt(self.ci_low[i]),
-                         _fmt(self.ci_high[i]), self.units[i]))
+            scale, offset, unit = _display_unit(n, self.units[i], self.values[i])
+            rows.append((n, _fmt(self.values[i] * scale + offset), _fmt(self.standard_errors[i] * scale),
+                         _fmt(self.ci_low[i] * scale + offset), _fmt(self.ci_high[i] * scale + offset), unit))
         widths = [max(len(r[k]) for r in [head] + rows) for k in range(len(head))]
         lines = ["  ".join(c.ljust(w) for c, w in zip(head, widths)).rstrip()]
         lines.append("  ".join("-" * w for w in widths))
@@ -249,6 +250,22 @@ class FitResult:
             "message": str(self.message),
             "warnings": list(self.warnings),
         }
+
+
+def _display_unit(name: str, unit: str, value) -> tuple[float, float, str]:
+    """(scale, offset, unit) that show a fitted value as a person reads it: Pa in kPa/MPa/GPa, a temperature in degC.
+
+    A temperature difference (a name with "width" or "difference") stays in K; the standard error
+    is scaled but never offset.
+    """
+    v = abs(float(value)) if math.isfinite(float(value)) else 0.0
+    if unit == "Pa":
+        for lim, scale, u in ((1e9, 1e-9, "GPa"), (1e6, 1e-6, "MPa"), (1e3, 1e-3, "kPa")):
+            if v >= lim:
+                return scale, 0.0, u
+    if unit == "K" and not any(w in name for w in ("width", "difference")):
+        return 1.0, -273.15, "degC"
+    return 1.0, 0.0, unit
 
 
 def _fmt(v) -> str:

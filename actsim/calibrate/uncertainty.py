@@ -384,7 +384,6 @@ def run_uncertainty(scenario, *, n_draws, out_dir, seed=0, engine="kernel", quie
     .. [1] JCGM 101:2008, *Propagation of distributions using a Monte Carlo method*, BIPM, 2008.
     """
     from .. import io
-    from ..cautions import with_caution
 
     cal = _calibration(scenario)
     res = prediction_bands(scenario, n_draws=n_draws, seed=seed, engine=engine)
@@ -406,5 +405,7 @@ def run_uncertainty(scenario, *, n_draws, out_dir, seed=0, engine="kernel", quie
                      f"{lo_i:.5g}..{hi_i:.5g} deg (width {hi_i - lo_i:.3g} deg)")
         lines.append(f"uncertainty bands written to {shown_as or out}/ (uncertainty.nc, uncertainty.csv, "
                      "figures/uncertainty_bend_angle.png)")
-        print(with_caution("\n".join(lines)))
+        from ..screens import fit_text
+
+        print(fit_text("\n".join(lines)))  # the command that called this prints the caution, once
     return res

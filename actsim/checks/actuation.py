@@ -100,7 +100,7 @@ def actuation_state(scenario, ds, cs: CheckSettings, *, elastica: bool, budget=N
             out["tip_load_not_solved"] = reason
             out["notes"].append(f"shape under checks.tip_force not solved: {reason}")
     if not elastica:
-        out["notes"].append("large-deflection (elastica) blocked force not computed (elastica=False)")
+        out["notes"].append("large-deflection (elastica) blocked force and load line skipped (--no-elastica)")
         return out
     force = np.full(times.size, np.nan)
     cache: dict = {}

@@ -421,12 +421,12 @@ def _hazard_result(h: Hazard, *, peak, mean, total_t, permissible_time, extra_no
     if mean is None or h.rate is None:
         span = f"{total_t:.4g} s" if total_t <= h.window else f"any {h.window:g} s"
         r = CheckResult.upper_bound(
-            check=f"{h.label}, dose over {span}", value=peak, limit=dose.value, unit=dose.unit,
+            check=f"{h.label} over {span} vs exposure limit", value=peak, limit=dose.value, unit=dose.unit,
             source=h.source, validity=h.validity,
         )
     else:
         r = CheckResult.upper_bound(
-            check=f"{h.label}, highest mean over any window >= {h.rate.window:g} s", value=mean, limit=h.rate.value,
+            check=f"{h.label}, highest mean over >= {h.rate.window:g} s vs exposure limit", value=mean, limit=h.rate.value,
             unit=h.rate.unit, source=h.source, validity=h.validity,
         )
         notes.append(f"peak dose in any {h.window:g} s window {peak:.4g} {dose.unit} (limit {dose.value:g})")

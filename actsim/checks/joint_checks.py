@@ -186,7 +186,7 @@ def stack_check(js, n: int, jd: dict) -> CheckResult:
         note += (f"; the design is not plausible as a stack of strips ({' and '.join(reasons)}): "
                  "raise the strips' moment (curvature, thickness, width) or change the joint")
     return CheckResult.upper_bound(
-        check=f"joint stack of {n} strip{'s' if n != 1 else ''} ({js.mounting}): total thickness", value=stack,
+        check=f"joint stack of {n} strip{'s' if n != 1 else ''} ({js.mounting}): thickness vs plausible stack", value=stack,
         limit=limit, unit="m", source="plausibility of a stack of thin strips (common practice, no source)",
         validity="strips modelled as independent thin strips bending side by side", note=note,
     )
@@ -200,7 +200,7 @@ def joint_check(ctx: CheckContext) -> CheckOutput:
     """
     js, act, sizing = ctx.joint_settings, ctx.actuation, ctx.joint
     if sizing.unavailable:
-        return CheckOutput([NotAssessed("joint moment (lever)", sizing.unavailable)])
+        return CheckOutput([NotAssessed("joint moment (lever): payload vs strips", sizing.unavailable)])
     jd = sizing.details
     sf = jd["safety_factor"]
     phi, m_req, m1 = jd["angle"], jd["required_moment"], jd["moment_per_strip"]
@@ -217,7 +217,7 @@ def joint_check(ctx: CheckContext) -> CheckOutput:
         why = (f"the free bend {math.degrees(free):.4g} deg is less than the travel to {math.degrees(phi[i]):.4g} deg"
                if free is not None else f"the strip tips lose contact with the lever before {math.degrees(phi[i]):.4g} deg")
         return CheckOutput([CheckResult.upper_bound(
-            check="joint moment (no number of strips reaches the end angle)", value=float(m_req[i]), limit=0.0, unit="N m",
+            check="joint moment: payload vs strips (no number of strips reaches the end angle)", value=float(m_req[i]), limit=0.0, unit="N m",
             source=source, validity=validity, required_margin=sf,
             note=f"{why}: no number of strips lifts the payload there; lengthen the hinge or raise the curvature",
         )])
@@ -229,7 +229,7 @@ def joint_check(ctx: CheckContext) -> CheckOutput:
     if not np.any(need):
         note += "; gravity drives the joint at every angle: it needs a stop or a brake"
     moment = CheckResult.upper_bound(
-        check=f"joint moment, {n} strip{'s' if n != 1 else ''} ({js.mounting})", value=max(float(m_req[g]), 0.0),
+        check=f"joint moment, {n} strip{'s' if n != 1 else ''} ({js.mounting}): payload vs strips' moment", value=max(float(m_req[g]), 0.0),
         limit=max(float(avail[g]), 0.0), unit="N m", source=source, validity=validity, required_margin=sf, note=note,
     )
     return CheckOutput([moment, stack_check(js, n, jd)])

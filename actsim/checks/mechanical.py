@@ -305,7 +305,7 @@ def yield_check(ctx: CheckContext) -> CheckOutput:
     cells = np.flatnonzero(ctx.layers == k)
     lim = cs.materials.get(layer.material.name)
     if lim is None or lim.yield_strength is None:
-        return CheckOutput([NotAssessed(f"yield strength, {label}",
+        return CheckOutput([NotAssessed(f"von Mises stress vs yield strength, {label}",
                                         f"no yield strength for material '{layer.material.name}' in [checks.materials]")])
     tip_ins = sh.tip_index
     per_time_c = np.abs(sh.equivalent[:, cells]).max(axis=1)
@@ -321,9 +321,9 @@ def yield_check(ctx: CheckContext) -> CheckOutput:
     if tip_ins is not None:  # the time index of stress_check counts the inserted state
         r = dataclasses.replace(r, note=r.note.replace("at time index", "at history index"))
     note = "; ".join(x for x in (f"{sh.how}; {at}", sh.tip_how, r.note, t_note) if x)
-    out = [dataclasses.replace(r, check=f"yield strength, {label}", note=note)]
+    out = [dataclasses.replace(r, check=f"von Mises stress vs yield strength, {label}", note=note)]
     if sh.tip_reason:
-        out.append(NotAssessed(f"yield strength under checks.tip_force, {label}",
+        out.append(NotAssessed(f"von Mises stress under checks.tip_force vs yield strength, {label}",
                                f"the tip-loaded stress could not be formed: {sh.tip_reason}",
                                source=r.source, validity=r.validity))
     return CheckOutput(out)
@@ -346,13 +346,13 @@ def fatigue_check(ctx: CheckContext) -> CheckOutput:
     lim = cs.materials.get(layer.material.name)
     eq_c, tip_ins, stress_how = sh.equivalent, sh.tip_index, sh.how
     results = []
-    flabel = f"fatigue, {label}"
+    flabel = f"fatigue (damage vs allowed damage), {label}"
     if lim is None or lim.fatigue_strength_coefficient is None:
         return CheckOutput([NotAssessed(flabel, f"no Basquin constants for material '{layer.material.name}' in [checks.materials]")])
     if cs.target_passes is None:
         return CheckOutput([NotAssessed(flabel, "no target_cycles in [checks]")])
     if sh.tip_reason:
-        results.append(NotAssessed(f"fatigue under checks.tip_force, {label}",
+        results.append(NotAssessed(f"fatigue (damage) under checks.tip_force vs allowed damage, {label}",
                                    f"the tip-loaded stress could not be formed: {sh.tip_reason}"))
     rng = eq_c[:, cells].max(axis=0) - eq_c[:, cells].min(axis=0)
     c = int(cells[int(np.argmax(rng))])
@@ -368,7 +368,7 @@ def fatigue_check(ctx: CheckContext) -> CheckOutput:
         # the simulated stress itself reaches the ultimate strength: the design fails statically,
         # before any fatigue (a failing check, not bad input)
         results.append(CheckResult.upper_bound(
-            check=f"{flabel}: static failure", value=peak, limit=float(u_val), unit="Pa",
+            check=f"fatigue: peak stress vs ultimate strength (static failure), {label}", value=peak, limit=float(u_val), unit="Pa",
             source=getattr(u_lim, "source", "material limits"), validity=getattr(u_lim, "validity", ""),
             note=f"the cyclic stress at {label} reaches the ultimate strength; no fatigue life is computed",
         ))
@@ -402,7 +402,7 @@ def fatigue_check(ctx: CheckContext) -> CheckOutput:
         if cs.cycles_per_protocol != 1.0 and life[m_key] <= hi and math.isfinite(life[m_key]):
             shown += f" ({fr.passes_to_failure[m_key]:.4g} runs of the protocol)"
         note = r.note.replace(raw, shown) if raw in r.note else "; ".join((r.note, shown))
-        results.append(dataclasses.replace(r, check=f"fatigue damage ({meth}), {label}",
+        results.append(dataclasses.replace(r, check=f"fatigue damage ({meth}) vs allowed damage, {label}",
                                            note="; ".join(x for x in (note, where, t_note) if x)))
     return CheckOutput(results, {
         "critical_cell": c,

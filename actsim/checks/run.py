@@ -55,6 +55,7 @@ from __future__ import annotations
 import csv
 import dataclasses
 import math
+import re
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Callable
@@ -62,7 +63,6 @@ from typing import Callable
 import numpy as np
 
 from .. import io
-from ..cautions import caution_lines
 from ..errors import ActsimInputError
 from .actuation import actuation_state, elastica_check
 from .context import CheckContext, CheckOutput, layer_index
@@ -73,7 +73,8 @@ from .settings import CheckSettings, SafetySettings
 from .verdict import NotAssessed, format_margin, format_quantity
 
 __all__ = ["NotAssessed", "RegisteredCheck", "REGISTRY", "build_context", "dispatch", "run_checks", "format_results",
-           "write_checks", "any_failed", "CHECKS_JSON", "CHECKS_CSV"]
+           "write_checks", "any_failed", "tightest", "verdict_line", "VERDICT_WORDS", "CHECKS_JSON",
+           "CHECKS_CSV"]
 
 CHECKS_JSON = "checks.json"
 CHECKS_CSV = "checks.csv"
@@ -309,34 +310,156 @@ def _jsonable(x):
     return x
 
 
-def format_results(results, *, width: int = 100) -> str:
-    """Verdict table (check, value, limit, margin, verdict, source), notes, and the caution."""
-    header = ("check", "value", "limit", "margin", "verdict", "source")
-    rows, notes = [], []
-    for r in results:
+#: Check-name prefix that heads a group of rows on the screen (the rest of the name is the row's text).
+_GROUP_PREFIXES = ("light at the exposure position: ",)
+_LAYER = re.compile(r", (layer \d+ \([^)]*\))")
+#: Short verdict words of the screen's table (the files and the report keep the full wording).
+#: Note clauses the screen leaves out because the row's own text says it (the files keep them).
+_SCREEN_SKIP = ("mean-stress correction with Basquin life and Palmgren-Miner sum",)
+VERDICT_WORDS = {"pass": "within limit", "fail": "EXCEEDS limit", "short": "short of margin", "na": "not assessed"}
+
+
+def _group_of(check: str) -> tuple[str, str]:
+    """(heading, row text) of a check name: its layer, the light at the exposure position, the joint ..."""
+    for prefix in _GROUP_PREFIXES:
+        if check.startswith(prefix):
+            return prefix.rstrip(": "), check[len(prefix):]
+    m = _LAYER.search(check)
+    if m:
+        return m.group(1), (check[: m.start()] + check[m.end():]).strip()
+    for word, heading in (("joint", "joint"), ("skin", "skin contact"), ("large-deflection", "actuation")):
+        if check.startswith(word):
+            return heading, check
+    return "other checks", check
+
+
+def _clauses(text: str) -> list[str]:
+    """A note split at "; " outside brackets."""
+    out, depth, cur = [], 0, []
+    i = 0
+    while i < len(text):
+        ch = text[i]
+        if ch in "([":
+            depth += 1
+        elif ch in ")]" and depth > 0:
+            depth -= 1
+        if depth == 0 and text.startswith("; ", i):
+            out.append("".join(cur).strip())
+            cur = []
+            i += 2
+            continue
+        cur.append(ch)
+        i += 1
+    out.append("".join(cur).strip())
+    return [c for c in out if c]
+
+
+def _status(r) -> str:
+    if isinstance(r, NotAssessed) or r.passed is None:
+        return "na"
+    if r.passed:
+        return "pass"
+    return "fail" if r.exceeds_limit else "short"
+
+
+def tightest(results):
+    """The assessed result with the smallest margin relative to what it must reach, and its row number (1-based).
+
+    Ratios are compared as they are; a difference margin (a temperature) as ``margin / limit``.
+    Returns (None, None) when nothing was assessed.
+    """
+    best, row, key = None, None, math.inf
+    for i, r in enumerate(results, start=1):
+        if isinstance(r, NotAssessed) or r.passed is None:
+            continue
+        k = r.margin if r.margin_kind == "ratio" else (1.0 + r.margin / abs(r.limit) if r.limit else r.margin)
+        if k < key:
+            best, row, key = r, i, k
+    return best, row
+
+
+def verdict_line(results, *, strict: bool = False) -> str:
+    """The answer of a check run in one line: the verdict, the exit status, the tightest margin and its row."""
+    failed = any_failed(results)
+    na = any(r.passed is None for r in results)
+    if failed:
+        text = "verdict: at least one check exceeds its modelled limit or misses its required margin (exit status 1)"
+    elif strict and na:
+        text = "verdict: at least one check was not assessed and --strict was given (exit status 1)"
+    else:
+        text = "verdict: every assessed check is within its modelled limit (exit status 0)"
+    r, i = tightest(results)
+    if r is not None:
+        _, what = _group_of(r.check)
+        text += f"; tightest margin {format_margin(r)} in row {i} ({what.split(' vs ')[0]})"
+    return text
+
+
+def format_results(results, *, width: int | None = None) -> str:
+    """The check table that fits the screen, its notes once, and the count (no caution: the command prints it).
+
+    One row per check: number, quantity vs criterion, value, limit, margin, verdict; rows under a
+    heading per layer or concern. The sources of the limits and the notes follow once each, with the
+    rows they belong to; the full text of every row is in ``checks.json`` / ``checks.csv``.
+
+    Parameters
+    ----------
+    results : list of CheckResult and NotAssessed
+    width : int, optional
+        Widest line [characters] (default: :func:`actsim.screens.screen_width`).
+
+    Returns
+    -------
+    str
+    """
+    from ..screens import row_ranges, screen_width, table, wrap
+
+    width = width or screen_width()
+    header = ("#", "check: quantity vs criterion", "value", "limit", "margin", "verdict")
+    rows, groups = [], []
+    sources: dict[str, list[int]] = {}
+    clauses: dict[str, list[int]] = {}
+    for i, r in enumerate(results, start=1):
+        group, text = _group_of(r.check)
+        groups.append(group)
+        st = _status(r)
         if isinstance(r, NotAssessed):
-            rows.append((r.check, "-", "-", "-", "not assessed", r.source or "-"))
-            notes.append(r.reason)
+            rows.append((str(i), text, "-", "-", "-", VERDICT_WORDS[st]))
+            note = f"not assessed: {r.reason}"
         else:
-            src = r.source if len(r.source) <= 72 else r.source[:69] + "..."
-            rows.append((r.check, format_quantity(r.value, r.unit), format_quantity(r.limit, r.unit), format_margin(r),
-                         r.verdict_short, src))
-            notes.append(r.note)
-    widths = [max(len(h), *(len(row[i]) for row in rows)) if rows else len(h) for i, h in enumerate(header)]
-
-    def line(cells):
-        return "  ".join(c.ljust(w) for c, w in zip(cells, widths)).rstrip()
-
-    out = [line(header), line(tuple("-" * w for w in widths)), *[line(row) for row in rows]]
-    listed = [(i + 1, n) for i, n in enumerate(notes) if n]
-    if listed:
-        out.append("")
-        out += [f"[{i}] {n}" for i, n in listed]
+            rows.append((str(i), text, format_quantity(r.value, r.unit), format_quantity(r.limit, r.unit),
+                         format_margin(r), VERDICT_WORDS[st]))
+            note = r.note
+        if r.source:
+            sources.setdefault(r.source, []).append(i)
+        for c in _clauses(note or ""):
+            if c.startswith(("within the modelled limit of", "exceeds the modelled limit of")) and ":" not in c:
+                continue  # the verdict column and the sources say it
+            clauses.setdefault(c, []).append(i)
+    out = table(header, rows, width=width, flex=1, align="rlrrrl", groups=groups)
+    if sources:
+        out += ["", "limits from:"]
+        for s, ns in sources.items():
+            out += wrap(f"[{row_ranges(ns)}] {s}", width, indent="  ")
+    # notes once: clauses shared by several rows, and every clause of a row that does not pass; the
+    # notes of a single passing row (its time and cell of the peak ...) are left to the files
+    passing = {i for i, r in enumerate(results, start=1) if r.passed is True}
+    by_rows: dict[tuple, list[str]] = {}
+    for c, ns in clauses.items():
+        if (len(ns) > 1 or not passing.issuperset(ns)) and not c.endswith(_SCREEN_SKIP):
+            by_rows.setdefault(tuple(ns), []).append(c)
+    left = any(len(ns) == 1 and ns[0] in passing for ns in clauses.values())
+    if by_rows or left:
+        out += ["", "notes:"]
+        for ns, cs in by_rows.items():
+            out += wrap(f"[{row_ranges(ns)}] " + "; ".join(cs), width, indent="  ")
+        if left:
+            out += wrap(f"notes of single rows that pass: {CHECKS_CSV} (column note)", width, indent="  ")
     n_fail = sum(r.passed is False for r in results)
     n_na = sum(isinstance(r, NotAssessed) for r in results)
     n_pass = sum(r.passed is True for r in results)
-    out += ["", f"{n_pass} within the modelled limit, {n_fail} not, {n_na} not assessed (full sources in {CHECKS_JSON})",
-            "", *caution_lines(width)]
+    out += [""] + wrap(f"{n_pass} within the modelled limit, {n_fail} not, {n_na} not assessed (full text of "
+                       f"every row, validity and details in {CHECKS_JSON} and {CHECKS_CSV})", width)
     return "\n".join(out)
 
 

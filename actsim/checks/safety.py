@@ -168,7 +168,7 @@ def skin_check(ctx: CheckContext) -> CheckOutput:
     name = f"surface_temperature_{ss.skin_face}"
     label = f"skin contact temperature, {ss.skin_face} face"
     if name not in ds:
-        return CheckOutput([NotAssessed(label, f"temperature not modelled in this scenario (no {name} in the result); "
+        return CheckOutput([NotAssessed(f"{label} vs skin-contact limit", f"temperature not modelled in this scenario (no {name} in the result); "
                                                "add the heat model to assess skin contact",
                                         source="IEC 60601-1 / ISO 13732-1")], {"assessed": False})
     temp = ds[name].values
@@ -176,6 +176,6 @@ def skin_check(ctx: CheckContext) -> CheckOutput:
     dur = ss.contact_duration or ss.exposure_duration or scenario.duration
     r = skin_contact_check(peak_surface_temperature=peak, contact_duration=dur, material_class=ss.skin_material_class,
                            standard=ss.skin_standard)
-    r = dataclasses.replace(r, check=f"{label}: {r.check}")
+    r = dataclasses.replace(r, check=f"{label} vs skin-contact limit" + r.check.removeprefix("skin contact temperature"))
     return CheckOutput([r], {"assessed": True, "peak_surface_temperature": peak, "contact_duration": dur,
                              "time_of_peak": float(ds["time"].values[int(np.argmax(temp))])})

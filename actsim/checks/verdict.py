@@ -210,19 +210,25 @@ class NotAssessed:
         return f"not assessed: {self.reason}"
 
 
-_PREFIXED_UNITS = ("Pa", "N", "W", "J")
+_PREFIXED_UNITS = ("Pa", "N", "W", "J", "N m")
 _PREFIXES = ((1e9, "G"), (1e6, "M"), (1e3, "k"), (1.0, ""), (1e-3, "m"), (1e-6, "µ"))
+_LENGTHS = ((1.0, 1.0, "m"), (1e-3, 1e3, "mm"), (1e-6, 1e6, "um"), (0.0, 1e9, "nm"))
 
 
-def format_quantity(x: float, unit: str) -> str:
-    """A value with its SI unit for a table: 4 significant digits, an SI prefix for Pa, N, W and J.
+def format_quantity(x: float, unit: str, *, difference: bool = False) -> str:
+    """A value for a check table in the units a person reads: 4 significant digits.
+
+    An SI prefix for Pa, N, N m, W and J; a length in m, mm, um or nm; a temperature (K) in degC, a
+    temperature difference in K.
 
     Parameters
     ----------
     x : float
         The value [unit].
     unit : str
-        Its unit (``""`` or ``"1"``: dimensionless, printed bare).
+        Its SI unit (``""`` or ``"1"``: dimensionless, printed bare).
+    difference : bool, optional
+        ``x`` is a difference (a margin): a temperature difference stays in K.
 
     Returns
     -------
@@ -234,11 +240,21 @@ def format_quantity(x: float, unit: str) -> str:
     '25 MPa'
     >>> format_quantity(0.0125, "1")
     '0.0125'
+    >>> format_quantity(310.15, "K")
+    '37 degC'
+    >>> format_quantity(0.0015, "m")
+    '1.5 mm'
     """
     if not math.isfinite(x):
         return f"{x} {unit}".rstrip() if unit not in ("", "1") else f"{x}"
     if unit in ("", "1"):
         return f"{x:.4g}"
+    if unit == "K" and not difference:
+        return f"{x - 273.15:.4g} degC"
+    if unit == "m" and x != 0:
+        for lim, scale, u in _LENGTHS:
+            if abs(x) >= lim:
+                return f"{x * scale:.4g} {u}"
     if unit in _PREFIXED_UNITS and x != 0:
         ax = abs(x)
         for scale, p in _PREFIXES:
@@ -252,7 +268,7 @@ def format_margin(r: CheckResult) -> str:
     """The margin of a result for a table: a ratio to 3 digits (``inf`` when unbounded), a difference with its unit."""
     if r.margin_kind == "ratio":
         return "inf" if math.isinf(r.margin) else f"{r.margin:.3g}"
-    return format_quantity(r.margin, r.unit)
+    return format_quantity(r.margin, r.unit, difference=True)
 
 
 def format_table(results: Iterable[CheckResult]) -> str:

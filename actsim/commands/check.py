@@ -14,6 +14,7 @@ from pathlib import Path
 EPILOG = """example:
   actsim check scenarios/gripper_hinge_check.toml -o out/hinge
   actsim check my.toml --no-figures --strict && echo "within the modelled limits"
+  actsim check scenarios/gripper_hinge_check.toml --set "joint.payload_mass=8 g" -o out/hinge8
 
 exit status: 0 all checks within the modelled limits, 1 a check is not, 2 bad input.
 The scenario's [checks], [safety] and [joint] sections are described in docs/checks.md."""
@@ -97,13 +98,14 @@ def cmd_check(args) -> int:
     from ..errors import ActsimInputError
     from ..folders import result_folder
     from ..results import write_result_files
-    from ..scenario import load_scenario
     from ..solver import simulate
 
     from ..elastica import SolveBudget
 
     budget = SolveBudget(time_limit=_time_limit(args.elastica_time_limit))  # a bad option is refused before any work
-    sc = load_scenario(args.scenario)
+    from ..cli import load_with_overrides
+
+    sc = load_with_overrides(args.scenario, args.set)
     for read_section in (checks_settings, safety_settings, joint_settings):
         read_section(sc)  # a bad [checks], [safety] or [joint] field is refused before the simulation
     out = Path(args.output or (Path("actsim-out") / (Path(args.scenario).stem + "-check")))
@@ -132,22 +134,22 @@ def cmd_check(args) -> int:
 
             write_netcdf(lines, stage / "load_lines.nc")
             extra_files = ", load_lines.nc"
-    print(sc.title)
-    print("\n".join(_actuation_lines(details)))
-    print()
-    print(format_results(results))
-    print(f"\nresults written to {out}/ (result.nc, timeseries.csv, summary.json, checks.json, checks.csv"
-          f"{extra_files}{', figures/' if not args.no_figures else ''})")
+    from ..cautions import with_caution
+    from ..checks.run import verdict_line
+    from ..screens import screen_width, wrap
+
+    width = screen_width()
+    screen = wrap(sc.title, width)
+    screen += wrap(verdict_line(results, strict=args.strict), width)
+    for line in _actuation_lines(details):
+        screen += wrap(line.strip(), width, indent="  ")
+    screen += ["", format_results(results, width=width), ""]
+    screen += wrap(f"results written to {out}/ (result.nc, timeseries.csv, summary.json, checks.json, checks.csv"
+                  f"{extra_files}{', figures/' if not args.no_figures else ''})", width)
+    print(with_caution("\n".join(screen), width))
     failed = any_failed(results)
     not_assessed = any(r.passed is None for r in results)
-    if failed:
-        print("verdict: at least one check exceeds its modelled limit or misses its required margin (exit status 1)")
-        return 1
-    if args.strict and not_assessed:
-        print("verdict: at least one check was not assessed and --strict was given (exit status 1)")
-        return 1
-    print("verdict: every assessed check is within its modelled limit (exit status 0)")
-    return 0
+    return 1 if failed or (args.strict and not_assessed) else 0
 
 
 def register(subparsers) -> None:
@@ -169,7 +171,8 @@ def register(subparsers) -> None:
                    help="wall-time limit of the large-deflection solves together (default 20 s; inf: none); what "
                         "it does not reach is reported 'not assessed'")
     p.add_argument("--strict", action="store_true", help="exit 1 also when a check could not be assessed")
-    from ..cli import add_overwrite_option
+    from ..cli import add_overwrite_option, add_set_option
 
+    add_set_option(p)
     add_overwrite_option(p)
     p.set_defaults(func=cmd_check)

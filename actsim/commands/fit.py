@@ -432,8 +432,8 @@ def run_demo(out: Path) -> str:
 # ----------------------------------------------------------------------------------------------
 
 def cmd_fit(args) -> int:
-    from ..cautions import with_caution
     from ..folders import result_folder
+    from ..screens import fit_text, screen_width
 
     final = Path(args.output or Path("actsim-out") / f"fit-{args.kind}")
     conf = args.confidence
@@ -455,9 +455,11 @@ def cmd_fit(args) -> int:
     # one transaction: the folder holds this fit's files only, or is left as it was
     with result_folder(final, kind="fit", overwrite=args.overwrite) as out:
         text, files = _fit_into(args, out, final, conf)
-    print(text)
+    width = screen_width()
     names = ", ".join(str(Path(f).relative_to(out)) if Path(f).is_relative_to(out) else str(f) for f in files)
-    print(with_caution(f"\nfit results written to {final}/ ({names})"))
+    # no caution here: a fit reads measured data and writes parameters; it lights, heats or loads nothing.
+    # The run that uses the fitted values prints it.
+    print(fit_text(f"{text}\n\nfit results written to {final}/ ({names})", width))
     return 0
 
 

@@ -24,11 +24,12 @@ example:
 
 
 def cmd_report(args) -> int:
-    from ..cautions import with_caution
     from ..report import write_report
+    from ..screens import fit_text
 
     path = write_report(args.result_dir, args.output)
-    print(with_caution(f"report written to {path}"))
+    # the caution is on the report's first screen; the command that made the folder printed it already
+    print(fit_text(f"report written to {path}"))
     return 0
 
 

@@ -263,27 +263,27 @@ def _sweep_into(args, out, final, work, checked) -> int:
     figures = []  # records of the figures drawn (file, title, caption), kept in summary.json
     dims = [d for d in ds["status"].dims if d != "design"]
     has_target = "time_to_target" in ds
-    print(f"{sc.title}: {ds.attrs['n_designs']} designs ({sampling})"
-          + (f", {ds.attrs['n_invalid']} invalid" if ds.attrs["n_invalid"] else "")
-          + (f", {ds.attrs['n_failed']} failed" if ds.attrs["n_failed"] else ""))
+    from ..screens import display_quantity, screen_width, wrap
+    from ..study.ranking import design_table, field_words
+
+    width = screen_width()
+    head = f"{sc.title}: {ds.attrs['n_designs']} designs ({sampling})"
+    head += f", {ds.attrs['n_invalid']} invalid" if ds.attrs["n_invalid"] else ""
+    head += f", {ds.attrs['n_failed']} failed" if ds.attrs["n_failed"] else ""
     if has_target:
         n_reach = int(ds["reached_target"].sum())
-        print(f"  {n_reach} reach {math.degrees(target if target is not None else ds.attrs['target_bend_angle']):.4g} deg")
+        head += f"; {n_reach} reach {math.degrees(target if target is not None else ds.attrs['target_bend_angle']):.4g} deg"
+    screen = wrap(head, width)
     metric = args.heatmap or ("time_to_target" if has_target else "peak_bend_angle")
+    notes = []
     if len(dims) >= 2 and sampling == "grid":
         figures.append(tradeoff.heatmap(ds, metric, dims[0], dims[1], figs / f"heatmap_{metric}.png"))
         files.append(f"figures/heatmap_{metric}.png")
         if len(dims) > 2:
-            print(f"  heat map of {metric} over {dims[0]} and {dims[1]}; "
-                  f"{', '.join(map(str, dims[2:]))} at their first value")
+            notes.append(f"heat map of {metric} over {dims[0]} and {dims[1]}; "
+                         f"{', '.join(map(str, dims[2:]))} at their first value")
     force = tradeoff.FORCE_METRICS[args.force]
     flabel = tradeoff.force_label(force)
-    units = tradeoff.field_units(ds)
-
-    def shown(row, skip):
-        return ", ".join(f"{k} = {tradeoff.format_quantity(v, units.get(k, ''))}" for k, v in row.items()
-                         if k not in skip)
-
     if args.pareto:
         if not has_target:
             raise ActsimInputError("--pareto: needs a target bend angle (--target-angle or [report] target_bend_angle)")
@@ -294,13 +294,9 @@ def _sweep_into(args, out, final, work, checked) -> int:
                                             within=within if args.recommend else None, recommend_dim=rec_dim))
         write_json(out / "pareto.json", {k: v for k, v in pf.items() if k != "mask"})
         files += ["pareto.json", "figures/pareto.png"]
-        print(f"  Pareto front (time to target vs {flabel}): {pf['n_on_front']} designs; "
-              f"{pf['n_not_reaching']} never reach the target (excluded)")
-        for row in pf["table"][:PARETO_ROWS_SHOWN]:
-            print(f"    {shown(row, ('design', 'time_to_target', force))}: {row['time_to_target']:.3g} s, "
-                  f"{tradeoff.format_quantity(row[force], 'N')}")
-        if pf["n_on_front"] > PARETO_ROWS_SHOWN:
-            print(f"    ... {pf['n_on_front'] - PARETO_ROWS_SHOWN} more in pareto.json")
+        notes.append(f"Pareto front (time to target vs {flabel}): {pf['n_on_front']} designs (P in the table, all "
+                     f"in pareto.json); {pf['n_not_reaching']} never reach the target")
+    recommended = []
     if args.recommend:
         if within is None:
             raise ActsimInputError("--recommend: give the time limit with --within, e.g. --within \"20 s\"")
@@ -313,24 +309,40 @@ def _sweep_into(args, out, final, work, checked) -> int:
                                                  "maximised_label": flabel, "rows": rows})
         files.append("recommendation.json")
         unit = ds[dim].attrs.get("units", "")
+        path = ds[dim].attrs.get("field", dim)
+        dim_of = {ds[d].attrs.get("field", d): d for d in ds["status"].dims}
         for row in rows:
-            others = shown(row, ("recommended", "time_to_target", "peak_blocked_force", force))
+            others = ", ".join(f"{field_words(k)} {display_quantity(v, tradeoff.field_units(ds).get(k, ''), field=k)}"
+                               for k, v in row.items() if k in dim_of and k != path)
             where = f" at {others}" if others else ""
             if row["recommended"] is None:
-                print(f"  recommendation{where}: no {ds[dim].attrs.get('field', dim)} reaches the target within {within:g} s")
-            else:
-                print(f"  recommendation{where}: {ds[dim].attrs.get('field', dim)} = "
-                      f"{tradeoff.format_quantity(row['recommended'], unit)} (target in {row['time_to_target']:.3g} s, "
-                      f"{flabel} {tradeoff.format_quantity(row[force], 'N')})")
+                notes.append(f"recommendation{where}: no {field_words(path)} reaches the target within {within:g} s")
+                continue
+            sel = {dim_of[k]: v for k, v in row.items() if k in dim_of and k != path}
+            sel[dim] = row["recommended"]
+            recommended.append(int(ds["design"].sel(sel).values))
+            notes.append(f"recommendation{where}: {field_words(path)} "
+                         f"{display_quantity(row['recommended'], unit, field=path)} (target in "
+                         f"{row['time_to_target']:.3g} s, {flabel} {display_quantity(row[force], 'N')})")
+    table_lines, _ = design_table(ds, force=force, within=within if args.recommend else None,
+                                  recommended=recommended, width=width)
+    screen += table_lines
     if args.series and dims:
         figures.append(tradeoff.bend_family(ds, figs / "bend_family.png", along=dims[0]))
         files.append("figures/bend_family.png")
-    if not math.isnan(float(ds["peak_temperature"].max(skipna=True).fillna(math.nan))):
-        print(f"  peak temperature over the sweep: {float(ds['peak_temperature'].max()) - 273.15:.4g} degC")
+    if "peak_temperature" in ds and not int(ds.attrs.get("heat_modelled", 0)) and \
+            not math.isnan(float(ds["peak_temperature"].max(skipna=True).fillna(math.nan))):
+        notes.append(f"peak temperature over the sweep: {float(ds['peak_temperature'].max()) - 273.15:.4g} degC")
+    if notes:
+        screen.append("")
+        for n in notes:
+            screen += wrap(n, width, indent="  ")
     write_json(out / "summary.json", {"kind": "sweep", "title": sc.title, "files": files + ["summary.json"],
                                       "figures": figures})
     files.append("summary.json")
-    print(with_caution(f"\nsweep written to {final}/ ({', '.join(files)})"))
+    screen.append("")
+    screen += wrap(f"sweep written to {final}/ ({', '.join(files)})", width)
+    print(with_caution("\n".join(screen), width))
     return 0
 
 
@@ -354,9 +366,11 @@ def _cmd_optimise(args, sc, out, target, within, final=None):
                          max_temperature=_positive_quantity(args.max_temperature, "--max-temperature", "temperature"),
                          seed=args.seed, maxiter=args.maxiter)
     write_json(out / "inverse.json", json.loads(json.dumps(res, default=str).replace("NaN", "null")))
-    print(sc.title)
-    print(format_inverse(res))
-    print(with_caution(f"\ninverse design written to {final or out}/inverse.json"))
+    from ..screens import fit_text, screen_width
+
+    width = screen_width()
+    print(with_caution(fit_text(f"{sc.title}\n{format_inverse(res)}\n\ninverse design written to "
+                                f"{final or out}/inverse.json", width), width))
     if not res["feasible"]:
         print("actsim sweep: no feasible design between the bounds (exit status 1); widen the bounds or relax "
               "the targets")

@@ -493,7 +493,10 @@ def _local_cluster(n_workers):
 
     from distributed import Client, LocalCluster
 
+    # no dashboard; the scheduler's small HTTP server (health routes) on a free port, so a taken 8787 (another
+    # cluster, a notebook) gives no "Port 8787 is already in use" warning on stderr
     cluster = LocalCluster(n_workers=n_workers, threads_per_worker=1, processes=True, dashboard_address=None,
+                           scheduler_kwargs={"dashboard_address": ":0"},
                            silence_logs=logging.ERROR)
     return Client(cluster), cluster
 

@@ -151,6 +151,11 @@ def parse_values(spec, field_path: str = "value"):
                 raise ActsimInputError(f"{field_path}: {num} points in '{spec}' is outside the allowed range "
                                        f"(>= 1 and <= {MAX_SWEEP_DESIGNS})")
         a, b = (_scalar_value(p) for p in parts[:2])
+        if len(parts) == 2 and isinstance(a, str) != isinstance(b, str) and isinstance(a if isinstance(b, str) else b, int):
+            # "lin(5 um, 200)": one end has a unit and the other is a whole number: the count, not an end
+            kind = m.group(1).lower()
+            raise ActsimInputError(f"{field_path}: {kind}(start, stop, count) needs three values, start and stop "
+                                   f"with the same unit, then the count; got '{spec}' (e.g. {kind}(5 um, 200 um, 40))")
         return Range(m.group(1).lower(), a, b, num)
     if spec.count(",") >= MAX_SWEEP_DESIGNS:
         raise ActsimInputError(f"{field_path}: {spec.count(',') + 1} values is more than the {MAX_SWEEP_DESIGNS} allowed")
