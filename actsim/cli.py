@@ -49,6 +49,21 @@ def _fmt(v, unit, scale=1.0, digits=4):
     return "not reached" if v is None else f"{v * scale:.{digits}g} {unit}"
 
 
+def model_notes(scenario) -> list[str]:
+    """Notes on what the model leaves out where it shapes this run's answer (printed under the summary)."""
+    notes = []
+    if scenario.heat.enabled:
+        memoryless = sorted({layer.material.name for layer in scenario.layers
+                             if layer.material.temperature_modulus is not None
+                             and getattr(layer.material, "relaxation", None) is None})
+        if memoryless:
+            notes.append(
+                f"note: the modulus of {', '.join(memoryless)} follows the temperature at once, with no memory "
+                "(no viscoelastic relaxation): while a layer heats or cools through its glass transition the bend "
+                "can swing the other way for that reason alone (docs/models.md)")
+    return notes
+
+
 def summary_table(summary: dict, width: int | None = None) -> str:
     """Plain-text table of the key metrics of a run, its long values wrapped to ``width`` (default: the screen's)."""
     where = ""
@@ -176,11 +191,13 @@ def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set
         if est is not None:
             ds.attrs["grid_error_estimate"] = est
         summary = write_result_files(ds, sc, stage, figures=figures)
-        from .screens import fit_text, screen_width
+        from .screens import fit_text, screen_width, wrap
 
         width = screen_width()
         print(fit_text(sc.title, width))
         print(summary_table(summary))  # its width: screen_width(), as here
+        for note in model_notes(sc):
+            print("\n".join(wrap(note, width, indent="  ")))
         if mask is not None:
             import json
 

@@ -267,3 +267,16 @@ def test_local_scheduler_prints_no_port_warning(tmp_path):
         sock.close()
     assert r.returncode == 0, r.stderr[-2000:]
     assert "8787" not in r.stderr and "already in use" not in r.stderr
+
+
+def test_a_modulus_without_memory_is_said_on_screen():
+    # issue 13: the photothermal hinge swings while heating through Tg; the screen says the modulus has no memory
+    from pathlib import Path
+
+    import actsim
+    from actsim.cli import model_notes
+
+    root = Path(__file__).resolve().parents[1] / "scenarios"
+    notes = model_notes(actsim.load_scenario(root / "photothermal_hinge.toml"))
+    assert len(notes) == 1 and "no memory" in notes[0] and "absorbing_composite" in notes[0]
+    assert model_notes(actsim.load_scenario(root / "vent_flap.toml")) == []
