@@ -26,7 +26,7 @@ from numba.extending import overload
 from .kinetics import exact_update, rates
 from .material import (material_state, mechanical_strain, network_strain_update, viscoelastic_accept,
                        viscoelastic_error, viscoelastic_state, viscoelastic_strain)
-from .mechanics import section_solve
+from .mechanics import section_solve, section_solve_centred
 from .optics import light_pass
 #: Step-size control (Hairer, Nørsett and Wanner, Solving ODEs I, 2nd ed., 1993, sec. II.4): safety factor, largest
 #: and smallest change of the step, the error exponent 1/(q+1) with q = 1 the order of the embedded (predictor) step.
@@ -268,6 +268,7 @@ def run_design(grid, light, photo, heat, mat, sched, out):
     ev = np.zeros(n_cell)
     ev_n = np.empty(n_cell)
     ev_rate = np.zeros(n_cell)
+    Ev = np.zeros(n_cell)  # the Prony terms' part of E, taken at the cell centres
     rise = np.empty(n_cell)  # heat state: rise above T_ref, so the stored heat is not rounded at 293 K
     rise_n = np.empty(n_cell)
     for i in range(n_cell):
@@ -315,8 +316,8 @@ def run_design(grid, light, photo, heat, mat, sched, out):
     q = sched.step_flux[s0]
     material_state(x, T, S, mat, T_ref, E, Ee)
     if has_visco:
-        viscoelastic_state(x, T, T, 0.0, H, ev, mat, T_ref, E, Ee)
-    r = section_solve(z_edges, E, Ee, sched.step_hold[s0], sched.step_value[s0])
+        viscoelastic_state(x, T, T, 0.0, H, ev, mat, T_ref, E, Ee, Ev)
+    r = section_solve_centred(z_edges, E, Ee, Ev, sched.step_hold[s0], sched.step_value[s0])
     mech[0], mech[1], mech[2], mech[3] = r[0], r[1], r[2], r[3]
     tr = light_pass(x, dz, light, q, mf, ab)
     record(0, x, T, S, E, Ee, mech, dz, mf, ab, light.beam_emol, q, light.entry, tr, out)
@@ -357,8 +358,8 @@ def run_design(grid, light, photo, heat, mat, sched, out):
         if has_network or (has_visco and new_step):
             material_state(x, T, S, mat, T_ref, E, Ee)
             if has_visco:
-                viscoelastic_state(x, T, T, 0.0, H, ev, mat, T_ref, E, Ee)
-            r = section_solve(z_edges, E, Ee, hold, value)
+                viscoelastic_state(x, T, T, 0.0, H, ev, mat, T_ref, E, Ee, Ev)
+            r = section_solve_centred(z_edges, E, Ee, Ev, hold, value)
             mechanical_strain(z_edges, r[0], r[1], mat.alpha_th, T, T_ref, e_start)
             if has_visco and new_step:
                 # a new protocol step starts with an instantaneous step: a change of hold is taken up at once
@@ -471,8 +472,8 @@ def run_design(grid, light, photo, heat, mat, sched, out):
                     network_strain_update(S, x, xp, e_start, mat.network_mod, Sp)
                     material_state(xp, Tn, Sp, mat, T_ref, E, Ee)
                     if has_visco:
-                        viscoelastic_state(xp, T, Tn, dt, H, ev, mat, T_ref, E, Ee)
-                    r = section_solve(z_edges, E, Ee, hold, value)
+                        viscoelastic_state(xp, T, Tn, dt, H, ev, mat, T_ref, E, Ee, Ev)
+                    r = section_solve_centred(z_edges, E, Ee, Ev, hold, value)
                     mechanical_strain(z_edges, r[0], r[1], mat.alpha_th, Tn, T_ref, e_end)
                     # corrector: midpoint strain
                     for i in range(n_cell):
@@ -480,14 +481,14 @@ def run_design(grid, light, photo, heat, mat, sched, out):
                     network_strain_update(S, x, xp, e_end, mat.network_mod, Sn)
                     material_state(xp, Tn, Sn, mat, T_ref, E, Ee)
                     if has_visco:
-                        viscoelastic_state(xp, T, Tn, dt, H, ev, mat, T_ref, E, Ee)
-                    r = section_solve(z_edges, E, Ee, hold, value)
+                        viscoelastic_state(xp, T, Tn, dt, H, ev, mat, T_ref, E, Ee, Ev)
+                    r = section_solve_centred(z_edges, E, Ee, Ev, hold, value)
                     mechanical_strain(z_edges, r[0], r[1], mat.alpha_th, Tn, T_ref, e_next)
                 elif has_visco:
                     # the step ends on a section solve with the algorithmic modulus and the history stress
                     material_state(xp, Tn, S, mat, T_ref, E, Ee)
-                    viscoelastic_state(xp, T, Tn, dt, H, ev, mat, T_ref, E, Ee)
-                    r = section_solve(z_edges, E, Ee, hold, value)
+                    viscoelastic_state(xp, T, Tn, dt, H, ev, mat, T_ref, E, Ee, Ev)
+                    r = section_solve_centred(z_edges, E, Ee, Ev, hold, value)
                     mechanical_strain(z_edges, r[0], r[1], mat.alpha_th, Tn, T_ref, e_next)
                 if has_visco:
                     viscoelastic_strain(xp, e_next, mat, ev_n)
@@ -552,8 +553,8 @@ def run_design(grid, light, photo, heat, mat, sched, out):
                 n_left -= 1
         material_state(x, T, S, mat, T_ref, E, Ee)
         if has_visco:
-            viscoelastic_state(x, T, T, 0.0, H, ev, mat, T_ref, E, Ee)
-        r = section_solve(z_edges, E, Ee, hold, value)
+            viscoelastic_state(x, T, T, 0.0, H, ev, mat, T_ref, E, Ee, Ev)
+        r = section_solve_centred(z_edges, E, Ee, Ev, hold, value)
         mech[0], mech[1], mech[2], mech[3] = r[0], r[1], r[2], r[3]
         tr = light_pass(x, dz, light, q, mf, ab)
         light_of = st

@@ -910,7 +910,7 @@ def log_shift_nb(kind, par, T):
 
 
 @njit(cache=True)
-def viscoelastic_state(x, T0, T1, dt, H, ev, mat, T_ref, E_out, Ee_out):
+def viscoelastic_state(x, T0, T1, dt, H, ev, mat, T_ref, E_out, Ee_out, Ev_out):
     """Kernel step: add the Prony terms' algorithmic modulus and history stress to E and E e* (in place).
 
     For a step of ``dt`` from the internal state (H, ev) to conversion ``x`` and temperature ``T1``,
@@ -932,24 +932,33 @@ def viscoelastic_state(x, T0, T1, dt, H, ev, mat, T_ref, E_out, Ee_out):
         Zero of the thermal strain [K].
     E_out, Ee_out : numpy.ndarray, shape (n_cell,)
         E [Pa] and E e* [Pa], added to.
+    Ev_out : numpy.ndarray, shape (n_cell,)
+        Set to f sum_k E_k (g_k - 1) [Pa] (<= 0; 0 in elastic cells and for dt = 0): the relaxed part of the
+        Prony terms' modulus, which acts on the cell-centre strain only
+        (:func:`actsim.mechanics.section_solve_centred`), like the history stress; so the strain's variation
+        across a cell always meets the instantaneous modulus, whatever the step.
     """
     for i in range(x.size):
         n = mat.visco_n[i]
+        Ev_out[i] = 0.0
         if n == 0:
             continue
         f = 1.0 + (mat.mod_ratio[i] - 1.0) * x[i]
         dxi = dt * math.exp(-log_shift_nb(mat.shift_kind[i], mat.shift_par[i], 0.5 * (T0[i] + T1[i])))
         e_alg = 0.0
+        e_glassy = 0.0
         s_hist = 0.0
         for k in range(n):
             a = dxi / mat.visco_tau[i, k]
             g = -math.expm1(-a) / a if a > 0.0 else 1.0
             ek = f * mat.visco_mod[i, k] * g
             e_alg += ek
+            e_glassy += f * mat.visco_mod[i, k]
             s_hist += math.exp(-a) * H[i, k] - ek * ev[i]
         e_star = mat.photo_strain[i] * x[i] + mat.alpha_th[i] * (T1[i] - T_ref)
         E_out[i] += e_alg
         Ee_out[i] += e_alg * e_star - s_hist
+        Ev_out[i] = e_alg - e_glassy
 
 
 @njit(cache=True)

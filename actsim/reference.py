@@ -72,14 +72,19 @@ def run_reference(p):
     def mech(x, T, S, step, T_old=None, dt=0.0):
         """The section under protocol step ``step``; with a relaxing material, at the end of a step of dt from T_old."""
         E, Ee = state(x, T, S)
+        dE = None
         if has_visco:
             dE, dEe = material.viscoelastic_section_state(
                 params=mat, conversion=x, temperature_old=T if T_old is None else T_old, temperature_new=T, dt=dt,
                 history=visco["H"], strain_old=visco["ev"], reference_temperature=heat.T_ref)
             E, Ee = E + dE, Ee + dEe
+            # the relaxed part of the Prony modulus acts on the cell-centre strain only (the variation of the
+            # strain across a cell meets the instantaneous modulus)
+            f = 1.0 + (mat.mod_ratio - 1.0) * x
+            dE = np.where(relaxing, dE - f * mat.visco_mod.sum(axis=1), 0.0)
         r = mechanics.held_strip_response(z_edges=grid.z_edges, modulus=E, eigenstrain=Ee / E,
                                           hold=mechanics.HOLD_NAMES[int(sched.step_hold[step])],
-                                          value=sched.step_value[step])
+                                          value=sched.step_value[step], centred_modulus=dE)
         return E, Ee, r
 
     zc = cell_centres(grid.z_edges)
