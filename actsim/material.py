@@ -892,7 +892,7 @@ def log_shift_nb(kind, par, T):
     kind : int
         SHIFT_NONE, SHIFT_WLF or SHIFT_ARRHENIUS.
     par : numpy.ndarray, shape (3,)
-        The cell's row of ``MaterialParams.shift_par``.
+        The cell's row of ``MaterialParams.shift_par``: WLF C1 [1], C2 [K], T_r [K]; Arrhenius E_a/R [K], T_r [K].
     T : float
         Temperature [K].
     """
