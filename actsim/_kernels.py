@@ -4,7 +4,9 @@ The loop only orders the stages; every piece of arithmetic is a stage's own
 kernel step: :func:`actsim.optics.light_pass`, :func:`actsim.kinetics.rates`
 and :func:`actsim.kinetics.exact_update`, :func:`actsim.thermal.heat_source`
 and the conduction steps, :func:`actsim.material.material_state` and
-:func:`actsim.material.network_strain_update`, :func:`actsim.mechanics.section_solve`.
+:func:`actsim.material.network_strain_update`, the viscoelastic steps
+(:func:`actsim.material.viscoelastic_state`, :func:`actsim.material.viscoelastic_accept`),
+:func:`actsim.mechanics.section_solve`.
 It takes each stage's parameter object (a ``NamedTuple`` of arrays built by
 the stage module) as one argument, so no argument list is written twice;
 :mod:`actsim.study.batch` runs many designs through the same function.
@@ -22,8 +24,9 @@ from numba import njit, types
 from numba.extending import overload
 
 from .kinetics import exact_update, rates
-from .material import material_state, mechanical_strain, network_strain_update
-from .mechanics import section_solve
+from .material import (material_state, mechanical_strain, network_strain_update, viscoelastic_accept,
+                       viscoelastic_error, viscoelastic_state, viscoelastic_strain)
+from .mechanics import section_solve, section_solve_centred
 from .optics import light_pass
 #: Step-size control (Hairer, Nørsett and Wanner, Solving ODEs I, 2nd ed., 1993, sec. II.4): safety factor, largest
 #: and smallest change of the step, the error exponent 1/(q+1) with q = 1 the order of the embedded (predictor) step.
@@ -188,7 +191,15 @@ def run_design(grid, light, photo, heat, mat, sched, out):
     light-formed network exists, network formed in the step remembers the
     midpoint mechanical strain of the step (total strain less thermal strain;
     predicted, then corrected), so it is stress-free when it forms; cleavage
-    removes the same fraction of the remembered strain. The heat state is the
+    removes the same fraction of the remembered strain. Where a material
+    relaxes (a Prony series), each step ends with a section solve whose
+    modulus and eigen-resultants hold the algorithmic modulus and the history
+    stress of the exact exponential update (shift at the step's midpoint
+    temperature), and the accepted step updates the Maxwell elements' stresses;
+    every segment starts with an instantaneous (glassy) step, so a change of
+    hold is taken up at once, and every output time records the instantaneous
+    state (modulus E_0, eigenstrain at which the cells would be stress-free if
+    loaded now). The heat state is the
     rise above ``heat.T_ref`` (the stages see the absolute temperature), so
     the stored heat is not rounded at 293 K every step. ``out.energy`` holds
     the cumulative heat absorbed and lost through the bottom and top faces
@@ -198,7 +209,9 @@ def run_design(grid, light, photo, heat, mat, sched, out):
     equal steps. Otherwise the step is error-controlled: the local error of a
     step is estimated from quantities the step computes anyway — predicted
     against corrected conversion and network strain, and TR-BDF2's embedded
-    estimate (:func:`actsim.thermal.trbdf2_error`) — as the norm
+    estimate (:func:`actsim.thermal.trbdf2_error`); where a material relaxes, the
+    miss of the primary mechanical strain against its linear extrapolation
+    (:func:`actsim.material.viscoelastic_error`), scaled like S — as the norm
 
     .. math:: \\mathrm{err} = \\max_i \\max\\left(|x^c_i - x^p_i|,\\;
        \\frac{|S^c_i - S^p_i|}{0.01}\\right) / (\\mathrm{tol}/2), \\qquad
@@ -243,9 +256,19 @@ def run_design(grid, light, photo, heat, mat, sched, out):
     for i in range(n_cell):
         if mat.network_mod[i] > 0.0:
             has_network = True
+    has_visco = False
+    for i in range(n_cell):
+        if mat.visco_n[i] > 0:
+            has_visco = True
     x = photo.x0.copy()
     T = heat.T0.copy()
     S = np.zeros(n_cell)
+    # viscoelastic state: Maxwell element stresses, primary mechanical strain (0: stress-free start), its rate
+    H = np.zeros(mat.visco_mod.shape)
+    ev = np.zeros(n_cell)
+    ev_n = np.empty(n_cell)
+    ev_rate = np.zeros(n_cell)
+    Ev = np.zeros(n_cell)  # the Prony terms' part of E, taken at the cell centres
     rise = np.empty(n_cell)  # heat state: rise above T_ref, so the stored heat is not rounded at 293 K
     rise_n = np.empty(n_cell)
     for i in range(n_cell):
@@ -287,12 +310,14 @@ def run_design(grid, light, photo, heat, mat, sched, out):
         for b in range(n_beam):
             if photo.phi_b[i, b] != 0.0:
                 one_way = False
-    four_stage = adaptive and heat_mode == HEAT_OFF and not has_network and one_way
+    four_stage = adaptive and heat_mode == HEAT_OFF and not has_network and not has_visco and one_way
 
     s0 = sched.seg_step[0]
     q = sched.step_flux[s0]
     material_state(x, T, S, mat, T_ref, E, Ee)
-    r = section_solve(z_edges, E, Ee, sched.step_hold[s0], sched.step_value[s0])
+    if has_visco:
+        viscoelastic_state(x, T, T, 0.0, H, ev, mat, T_ref, E, Ee, Ev)
+    r = section_solve_centred(z_edges, E, Ee, Ev, sched.step_hold[s0], sched.step_value[s0])
     mech[0], mech[1], mech[2], mech[3] = r[0], r[1], r[2], r[3]
     tr = light_pass(x, dz, light, q, mf, ab)
     record(0, x, T, S, E, Ee, mech, dz, mf, ab, light.beam_emol, q, light.entry, tr, out)
@@ -329,10 +354,18 @@ def run_design(grid, light, photo, heat, mat, sched, out):
             h0 = seg_len if k_max == 0.0 else min(seg_len, math.sqrt(tol) / k_max)
             if dt_next == 0.0 or h0 < dt_next:
                 dt_next = h0
-        if has_network:
+        new_step = s == 0 or st != sched.seg_step[s - 1]
+        if has_network or (has_visco and new_step):
             material_state(x, T, S, mat, T_ref, E, Ee)
-            r = section_solve(z_edges, E, Ee, hold, value)
+            if has_visco:
+                viscoelastic_state(x, T, T, 0.0, H, ev, mat, T_ref, E, Ee, Ev)
+            r = section_solve_centred(z_edges, E, Ee, Ev, hold, value)
             mechanical_strain(z_edges, r[0], r[1], mat.alpha_th, T, T_ref, e_start)
+            if has_visco and new_step:
+                # a new protocol step starts with an instantaneous step: a change of hold is taken up at once
+                # with the glassy modulus (and the strain rate of the error estimate starts again from 0)
+                viscoelastic_strain(x, e_start, mat, ev_n)
+                viscoelastic_accept(x, T, T, 0.0, H, ev, ev_n, ev_rate, mat)
         t = 0.0
         n_left = sched.seg_n[s]
         rejected_last = False
@@ -438,15 +471,27 @@ def run_design(grid, light, photo, heat, mat, sched, out):
                     # predictor: network formed at the start-of-step strain
                     network_strain_update(S, x, xp, e_start, mat.network_mod, Sp)
                     material_state(xp, Tn, Sp, mat, T_ref, E, Ee)
-                    r = section_solve(z_edges, E, Ee, hold, value)
+                    if has_visco:
+                        viscoelastic_state(xp, T, Tn, dt, H, ev, mat, T_ref, E, Ee, Ev)
+                    r = section_solve_centred(z_edges, E, Ee, Ev, hold, value)
                     mechanical_strain(z_edges, r[0], r[1], mat.alpha_th, Tn, T_ref, e_end)
                     # corrector: midpoint strain
                     for i in range(n_cell):
                         e_end[i] = 0.5 * (e_start[i] + e_end[i])
                     network_strain_update(S, x, xp, e_end, mat.network_mod, Sn)
                     material_state(xp, Tn, Sn, mat, T_ref, E, Ee)
-                    r = section_solve(z_edges, E, Ee, hold, value)
+                    if has_visco:
+                        viscoelastic_state(xp, T, Tn, dt, H, ev, mat, T_ref, E, Ee, Ev)
+                    r = section_solve_centred(z_edges, E, Ee, Ev, hold, value)
                     mechanical_strain(z_edges, r[0], r[1], mat.alpha_th, Tn, T_ref, e_next)
+                elif has_visco:
+                    # the step ends on a section solve with the algorithmic modulus and the history stress
+                    material_state(xp, Tn, S, mat, T_ref, E, Ee)
+                    viscoelastic_state(xp, T, Tn, dt, H, ev, mat, T_ref, E, Ee, Ev)
+                    r = section_solve_centred(z_edges, E, Ee, Ev, hold, value)
+                    mechanical_strain(z_edges, r[0], r[1], mat.alpha_th, Tn, T_ref, e_next)
+                if has_visco:
+                    viscoelastic_strain(xp, e_next, mat, ev_n)
             if adaptive:
                 err_T = err_T / TEMPERATURE_SCALE / (LOCAL_TARGET * tol)
                 err = 0.0
@@ -459,6 +504,10 @@ def run_design(grid, light, photo, heat, mat, sched, out):
                         d = abs(Sn[i] - Sp[i]) / STRAIN_SCALE
                         if d > err:
                             err = d
+                if has_visco:
+                    d = viscoelastic_error(ev, ev_n, ev_rate, dt) / STRAIN_SCALE
+                    if d > err:
+                        err = d
                 err = err / (LOCAL_TARGET * tol)
                 if not (math.isfinite(err) and math.isfinite(err_T)):
                     return s
@@ -482,6 +531,8 @@ def run_design(grid, light, photo, heat, mat, sched, out):
                 rejected_last = False
             # accept the step
             n_acc += 1
+            if has_visco:
+                viscoelastic_accept(xp, T, Tn, dt, H, ev, ev_n, ev_rate, mat)
             e_lb += lb
             e_lt += lt
             e_in += d_in
@@ -493,12 +544,17 @@ def run_design(grid, light, photo, heat, mat, sched, out):
                 for i in range(n_cell):
                     S[i] = Sn[i]
                     e_start[i] = e_next[i]
+            elif has_visco:
+                for i in range(n_cell):
+                    e_start[i] = e_next[i]
             if adaptive:
                 t = seg_len if last else t + dt
             else:
                 n_left -= 1
         material_state(x, T, S, mat, T_ref, E, Ee)
-        r = section_solve(z_edges, E, Ee, hold, value)
+        if has_visco:
+            viscoelastic_state(x, T, T, 0.0, H, ev, mat, T_ref, E, Ee, Ev)
+        r = section_solve_centred(z_edges, E, Ee, Ev, hold, value)
         mech[0], mech[1], mech[2], mech[3] = r[0], r[1], r[2], r[3]
         tr = light_pass(x, dz, light, q, mf, ab)
         light_of = st

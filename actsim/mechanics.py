@@ -315,7 +315,7 @@ def arc_tip_series(curvature, free_length):
     return x, y
 
 
-def held_strip_response(*, z_edges, modulus, eigenstrain, hold, value=0.0):
+def held_strip_response(*, z_edges, modulus, eigenstrain, hold, value=0.0, centred_modulus=None):
     """Strain at z = 0, curvature and the holding force and moment under a mechanical condition.
 
     Conditions: ``"free"`` (N = M = 0); ``"stretch"`` (uniform strain
@@ -335,6 +335,10 @@ def held_strip_response(*, z_edges, modulus, eigenstrain, hold, value=0.0):
         One of "free", "release", "stretch", "bend", "flat".
     value : float
         Strain [1] for "stretch", curvature [m-1] for "bend".
+    centred_modulus : numpy.ndarray, shape (n_cell,), optional
+        The part of ``modulus`` whose stress is taken at the cell centre (constant over the cell: the
+        Maxwell elements of a relaxing material) [Pa]; it adds nothing to the in-cell bending stiffness,
+        D is reduced by sum_i E_c,i dz_i^3 / 12 (the midpoint rule for its moment).
 
     Returns
     -------
@@ -343,6 +347,8 @@ def held_strip_response(*, z_edges, modulus, eigenstrain, hold, value=0.0):
     """
     s = section_integrals(z_edges=z_edges, modulus=modulus, eigenstrain=eigenstrain)
     A, B, D, Ns, Ms = s["A"], s["B"], s["D"], s["N_star"], s["M_star"]
+    if centred_modulus is not None:
+        D = D - float(np.sum(np.asarray(centred_modulus) * np.diff(z_edges) ** 3)) / 12.0
     if hold == "stretch":
         e0, kappa = value, 0.0
     elif hold == "bend":
@@ -350,6 +356,9 @@ def held_strip_response(*, z_edges, modulus, eigenstrain, hold, value=0.0):
         e0 = (Ns + B * kappa) / A
     elif hold == "flat":
         e0, kappa = Ns / A, 0.0
+    elif centred_modulus is not None:  # N = M = 0 with the reduced D (Cramer's rule)
+        det = A * D - B * B
+        e0, kappa = (D * Ns - B * Ms) / det, (B * Ns - A * Ms) / det
     else:
         e0, kappa, _ = free_strip_response(z_edges=z_edges, modulus=modulus, eigenstrain=eigenstrain)
     return e0, kappa, A * e0 - B * kappa - Ns, B * e0 - D * kappa - Ms
@@ -390,6 +399,69 @@ def section_solve(z_edges, E, Ee, hold, value):
         A += E[i] * w1
         B += E[i] * w2
         D += E[i] * w3
+        Ns += Ee[i] * w1
+        Ms += Ee[i] * w2
+    if hold == HOLD_STRETCH:
+        kappa = 0.0
+        e0 = value
+    elif hold == HOLD_BEND:
+        kappa = value
+        e0 = (Ns + B * kappa) / A
+    elif hold == HOLD_FLAT:
+        kappa = 0.0
+        e0 = Ns / A
+    else:
+        det = A * D - B * B
+        e0 = (D * Ns - B * Ms) / det
+        kappa = (B * Ns - A * Ms) / det
+    N = A * e0 - B * kappa - Ns
+    M = B * e0 - D * kappa - Ms
+    return e0, kappa, N, M
+
+
+@njit(cache=True)
+def section_solve_centred(z_edges, E, Ee, Ec, hold, value):
+    """:func:`section_solve` where the part ``Ec`` of each cell's modulus acts on the strain at the cell centre only.
+
+    The stress of that part is constant over the cell, Ec (e0 - kappa z_c) (the midpoint rule), so the
+    bending stiffness loses its in-cell term: D = sum E w3 - Ec w1^3 / 12, with w1 the cell width and
+    w3 = int z^2 dz. Used for the Maxwell elements of a relaxing material, whose stresses are kept at the
+    cell centres: the relaxed part of their algorithmic modulus (Ec <= 0) acts on the same strain as their
+    history stress, and the strain's variation across a cell meets the instantaneous modulus, so the result
+    does not depend on the step through the in-cell strain. Ec = 0 gives :func:`section_solve` exactly.
+
+    Parameters
+    ----------
+    z_edges : numpy.ndarray, shape (n_cell + 1,)
+        Cell faces [m].
+    E, Ee : numpy.ndarray, shape (n_cell,)
+        Section modulus [Pa] (Ec included) and modulus times eigenstrain [Pa].
+    Ec : numpy.ndarray, shape (n_cell,)
+        The part of E taken at the cell centre [Pa].
+    hold : int
+        HOLD_FREE, HOLD_STRETCH, HOLD_BEND or HOLD_FLAT.
+    value : float
+        Strain [1] (stretch) or curvature [m-1] (bend).
+
+    Returns
+    -------
+    (e0, kappa, N, M) : float
+        As :func:`section_solve`.
+    """
+    A = 0.0
+    B = 0.0
+    D = 0.0
+    Ns = 0.0
+    Ms = 0.0
+    for i in range(E.size):
+        z0 = z_edges[i]
+        z1 = z_edges[i + 1]
+        w1 = z1 - z0
+        w2 = 0.5 * (z1 * z1 - z0 * z0)
+        w3 = (z1 * z1 * z1 - z0 * z0 * z0) / 3.0
+        A += E[i] * w1
+        B += E[i] * w2
+        D += E[i] * w3 - Ec[i] * (w1 * w1 * w1 / 12.0)
         Ns += Ee[i] * w1
         Ms += Ee[i] * w2
     if hold == HOLD_STRETCH:

@@ -9,7 +9,9 @@ Slow; for tests (``tests/test_kernels.py`` compares it with
 :func:`actsim.thermal_reference.theta_step_reference` (Crank–Nicolson) or
 :func:`actsim.thermal_reference.trbdf2_step_reference` (both readable numpy/scipy), the material state by
 :func:`actsim.material.primary_modulus` and
-:func:`actsim.material.two_network_state`, the section by
+:func:`actsim.material.two_network_state` (with
+:func:`actsim.material.viscoelastic_section_state` and :func:`actsim.material.prony_step`
+where a material relaxes), the section by
 :func:`actsim.mechanics.held_strip_response`.
 """
 
@@ -62,11 +64,27 @@ def run_reference(p):
             reference_temperature=heat.T_ref,
         )
 
-    def mech(x, T, S, step):
+    has_visco = bool(np.any(mat.visco_n > 0))
+    relaxing = mat.visco_n > 0
+    # viscoelastic state: Maxwell element stresses, primary mechanical strain, its rate over the last step
+    visco = {"H": np.zeros(mat.visco_mod.shape), "ev": np.zeros_like(photo.x0), "rate": np.zeros_like(photo.x0)}
+
+    def mech(x, T, S, step, T_old=None, dt=0.0):
+        """The section under protocol step ``step``; with a relaxing material, at the end of a step of dt from T_old."""
         E, Ee = state(x, T, S)
+        dE = None
+        if has_visco:
+            dE, dEe = material.viscoelastic_section_state(
+                params=mat, conversion=x, temperature_old=T if T_old is None else T_old, temperature_new=T, dt=dt,
+                history=visco["H"], strain_old=visco["ev"], reference_temperature=heat.T_ref)
+            E, Ee = E + dE, Ee + dEe
+            # the relaxed part of the Prony modulus acts on the cell-centre strain only (the variation of the
+            # strain across a cell meets the instantaneous modulus)
+            f = 1.0 + (mat.mod_ratio - 1.0) * x
+            dE = np.where(relaxing, dE - f * mat.visco_mod.sum(axis=1), 0.0)
         r = mechanics.held_strip_response(z_edges=grid.z_edges, modulus=E, eigenstrain=Ee / E,
                                           hold=mechanics.HOLD_NAMES[int(sched.step_hold[step])],
-                                          value=sched.step_value[step])
+                                          value=sched.step_value[step], centred_modulus=dE)
         return E, Ee, r
 
     zc = cell_centres(grid.z_edges)
@@ -89,6 +107,18 @@ def run_reference(p):
     def mechanical_strain(r, T):
         return r[0] - r[1] * zc - mat.alpha_th * (T - heat.T_ref)  # network formed now is stress-free
 
+    def primary_strain(e_mech, x):
+        return np.where(relaxing, e_mech - mat.photo_strain * x, 0.0)
+
+    def visco_after(x, T_old, T_new, dt, ev_new):
+        """The viscoelastic state after a step of dt (0: an instantaneous jump) ending at ev_new."""
+        f = 1.0 + (mat.mod_ratio - 1.0) * x
+        dxi = material.reduced_time_step(params=mat, dt=dt, temperature=0.5 * (T_old + T_new))
+        H = material.prony_step(history=visco["H"], strain_old=visco["ev"], strain_new=ev_new,
+                                moduli=f[:, None] * mat.visco_mod, relaxation_times=mat.visco_tau, reduced_dt=dxi)
+        rate = (ev_new - visco["ev"]) / dt if dt > 0 else np.zeros_like(ev_new)
+        return {"H": H, "ev": ev_new, "rate": rate}
+
     has_network = bool(np.any(mat.network_mod > 0))
     on = mat.network_mod > 0
     energy = np.zeros(3)  # heat absorbed, lost bottom, lost top [J m-2]
@@ -98,7 +128,7 @@ def run_reference(p):
     tol = sched.tolerance
 
     one_way = not (np.any(photo.k_ref != 0) or np.any(photo.phi_b != 0))  # no photo or thermal back reaction
-    four_stage = bool(tol) and heat.mode == thermal.HEAT_OFF and not has_network and one_way
+    four_stage = bool(tol) and heat.mode == thermal.HEAT_OFF and not has_network and not has_visco and one_way
 
     def take_four_stage_step(x, T, rise, S, e_start, st, dt):
         """One-way reaction, no heat, no light network: the rates at four stages, RK4's weights, the exact update."""
@@ -115,7 +145,7 @@ def run_reference(p):
         xn = update([(a + 2 * b + 2 * c + d) / 6 for a, b, c, d in zip(kA, kB, kC, kD)], dt)
         x_low = update([0.5 * (a + d) for a, d in zip(kA, kD)], dt)  # embedded trapezoid-rate step
         err = float(np.max(np.abs(xn - x_low))) / (_kernels.LOCAL_TARGET * tol)
-        return xn, T, rise, S, e_start, np.zeros(3), (err, 0.0)
+        return xn, T, rise, S, e_start, np.zeros(3), visco, (err, 0.0)
 
     def take_step(x, T, rise, S, e_start, st, dt):
         """One step from (x, T, rise, S); returns the new state, its heat ledger and the error norm / tol."""
@@ -152,28 +182,40 @@ def run_reference(p):
         kf1, kb1 = rate(mf1, Tn)
         xn = kinetics.exact_first_order_update(conversion=x, k_forward=0.5 * (kf0 + kf1),
                                                k_backward=0.5 * (kb0 + kb1), dt=dt, reactive_fraction=photo.x_max)
-        Sn, e_next, err_S = S, e_start, 0.0
+        Sn, e_next, err_S, visco_n = S, e_start, 0.0, visco
         if has_network:
             Sp = np.where(on, material.update_network_strain(network_strain=S, conversion_old=x, conversion_new=xn,
                                                              strain=e_start), S)
-            _, _, r = mech(xn, Tn, Sp, st)
+            _, _, r = mech(xn, Tn, Sp, st, T, dt)
             e_end = mechanical_strain(r, Tn)
             Sn = np.where(on, material.update_network_strain(network_strain=S, conversion_old=x, conversion_new=xn,
                                                              strain=0.5 * (e_start + e_end)), S)
-            _, _, r = mech(xn, Tn, Sn, st)
+            _, _, r = mech(xn, Tn, Sn, st, T, dt)
             e_next = mechanical_strain(r, Tn)
             err_S = float(np.max(np.abs(Sn - Sp))) / _kernels.STRAIN_SCALE
+        elif has_visco:
+            e_next = mechanical_strain(mech(xn, Tn, S, st, T, dt)[2], Tn)
+        if has_visco:
+            ev_new = primary_strain(e_next, xn)
+            # the miss of the new strain against its linear extrapolation: the viscoelastic local error
+            miss = float(np.max(np.abs(ev_new - visco["ev"] - visco["rate"] * dt))) / _kernels.STRAIN_SCALE
+            err_S = max(err_S, miss)
+            visco_n = visco_after(xn, T, Tn, dt, ev_new)
         target = _kernels.LOCAL_TARGET * tol
         err = max(float(np.max(np.abs(xn - xp))), err_S) / target if tol else 0.0
         err_T = err_T / _kernels.TEMPERATURE_SCALE / target if tol else 0.0
-        return xn, Tn, rise_n, Sn, e_next, ledger, (err, err_T)
+        return xn, Tn, rise_n, Sn, e_next, ledger, visco_n, (err, err_T)
 
     dt_next = 0.0
+    e_start = None
     n_acc = n_rej = 0
     for s in range(sched.seg_step.size):
         st = sched.seg_step[s]
         seg_len = sched.times[s + 1] - sched.times[s]
-        e_start = mechanical_strain(mech(x, T, S, st)[2], T) if has_network else None
+        new_step = s == 0 or st != sched.seg_step[s - 1]
+        e_start = mechanical_strain(mech(x, T, S, st)[2], T) if has_network or (has_visco and new_step) else e_start
+        if has_visco and new_step:  # the instantaneous (glassy) step at the start of a protocol step
+            visco = visco_after(x, T, T, 0.0, primary_strain(e_start, x))
         if tol and (s == 0 or st != sched.seg_step[s - 1]):
             kf, kb = rate(light_at(x, sched.step_flux[st])[0], T)
             k_max = float(np.max(kf + kb))
@@ -181,7 +223,7 @@ def run_reference(p):
             dt_next = h0 if dt_next == 0.0 or h0 < dt_next else dt_next
         if not tol:
             for _ in range(sched.seg_n[s]):
-                x, T, rise, S, e_start, ledger, _ = take_step(x, T, rise, S, e_start, st, sched.seg_dt[s])
+                x, T, rise, S, e_start, ledger, visco, _ = take_step(x, T, rise, S, e_start, st, sched.seg_dt[s])
                 energy += ledger
                 n_acc += 1
         else:
@@ -209,7 +251,7 @@ def run_reference(p):
                 if last and dt_unclipped > dt_next:
                     dt_next = dt_unclipped
                 rejected_last = False
-                x, T, rise, S, e_start, ledger, _ = trial
+                x, T, rise, S, e_start, ledger, visco, _ = trial
                 energy += ledger
                 n_acc += 1
                 t = seg_len if last else t + dt

@@ -12,7 +12,8 @@ the job that reads them). Field tables are read with :class:`actsim.schema.Table
 """
 
 from ..schema import Table
-from .model import HOLDS, HeatSettings, Layer, LightSource, Material, OpticsSettings, Scenario, SpectralFunction, Step, Strip
+from .model import (HOLDS, HeatSettings, Layer, LightSource, Material, OpticsSettings, Relaxation, Scenario,
+                    SpectralFunction, Step, Strip)
 from .overrides import apply_overrides, descend, split_field_path
 from .parse import JOB_SECTIONS, load_scenario, parse_scenario
 from .sections import scenario_info, section_settings
@@ -28,6 +29,7 @@ __all__ = [
     "JOB_SECTIONS",
     "Scenario",
     "Material",
+    "Relaxation",
     "Layer",
     "Strip",
     "Step",

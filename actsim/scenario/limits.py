@@ -130,6 +130,24 @@ LIMITS: dict[str, Limit] = {
     "materials.NAME.back_reaction_activation_energy": Limit("energy_per_mol", 0.0, 1e6,
                                                             reason="1000 kJ/mol is above any covalent bond "
                                                             "energy (from memory)"),
+    "materials.NAME.relaxation.terms[].modulus": Limit("pressure", 0.0, 1e12, reason="0 (an elastic term) up to "
+                                                        "diamond's modulus (about 1.1 TPa, from memory)"),
+    "materials.NAME.relaxation.terms[].time": Limit("time", 1e-12, 1e30,
+                                                    reason="from picoseconds (the fastest segmental motions, from "
+                                                    "memory) to far beyond any protocol (an elastic term); the "
+                                                    "shift a_T moves them further (" + _NOSRC + ")"),
+    "materials.NAME.relaxation.reference_temperature": Limit("temperature", 1.0, 2000.0, reason=_TEMPERATURE),
+    "materials.NAME.relaxation.wlf_c1": Limit(None, 0.0, 100.0, lo_open=True,
+                                              reason="17.44 is the 'universal' value about Tg (Williams, Landel "
+                                              "and Ferry 1955); measured ones are a few to about 40 (from memory)"),
+    "materials.NAME.relaxation.wlf_c2": Limit("temperature_difference", 1.0, 1000.0,
+                                              reason="51.6 K is the 'universal' value about Tg (Williams, Landel "
+                                              "and Ferry 1955); measured ones are tens to a few hundred K (from "
+                                              "memory)"),
+    "materials.NAME.relaxation.activation_energy": Limit("energy_per_mol", 0.0, 1e7,
+                                                         reason="secondary relaxations take tens of kJ/mol, an "
+                                                         "Arrhenius fit through Tg up to several MJ/mol (from "
+                                                         "memory)"),
     "spectral bands[].centre": Limit("wavelength", 100e-9, 20e-6, reason=_WAVELENGTH),
     "spectral bands[].fwhm": Limit("wavelength", 0.1e-9, 1000e-9, reason=_FWHM),
     "spectral wavelength[]": Limit("wavelength", 100e-9, 20e-6, reason=_WAVELENGTH),
@@ -174,6 +192,7 @@ SIZE_LIMITS: dict[str, int] = {
     "protocol_steps": 10_000,
     "table_points": 100_000,  # points of an inline spectral table
     "spectral_bands": 1_000,  # Gaussian bands of one spectral property
+    "relaxation_terms": 50,  # Prony terms of one material (a decade apart, 50 span any measured spectrum)
     "total_cells": 100_000,  # cells of all layers
     "output_times": 1_000_000,
     "output_values": 20_000_000,  # output times x cells, per (time, z) field: about 1.1 GB for the seven fields

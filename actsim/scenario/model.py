@@ -12,8 +12,27 @@ from dataclasses import dataclass, field, replace
 
 from ..spectra import LightSource, SpectralFunction
 
-__all__ = ["Material", "Layer", "Strip", "HOLDS", "Step", "HeatSettings", "OpticsSettings", "Scenario",
+__all__ = ["Relaxation", "Material", "Layer", "Strip", "HOLDS", "Step", "HeatSettings", "OpticsSettings", "Scenario",
            "LightSource", "SpectralFunction"]
+
+
+@dataclass(frozen=True)
+class Relaxation:
+    """Linear viscoelasticity of a material's primary network: a Prony series and its time-temperature shift, SI.
+
+    The relaxation modulus is ``E(xi) = modulus + sum_k moduli[k] exp(-xi / times[k])`` in the reduced time
+    ``d xi = dt / a_T(T)`` (the material's ``modulus`` is the long-term, fully relaxed one); ``shift`` is
+    ``"none"``, ``"wlf"`` (``wlf_c1`` [1], ``wlf_c2`` [K] about ``reference_temperature`` [K]) or
+    ``"arrhenius"`` (``activation_energy`` [J/mol] about ``reference_temperature``).
+    """
+
+    moduli: tuple  # Pa, one per term
+    times: tuple  # s, at the reference temperature
+    shift: str = "none"
+    reference_temperature: float = 293.15  # K
+    wlf_c1: float = 17.44  # 1
+    wlf_c2: float = 51.6  # K
+    activation_energy: float = 0.0  # J/mol
 
 
 @dataclass(frozen=True, eq=False)
@@ -23,7 +42,8 @@ class Material:
     ``modulus`` is the Young's modulus of the unconverted (reactant) form and
     ``product_modulus`` that of the fully converted form; in between the
     modulus is linear in conversion. A passive material has zero chromophore
-    concentration.
+    concentration. With ``relaxation`` (a :class:`Relaxation`) the primary
+    network is viscoelastic and ``modulus`` is its long-term (relaxed) modulus.
     """
 
     name: str
@@ -52,6 +72,8 @@ class Material:
     product_modulus_ratio: float = 1.0  # E_B/E_A when the modulus follows a temperature law
     # light-formed (second) network: modulus of the fully formed network [Pa]; network density = conversion
     network_modulus: float = 0.0
+    # linear viscoelasticity of the primary network (None: elastic); ``modulus`` is then the long-term modulus
+    relaxation: Relaxation | None = None
 
     @property
     def is_active(self) -> bool:

@@ -26,7 +26,7 @@ from ..schema import Table
 from ..spectra import LightSource, SpectralFunction, gaussian_bands, line_bands, read_table_csv, tabulated_bands
 from ..units import SI_UNITS, check_range, parse_dimensionless, parse_quantity
 from .limits import SIZE_LIMITS, check_count, check_time_counts, limit, nesting_depth
-from .model import HOLDS, HeatSettings, Layer, Material, OpticsSettings, Scenario, Step, Strip
+from .model import HOLDS, HeatSettings, Layer, Material, OpticsSettings, Relaxation, Scenario, Step, Strip
 
 __all__ = ["JOB_SECTIONS", "DEFAULT_TIME_TOLERANCE", "parse_scenario", "load_scenario"]
 
@@ -171,9 +171,50 @@ def _read_modulus_table(path: Path, field_name: str):
     return temps, moduli
 
 
+def _parse_relaxation(t: "Table") -> Relaxation | None:
+    """The optional [materials.X.relaxation] table: Prony terms and the time-temperature shift."""
+    if not t.has("relaxation"):
+        return None
+    g = t.table("relaxation")
+    terms = g.raw("terms")
+    where = g.field_path("terms")
+    if not isinstance(terms, list) or not terms:
+        raise ActsimInputError(f"{where}: give a list of {{ modulus = \"...\", time = \"...\" }} tables (at least one)")
+    check_count(len(terms), "relaxation_terms", field=where)
+    moduli, times = [], []
+    for k, term in enumerate(terms):
+        tt = Table(term, f"{where}[{k}]")
+        moduli.append(tt.quantity("modulus", "pressure", **limit("materials.NAME.relaxation.terms[].modulus")))
+        times.append(tt.quantity("time", "time", **limit("materials.NAME.relaxation.terms[].time")))
+        tt.finish()
+    shift = g.string("shift", default="none", choices=("none", "wlf", "arrhenius"))
+    kw = {}
+    if shift != "none":
+        kw["reference_temperature"] = g.quantity("reference_temperature", "temperature",
+                                                 **limit("materials.NAME.relaxation.reference_temperature"))
+    if shift == "wlf":
+        kw["wlf_c1"] = g.number("wlf_c1", default=17.44, **limit("materials.NAME.relaxation.wlf_c1"))
+        kw["wlf_c2"] = g.quantity("wlf_c2", "temperature_difference", default="51.6 K",
+                                  **limit("materials.NAME.relaxation.wlf_c2"))
+    elif shift == "arrhenius":
+        kw["activation_energy"] = g.quantity("activation_energy", "energy_per_mol",
+                                             **limit("materials.NAME.relaxation.activation_energy"))
+    for key in ("reference_temperature", "wlf_c1", "wlf_c2", "activation_energy"):
+        if key not in kw and g.has(key):
+            raise ActsimInputError(f"{g.field_path(key)}: not used with shift = '{shift}'")
+    g.finish()
+    return Relaxation(moduli=tuple(moduli), times=tuple(times), shift=shift, **kw)
+
+
 def _parse_material(name: str, data, base_dir: Path) -> Material:
     t = Table(data, f"materials.{name}")
     temperature_modulus = _parse_temperature_modulus(t, base_dir)
+    relaxation = _parse_relaxation(t)
+    if relaxation is not None and temperature_modulus is not None:
+        raise ActsimInputError(
+            f"materials.{name}.relaxation: a relaxing material takes its temperature dependence from the shift; "
+            "remove glass_transition / modulus_table and give the long-term modulus as modulus"
+        )
     if temperature_modulus is not None:
         for key in ("modulus", "product_modulus"):
             if t.has(key):
@@ -207,6 +248,7 @@ def _parse_material(name: str, data, base_dir: Path) -> Material:
         network_modulus=t.quantity("network_modulus", "pressure", default=0.0, **lim("network_modulus")),
         temperature_modulus=temperature_modulus,
         product_modulus_ratio=ratio,
+        relaxation=relaxation,
     )
     if kw["network_modulus"] > 0 and conc <= 0:
         raise ActsimInputError(

@@ -1,0 +1,313 @@
+"""Linear viscoelasticity per cell (Prony series, time-temperature shift, exact exponential update).
+
+Every check is against a result from outside the code: closed forms of the standard linear solid, the
+Fourier transform of a relaxation modulus (by scipy's quadrature), the WLF equation with its published
+"universal" constants, and the correspondence principle for a bilayer (Laplace-domain Timoshenko
+formula inverted numerically by mpmath). ``pytest -s`` prints the measured errors and orders.
+"""
+
+from __future__ import annotations
+
+import math
+import textwrap
+
+import numpy as np
+import pytest
+
+import actsim
+from actsim.errors import ActsimInputError
+from actsim.material import arrhenius_log_shift, prony_relaxation_modulus, prony_storage_loss, wlf_log_shift
+from actsim.scenario import parse_scenario
+
+E_INF, E_1, TAU = 1.0e9, 2.0e9, 1.0  # Pa, Pa, s: a standard linear solid (E_0 = 3 GPa)
+
+
+def single_layer(protocol, *, relaxation, tolerance="1e-6", cells=2, modulus="1 GPa", output="0.5 s"):
+    """One passive layer with a [relaxation] table, no heat (T = 293.15 K throughout)."""
+    return parse_scenario(textwrap.dedent(f"""
+    title = "viscoelastic layer"
+    [strip]
+    free_length = "10 mm"
+    width = "2 mm"
+    [materials.m]
+    modulus = "{modulus}"
+    [materials.m.relaxation]
+    {relaxation}
+    [[layers]]
+    name = "a"
+    material = "m"
+    thickness = "20 um"
+    cells = {cells}
+    {protocol}
+    [time]
+    output_interval = "{output}"
+    tolerance = {tolerance}
+    """))
+
+
+SLS = 'terms = [{ modulus = "2 GPa", time = "1 s" }]'
+
+
+# ----------------------------------------------------------------------------------- standard linear solid
+def test_sls_stress_relaxation_under_held_stretch():
+    # SLS relaxation under a step strain e0: sigma(t) = (E_inf + E_1 exp(-t/tau)) e0
+    # (Findley, Lai and Onaran, Creep and Relaxation of Nonlinear Viscoelastic Materials, 1976, sec. 5.4)
+    e0 = 0.01
+    sc = single_layer('[[protocol]]\nduration = "6 s"\nhold = "stretch"\nstrain = 0.01', relaxation=SLS)
+    for engine in ("kernel", "reference"):
+        ds = actsim.simulate(sc, engine=engine)
+        t = ds.time.values
+        exact = (E_INF + E_1 * np.exp(-t / TAU)) * e0
+        err = np.max(np.abs(ds.stress.values[:, 0] - exact)) / (E_INF * e0)
+        print(f"SLS relaxation ({engine}): max relative stress error {err:.2e}")
+        assert err < 1e-12  # the exponential update is exact for a strain constant in the step
+        np.testing.assert_allclose(ds.axial_strain.values, e0, rtol=1e-14)
+
+
+def test_two_term_relaxation_and_modulus_function():
+    # E(t) = E_inf + sum_k E_k exp(-t/tau_k), the generalised Maxwell model (Ferry 1980, ch. 3)
+    rel = 'terms = [{ modulus = "2 GPa", time = "0.3 s" }, { modulus = "500 MPa", time = "4 s" }]'
+    sc = single_layer('[[protocol]]\nduration = "8 s"\nhold = "stretch"\nstrain = -0.005', relaxation=rel)
+    ds = actsim.simulate(sc)
+    t = ds.time.values
+    exact = -0.005 * (1e9 + 2e9 * np.exp(-t / 0.3) + 5e8 * np.exp(-t / 4.0))
+    np.testing.assert_allclose(ds.stress.values[:, 1], exact, rtol=1e-12)
+    np.testing.assert_allclose(prony_relaxation_modulus(time=t, long_term_modulus=1e9, moduli=[2e9, 5e8],
+                                                        relaxation_times=[0.3, 4.0]), exact / -0.005, rtol=1e-14)
+
+
+def test_sls_creep_recovery_after_release():
+    # Creep compliance of the SLS under a step stress sigma0 (Findley, Lai and Onaran 1976, sec. 5.4):
+    #   J(t) = 1/E_inf - (1/E_inf - 1/E_0) exp(-t/tau_r),  tau_r = tau E_0 / E_inf (retardation time).
+    # Held at e0 for 40 tau the SLS is relaxed (stress E_inf e0, Maxwell element unloaded to exp(-40));
+    # releasing it is a stress step -E_inf e0 on that state, so by Boltzmann superposition
+    #   e(t) = e0 - E_inf e0 J(t) = e0 (1 - E_inf/E_0) exp(-t/tau_r).
+    e0, e_0 = 0.01, E_INF + E_1
+    tau_r = TAU * e_0 / E_INF
+    proto = ('[[protocol]]\nduration = "40 s"\nhold = "stretch"\nstrain = 0.01\n'
+             '[[protocol]]\nduration = "12 s"\nhold = "release"')
+    ds = actsim.simulate(single_layer(proto, relaxation=SLS, tolerance="1e-5"))
+    after = ds.time.values > 40.0
+    t = ds.time.values[after] - 40.0
+    exact = e0 * (1.0 - E_INF / e_0) * np.exp(-t / tau_r)
+    err = np.max(np.abs(ds.axial_strain.values[after] - exact)) / e0
+    print(f"SLS creep recovery: max error {err:.2e} of the held strain, {int(ds.attrs['time_steps_accepted'])} steps")
+    assert err < 2e-6
+    np.testing.assert_allclose(ds.stress.values[after], 0.0, atol=1e-6 * E_INF * e0)  # free: no stress
+
+
+# ----------------------------------------------------------------------------- dynamic moduli, the shift
+def test_storage_and_loss_modulus_are_the_fourier_transform_of_the_relaxation_modulus():
+    # E'(w) = E_inf + w int_0^inf (E(t) - E_inf) sin(wt) dt,  E''(w) = w int_0^inf (E(t) - E_inf) cos(wt) dt
+    # (Ferry, Viscoelastic Properties of Polymers, 3rd ed., 1980, ch. 3); integrals by scipy's QAWO
+    # (weighted oscillatory) quadrature up to 50 x the longest time (the rest is below exp(-50)), term by term,
+    # independent of the closed forms in prony_storage_loss.
+    from scipy.integrate import quad
+
+    moduli, times, e_inf = [1.2e9, 4e8, 9e7], [0.01, 0.7, 30.0], 5e6
+    for w in (0.02, 0.5, 3.0, 80.0):
+        s_int = c_int = 0.0
+        for e_k, tau_k in zip(moduli, times):
+            def term(t, e_k=e_k, tau_k=tau_k):
+                return prony_relaxation_modulus(time=t, long_term_modulus=0.0, moduli=[e_k], relaxation_times=[tau_k])
+
+            s_int += quad(term, 0.0, 50 * tau_k, weight="sin", wvar=w, limit=500, epsabs=0.0, epsrel=1e-11)[0]
+            c_int += quad(term, 0.0, 50 * tau_k, weight="cos", wvar=w, limit=500, epsabs=0.0, epsrel=1e-11)[0]
+        storage, loss = prony_storage_loss(angular_frequency=w, long_term_modulus=e_inf, moduli=moduli,
+                                           relaxation_times=times)
+        assert storage == pytest.approx(e_inf + w * s_int, rel=1e-8)
+        assert loss == pytest.approx(w * c_int, rel=1e-8)
+    # limits: E'(0) = E_inf, E'(inf) = E_0, E'' -> 0 at both ends (Ferry 1980, ch. 3)
+    s0, l0 = prony_storage_loss(angular_frequency=0.0, long_term_modulus=e_inf, moduli=moduli, relaxation_times=times)
+    s_hi, l_hi = prony_storage_loss(angular_frequency=1e12, long_term_modulus=e_inf, moduli=moduli,
+                                    relaxation_times=times)
+    assert s0 == e_inf and l0 == 0.0
+    assert s_hi == pytest.approx(e_inf + sum(moduli), rel=1e-9) and l_hi < 1e-6 * sum(moduli)
+
+
+def test_wlf_with_the_universal_constants():
+    # log10 a_T = -17.44 (T - Tg) / (51.6 + T - Tg) (Williams, Landel and Ferry, J. Am. Chem. Soc. 77 (1955) 3701);
+    # values by hand: T - Tg = 0 -> 0; 20 K -> -348.8/71.6 = -4.87151; 51.6 K -> -8.72; -20 K -> +11.0380
+    tg = 340.0
+    for d, want in ((0.0, 0.0), (20.0, -4.871508), (51.6, -8.72), (-20.0, 11.037975)):
+        assert wlf_log_shift(temperature=tg + d, c1=17.44, c2=51.6, reference_temperature=tg) == pytest.approx(
+            want, abs=1e-6)
+    # at and below Tg - C2 the form diverges: no relaxation at all
+    assert wlf_log_shift(temperature=tg - 51.6, c1=17.44, c2=51.6, reference_temperature=tg) == np.inf
+    # Arrhenius: ln a_T = Ea/R (1/T - 1/Tr); 100 kJ/mol from 300 K to 310 K: by hand ln a_T = 12027.24 x (-1.075269e-4) = -1.293251
+    assert arrhenius_log_shift(temperature=310.0, activation_energy=1e5, reference_temperature=300.0) * math.log(
+        10) == pytest.approx(-1.293251, rel=1e-6)
+
+
+@pytest.mark.parametrize("shift,fields,log10_a", [
+    # WLF universal constants, T - Tr = 293.15 - 273.15 = 20 K -> log10 a_T = -4.871508 (Williams et al. 1955)
+    ("wlf", 'reference_temperature = "0 degC"', -17.44 * 20.0 / 71.6),
+    # Arrhenius, 100 kJ/mol, Tr = 303.15 K -> log10 a_T = 1e5/8.314462618 (1/293.15 - 1/303.15) / ln 10
+    ("arrhenius", 'reference_temperature = "30 degC"\nactivation_energy = "100 kJ/mol"',
+     1e5 / 8.314462618 * (1 / 293.15 - 1 / 303.15) / math.log(10)),
+])
+def test_shifted_relaxation_in_the_time_loop(shift, fields, log10_a):
+    # time-temperature superposition: at T the relaxation times are tau a_T (Ferry 1980, ch. 11)
+    tau_T = TAU * 10.0 ** log10_a
+    rel = f'terms = [{{ modulus = "2 GPa", time = "{TAU / tau_T * 2.0!r} s" }}]\nshift = "{shift}"\n{fields}'
+    sc = single_layer('[[protocol]]\nduration = "6 s"\nhold = "stretch"\nstrain = 0.01', relaxation=rel)
+    ds = actsim.simulate(sc)
+    t = ds.time.values
+    # tau at T is (TAU / tau_T * 2) * a_T = 2 s
+    np.testing.assert_allclose(ds.stress.values[:, 0], 0.01 * (E_INF + E_1 * np.exp(-t / 2.0)), rtol=1e-9)
+
+
+# ------------------------------------------------------------------------------------ the layered beam
+BILAYER = """
+title = "viscoelastic bilayer under a step eigenstrain"
+[strip]
+free_length = "10 mm"
+width = "2 mm"
+[materials.base]
+modulus = "2 GPa"
+[materials.film]
+modulus = "{e_inf}"
+chromophore_concentration = "0.1 mol/L"
+reactant_absorptivity = "100 L/(mol*cm)"
+product_absorptivity = "100 L/(mol*cm)"
+forward_quantum_yield = 0.1
+photo_strain = -0.01
+{relaxation}
+[[layers]]
+name = "base"
+material = "base"
+thickness = "{h2}"
+cells = 4
+[[layers]]
+name = "film"
+material = "film"
+thickness = "{h1}"
+cells = {cells}
+initial_conversion = {x0}
+{light}
+[[protocol]]
+duration = "{duration}"
+{on}
+[time]
+output_interval = "{output}"
+{stepping}
+"""
+
+
+def bilayer(*, relaxation=f'[materials.film.relaxation]\n{SLS}', e_inf="1 GPa", h1="15 um", h2="25 um", cells=64,
+            x0=1.0, light=False, duration="5 s", output="0.25 s", stepping="tolerance = 1e-7"):
+    src = '[[sources]]\nname = "lamp"\nwavelength = "365 nm"\nirradiance = "20 mW/cm^2"' if light else ""
+    return parse_scenario(textwrap.dedent(BILAYER.format(
+        relaxation=relaxation, e_inf=e_inf, h1=h1, h2=h2, cells=cells, x0=x0, light=src, duration=duration,
+        on='light = ["lamp"]' if light else "", output=output, stepping=stepping)))
+
+
+def timoshenko_curvature(*, mismatch, e1, e2, h1, h2):
+    """Timoshenko's bimetal curvature (J. Opt. Soc. Am. 11 (1925) 233), layer 1 on layer 2, mismatch e_2 - e_1."""
+    m, n = h1 / h2, e1 / e2
+    return 6 * mismatch * (1 + m) ** 2 / ((h1 + h2) * (3 * (1 + m) ** 2 + (1 + m * n) * (m ** 2 + 1 / (m * n))))
+
+
+def test_bilayer_curvature_relaxes_as_the_correspondence_principle_predicts():
+    # Correspondence principle (Findley, Lai and Onaran 1976, ch. 10; Ferry 1980, ch. 1): under a step
+    # eigenstrain eps H(t) the Laplace transform of the curvature is the elastic (Timoshenko) curvature with the
+    # film's modulus replaced by its Carson transform s E(s) = E_inf + E_1 s tau / (1 + s tau), divided by s:
+    #   kappa(s) = K(s E(s)) eps / s;  inverted numerically by mpmath's Talbot method.
+    import mpmath
+
+    h1, h2, e2, eps = 15e-6, 25e-6, 2e9, -0.01
+    ds = actsim.simulate(bilayer())
+    t = ds.time.values
+
+    def laplace(s):
+        e_film = E_INF + E_1 * s * TAU / (1 + s * TAU)
+        return timoshenko_curvature(mismatch=-eps, e1=e_film, e2=e2, h1=h1, h2=h2) / s
+
+    exact = np.array([timoshenko_curvature(mismatch=-eps, e1=E_INF + E_1, e2=e2, h1=h1, h2=h2)] +
+                     [float(mpmath.invertlaplace(laplace, ti, method="talbot")) for ti in t[1:]])
+    k = ds.curvature.values
+    err = np.max(np.abs(k - exact)) / np.max(np.abs(exact))
+    print(f"bilayer, SLS film on an elastic base: curvature {k[0]:.4g} -> {k[-1]:.4g} 1/m, max rel. error {err:.2e}")
+    # t = 0: the glassy Timoshenko curvature exactly; later the Maxwell stresses are kept at the centres of the
+    # film's 64 cells (their moment is second order in the cell width), and the time error is 1e-7
+    assert k[0] == pytest.approx(exact[0], rel=1e-12)
+    assert err < 5e-5
+    assert abs(k[-1]) < abs(k[0])  # the film relaxes, the bend follows the softer film
+
+
+def test_elastic_limit_reproduces_the_elastic_run():
+    # tau -> infinity: nothing relaxes, the layer is elastic with E_0 = E_inf + sum E_k (Ferry 1980, ch. 3)
+    kw = dict(light=True, duration="4 s", stepping='step = "0.05 s"', cells=12, x0=0.0)
+    frozen = bilayer(relaxation='[materials.film.relaxation]\nterms = [{ modulus = "2 GPa", time = "1e30 s" }]', **kw)
+    elastic = bilayer(relaxation="", e_inf="3 GPa", **kw)
+    zero = bilayer(relaxation='[materials.film.relaxation]\nterms = [{ modulus = "0 GPa", time = "1 s" }]', **kw)
+    soft = bilayer(relaxation="", e_inf="1 GPa", **kw)
+    for a, b in ((frozen, elastic), (zero, soft)):
+        da, db = actsim.simulate(a), actsim.simulate(b)
+        for name in ("curvature", "stress", "modulus", "eigenstrain", "blocked_force"):
+            scale = np.max(np.abs(db[name].values))
+            d = np.max(np.abs(da[name].values - db[name].values)) / scale
+            assert d < 1e-9, (name, d)
+        assert float(np.max(np.abs(db.curvature.values))) > 1.0  # it bends
+
+
+@pytest.mark.parametrize("hold", ["free", "flat"])
+def test_second_order_in_the_time_step(hold):
+    # a smooth strain history (the film converts under light over 4 s while it relaxes, tau = 1 s; free, or held
+    # flat so that the axial strain and holding moment follow): fixed steps h, h/2, h/4 against h/32; a
+    # second-order scheme shows errors falling by 4 (Simo and Hughes 1998, sec. 10.3: the update is exact for
+    # a strain linear in the step, so its local error is O(h^3)).
+    runs = {}
+    for n in (40, 80, 160, 1280):
+        sc = bilayer(light=True, duration="4 s", output="0.5 s", cells=4, x0=0.0, stepping=f'step = "{4.0 / n!r} s"')
+        ds = actsim.simulate(parse_scenario(sc.text.replace('light = ["lamp"]', f'light = ["lamp"]\nhold = "{hold}"')))
+        runs[n] = np.c_[ds.axial_strain.values / 1e-4, ds.holding_moment.values / 1e-6, ds.curvature.values]
+    errs = [np.max(np.abs(runs[n] - runs[1280])) for n in (40, 80, 160)]
+    orders = [math.log2(errs[i] / errs[i + 1]) for i in range(2)]
+    print(f"{hold} bilayer under light: errors {errs[0]:.2e}, {errs[1]:.2e}, {errs[2]:.2e}: observed orders "
+          f"{orders[0]:.2f}, {orders[1]:.2f}")
+    assert all(1.8 < p < 2.3 for p in orders)
+
+
+def test_kernel_matches_reference_with_network_heat_and_relaxation():
+    # the readable loop (numpy stage functions) and the numba kernel: same scheme by two routes, rtol 1e-12
+    text = bilayer(light=True, duration="3 s", output="0.5 s", cells=6, x0=0.0, stepping="tolerance = 1e-4").text
+    text = text.replace("photo_strain = -0.01", 'photo_strain = -0.01\nnetwork_modulus = "200 MPa"\n'
+                        'thermal_expansion = "1e-4 1/K"')
+    text = text.replace("[materials.film.relaxation]", "[materials.film.relaxation]\nshift = \"wlf\"\n"
+                        "reference_temperature = \"25 degC\"")
+    text = text.replace('[[protocol]]', '[heat]\nambient_temperature = "20 degC"\n[[protocol]]', 1)
+    text += '[[protocol]]\nduration = "1 s"\nhold = "stretch"\nstrain = 0.002\n[[protocol]]\nduration = "1 s"\n'
+    text += 'hold = "release"\n'
+    sc = parse_scenario(text)
+    fast, slow = actsim.simulate(sc), actsim.simulate(sc, engine="reference")
+    assert fast.attrs["time_steps_accepted"] == slow.attrs["time_steps_accepted"]
+    for name in ("curvature", "stress", "modulus", "eigenstrain", "network_strain", "temperature", "axial_strain"):
+        np.testing.assert_allclose(fast[name].values, slow[name].values, rtol=1e-12, atol=1e-12 * float(
+            np.max(np.abs(slow[name].values))), err_msg=name)
+
+
+# ------------------------------------------------------------------------------------------- bad input
+@pytest.mark.parametrize("relaxation,match", [
+    ('terms = []', r"materials\.m\.relaxation\.terms: give a list"),
+    ('terms = [{ modulus = "1 GPa" }]', r"materials\.m\.relaxation\.terms\[0\]\.time: required"),
+    ('terms = [{ modulus = "1 GPa", time = "0 s" }]', r"terms\[0\]\.time: .*outside the allowed range"),
+    ('terms = [{ modulus = "1 GPa", time = "1 s", tau = 3 }]', r"terms\[0\]\.tau: unknown field"),
+    (SLS + '\nshift = "vft"', r"relaxation\.shift: 'vft' is not one of"),
+    (SLS + '\nshift = "wlf"', r"relaxation\.reference_temperature: required"),
+    (SLS + '\nshift = "wlf"\nreference_temperature = "50 degC"\nwlf_c1 = 0', r"wlf_c1: .*outside the allowed"),
+    (SLS + '\nwlf_c1 = 17', r"relaxation\.wlf_c1: not used with shift = 'none'"),
+])
+def test_bad_relaxation_input_is_one_line(relaxation, match):
+    with pytest.raises(ActsimInputError, match=match) as exc:
+        single_layer('[[protocol]]\nduration = "1 s"', relaxation=relaxation)
+    assert "\n" not in str(exc.value)
+
+
+def test_relaxation_with_a_temperature_law_is_refused():
+    text = single_layer('[[protocol]]\nduration = "1 s"', relaxation=SLS).text
+    text = text.replace('modulus = "1 GPa"\n', '', 1).replace(
+        "[materials.m.relaxation]", '[materials.m.glass_transition]\nglassy_modulus = "2 GPa"\n'
+        'rubbery_modulus = "10 MPa"\ntemperature = "50 degC"\nwidth = "5 K"\n[materials.m.relaxation]')
+    with pytest.raises(ActsimInputError, match=r"materials\.m\.relaxation: a relaxing material takes"):
+        parse_scenario(text)
