@@ -1025,6 +1025,18 @@ def plot_tensile_rates(series: RateSeries, path):
     Returns
     -------
     pathlib.Path
+
+    Notes
+    -----
+    The yield panel draws the fitted law at each test temperature,
+
+    .. math::
+
+        \sigma_y(\dot\varepsilon) = \frac{R T}{V}\ln\frac{2\dot\varepsilon}{\dot\varepsilon_0} + \frac{\Delta H}{V}
+
+    References
+    ----------
+    .. [1] I. M. Ward and J. Sweeney, *Mechanical Properties of Solid Polymers*, 3rd ed., Wiley, 2013.
     """
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
