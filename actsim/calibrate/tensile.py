@@ -1032,7 +1032,7 @@ def plot_tensile_rates(series: RateSeries, path):
 
     .. math::
 
-        \sigma_y(\dot\varepsilon) = \frac{R T}{V}\ln\frac{2\dot\varepsilon}{\dot\varepsilon_0} + \frac{\Delta H}{V}
+        \\sigma_y(\\dot\\varepsilon) = \\frac{R T}{V}\\ln\\frac{2\\dot\\varepsilon}{\\dot\\varepsilon_0} + \\frac{\\Delta H}{V}
 
     References
     ----------
