@@ -18,7 +18,11 @@ from ..errors import ActsimInputError
 EPILOG = """\
 KIND and DATA:
   tensile FILE              strain, stress CSV (e.g. 'strain [%], stress [MPa]')
+  tensile FILE... --rate R... [--test-temperature T...] [--at-rate R]
+                            curves at several strain rates: modulus and Eyring yield against rate
   dma FILE                  temperature, storage modulus CSV
+  dma FILE --viscoelastic   temperature, frequency, storage and loss modulus CSV: shift factors,
+                            WLF/Arrhenius, master curve, Prony series, [materials.NAME.relaxation]
   spectra BEFORE AFTER [PARTIAL]   absorbance spectra; needs --concentration and --thickness
   bend PLAN.toml            a fit plan (base scenario, curves with overrides, parameters)
   bend FILE... --scenario BASE.toml [--curve FILE:PATH=VALUE,...] [--param PATH:UNIT:LOW:HIGH]
@@ -28,6 +32,10 @@ example:
   actsim fit demo -o out/fit-demo
   actsim fit tensile scenarios/calibration/tensile_flap_film.csv -o out/tensile
   actsim fit dma scenarios/calibration/dma_flap_film.csv -o out/dma
+  actsim fit dma scenarios/calibration/dma_sweeps_hinge_film.csv --viscoelastic \\
+      --reference-temperature "60 degC" --material flap_film -o out/dma-ve
+  actsim fit tensile a.csv b.csv c.csv --rate "1e-4 1/s" --rate "1e-3 1/s" --rate "1e-2 1/s" \\
+      --at-rate "0.1 1/s" -o out/rates
   actsim fit spectra scenarios/calibration/uvvis_before.csv scenarios/calibration/uvvis_after.csv \\
       --concentration "0.4 mol/L" --thickness "1 um" --conversion 0.8 --absorbance-matrix 0.02 -o out/spectra
   actsim fit bend scenarios/calibration/bend_fit_plan.toml -o out/bend
@@ -144,6 +152,92 @@ def fit_dma_to(path, out: Path, *, step="log", confidence=0.95):
     png = plot_dma(res, out / "figures" / "dma_fit.png", records=figures)
     js = _write_json(out, {"kind": "dma", "data": str(path), **res.to_dict(), "figures": figures})
     return res, [js, png]
+
+
+def fit_tensile_rates_to(paths, out: Path, *, rates, temperatures, at_rate=None, at_temperature=None,
+                         yield_from="offset", toe=False, confidence=0.95):
+    """Tensile curves at several strain rates into ``out``; returns (series, files)."""
+    from ..calibrate.tensile import fit_tensile_rates, plot_tensile_rates
+    from ..units import parse_quantity
+
+    if not rates:
+        raise ActsimInputError(f"fit tensile: {len(paths)} files need one --rate each (e.g. --rate \"1e-3 1/s\")")
+    r = [parse_quantity(v, field="--rate", kind="rate") for v in rates]
+    T = [parse_quantity(v, field="--test-temperature", kind="temperature") for v in (temperatures or ["23 degC"])]
+    at_r = parse_quantity(at_rate, field="--at-rate", kind="rate") if at_rate else None
+    at_T = parse_quantity(at_temperature, field="--at-temperature", kind="temperature") if at_temperature else None
+    if at_r is not None and not at_r > 0:
+        raise ActsimInputError(f"--at-rate: {at_rate!r} is outside the allowed range (> 0 1/s)")
+    series = fit_tensile_rates(paths, rates=r, temperatures=T, yield_from=yield_from, at_rate=at_r,
+                               at_temperature=at_T, confidence=confidence, toe=toe)
+    png = plot_tensile_rates(series, out / "figures" / "tensile_rates.png")
+    js = _write_json(out, {"kind": "tensile-rates", "data": [str(p) for p in paths], **series.to_dict(),
+                           "regression": series.eyring.params.to_dict(), "synthetic": any(r.synthetic for r in series.results)})
+    return series, [js, png]
+
+
+def fit_viscoelastic_to(path, out: Path, *, reference_temperature=None, law="WLF", terms_per_decade=1,
+                        material="fitted", scenario=None, confidence=0.95):
+    """Viscoelastic DMA fit of ``path`` into ``out``; returns (fit, files, text)."""
+    from ..calibrate.viscoelastic import fit_master_curve, plot_master_curve, relaxation_toml
+    from ..io import write_text
+    from ..units import parse_quantity
+
+    Tr = parse_quantity(reference_temperature, field="--reference-temperature", kind="temperature") \
+        if reference_temperature else None
+    fit = fit_master_curve(path, reference_temperature=Tr, law=law, terms_per_decade=terms_per_decade,
+                           confidence=confidence)
+    png = plot_master_curve(fit, out / "figures" / "master_curve.png")
+    snippet = relaxation_toml(fit, material=material)
+    snip = out / "relaxation.toml"
+    write_text(snip, snippet)
+    files = [png, snip]
+    text = fit.to_table() + "\n\nscenario table (" + str(snip.name) + "):\n" + snippet
+    if scenario:
+        toml_path = write_viscoelastic_scenario(fit, scenario, out / "fitted.toml", material=material)
+        files.append(toml_path)
+        text += f"\nfitted scenario: {toml_path.name} (base {Path(scenario).name}, material {material!r})"
+    js = _write_json(out, {"kind": "dma-viscoelastic", "data": str(path), "material": material, **fit.to_dict(),
+                           "regression": fit.shift.to_dict()})
+    return fit, [js] + files, text
+
+
+def write_viscoelastic_scenario(fit, base, path, *, material):
+    """The base scenario with ``[materials.MATERIAL.relaxation]`` set from the fit, written to ``path``."""
+    import copy
+
+    import tomli_w
+
+    from ..calibrate.settings import _rebase_files
+    from ..calibrate.viscoelastic import relaxation_table
+    from ..inputfiles import read_text_file
+    from ..io import write_text
+    from ..scenario import load_scenario
+
+    load_scenario(base)  # the base must be a valid scenario before anything is written
+    raw = copy.deepcopy(tomllib.loads(read_text_file(base, field="--scenario", shown=Path(base).name,
+                                                     what="scenario")))
+    mats = raw.get("materials", {})
+    if material not in mats:
+        raise ActsimInputError(f"--material: {material!r} is not a material of {Path(base).name} "
+                               f"(materials: {', '.join(mats) or 'none'})")
+    fitted = relaxation_table(fit)
+    for key in ("glass_transition", "modulus_table"):  # the shift now carries the temperature dependence
+        mats[material].pop(key, None)
+    mats[material]["modulus"] = fitted["modulus"]
+    mats[material]["relaxation"] = fitted["relaxation"]
+    raw.pop("calibration", None)
+    _rebase_files(raw, Path(base).resolve().parent, Path(path).resolve().parent)
+    head = ["# Fitted scenario written by 'actsim fit dma --viscoelastic'"
+            + (" from SYNTHETIC data" if fit.sweeps.synthetic else "") + ".",
+            f"# Base scenario: {Path(base).name}; [materials.{material}.relaxation] holds the Prony series and the "
+            f"{fit.law} shift fitted to {fit.sweeps.source}.", ""]
+    text = "\n".join(head) + tomli_w.dumps(raw)
+    from ..scenario import parse_scenario
+
+    parse_scenario(text, path=path, base_dir=Path(path).resolve().parent)  # the fitted scenario runs as written
+    write_text(path, text)
+    return Path(path)
 
 
 def plot_spectra(res, before, after, path, *, records=None):
@@ -450,8 +544,18 @@ def cmd_fit(args) -> int:
         from ..inputfiles import check_data_file
 
         check_data_file(name, field="DATA")
-    if args.kind != "bend" and (args.scenario or args.curve or args.param):
-        raise ActsimInputError(f"--scenario/--curve/--param: only for 'fit bend', not 'fit {args.kind}'")
+    viscoelastic = args.kind == "dma" and args.viscoelastic
+    if args.kind != "bend" and (args.curve or args.param or (args.scenario and not viscoelastic)):
+        raise ActsimInputError(f"--scenario/--curve/--param: only for 'fit bend' (--scenario also for "
+                               f"'fit dma --viscoelastic'), not 'fit {args.kind}'")
+    if not viscoelastic and (args.reference_temperature or args.material or args.shift_law != "WLF"
+                             or args.terms_per_decade != 1):
+        raise ActsimInputError("--reference-temperature/--shift-law/--terms-per-decade/--material: only for "
+                               "'fit dma --viscoelastic'")
+    if args.kind != "tensile" and (args.rate or args.test_temperature or args.at_rate or args.at_temperature):
+        raise ActsimInputError("--rate/--test-temperature/--at-rate/--at-temperature: only for 'fit tensile'")
+    if args.viscoelastic and args.kind != "dma":
+        raise ActsimInputError(f"--viscoelastic: only for 'fit dma', not 'fit {args.kind}'")
     # one transaction: the folder holds this fit's files only, or is left as it was
     with result_folder(final, kind="fit", overwrite=args.overwrite) as out:
         text, files = _fit_into(args, out, final, conf)
@@ -466,9 +570,21 @@ def cmd_fit(args) -> int:
 def _fit_into(args, out: Path, final: Path, conf):
     """Run the fit of ``args`` writing into the staging folder ``out``; returns (text, files)."""
     if args.kind == "tensile":
-        _need(args, 1, 1, "strain, stress CSV")
-        res, files = fit_tensile_to(args.data[0], out, toe=args.toe, confidence=conf or 0.95)
+        if len(args.data) > 1 or args.rate:
+            _need(args, 3, 1000, "strain, stress CSVs, one per strain rate")
+            res, files = fit_tensile_rates_to(args.data, out, rates=args.rate, temperatures=args.test_temperature,
+                                              at_rate=args.at_rate, at_temperature=args.at_temperature,
+                                              yield_from=args.yield_from, toe=args.toe, confidence=conf or 0.95)
+        else:
+            _need(args, 1, 1, "strain, stress CSV")
+            res, files = fit_tensile_to(args.data[0], out, toe=args.toe, confidence=conf or 0.95)
         text = res.to_table()
+    elif args.kind == "dma" and args.viscoelastic:
+        _need(args, 1, 1, "temperature, frequency, storage modulus, loss modulus CSV")
+        _, files, text = fit_viscoelastic_to(args.data[0], out, reference_temperature=args.reference_temperature,
+                                             law=args.shift_law, terms_per_decade=args.terms_per_decade,
+                                             material=args.material or "fitted", scenario=args.scenario,
+                                             confidence=conf or 0.95)
     elif args.kind == "dma":
         _need(args, 1, 1, "temperature, storage modulus CSV")
         res, files = fit_dma_to(args.data[0], out, step=args.step, confidence=conf or 0.95)
@@ -525,6 +641,25 @@ def register(subparsers) -> None:
     g = p.add_argument_group("tensile / dma")
     g.add_argument("--toe", action="store_true", help="tensile: apply toe compensation (ASTM D638 Appendix X1)")
     g.add_argument("--step", choices=("log", "linear"), default="log", help="dma: step in log E (default) or in E")
+    g.add_argument("--rate", action="append", default=[], metavar="RATE",
+                   help="tensile: strain rate of each file, in file order, e.g. \"1e-3 1/s\" (repeat)")
+    g.add_argument("--test-temperature", action="append", default=[], metavar="T",
+                   help="tensile: test temperature, once for all files or once per file (default 23 degC)")
+    g.add_argument("--yield-from", choices=("offset", "maximum"), default="offset",
+                   help="tensile rates: yield stress of each curve: offset yield (default) or the largest stress")
+    g.add_argument("--at-rate", metavar="RATE", help="tensile rates: predict yield and modulus at this actuation rate")
+    g.add_argument("--at-temperature", metavar="T", help="tensile rates: temperature of the prediction")
+    g = p.add_argument_group("dma --viscoelastic")
+    g.add_argument("--viscoelastic", action="store_true",
+                   help="dma: frequency sweeps at several temperatures -> shift, master curve, Prony series")
+    g.add_argument("--reference-temperature", metavar="T",
+                   help="reference temperature of the shift and the Prony series (default: mid-range measured T)")
+    g.add_argument("--shift-law", choices=("WLF", "Arrhenius"), default="WLF",
+                   help="shift law written into the scenario (both are fitted and printed; default WLF)")
+    g.add_argument("--terms-per-decade", type=int, choices=(1, 2), default=1,
+                   help="Prony relaxation times per decade of reduced frequency (default 1)")
+    g.add_argument("--material", metavar="NAME", help="material name in [materials.NAME.relaxation] (default "
+                   "'fitted'); with --scenario, the base scenario's material that receives the table")
     g = p.add_argument_group("spectra")
     g.add_argument("--concentration", help="chromophore concentration, e.g. \"0.4 mol/L\"")
     g.add_argument("--thickness", help="optical path (film thickness), e.g. \"1 um\"")
@@ -533,7 +668,8 @@ def register(subparsers) -> None:
     g.add_argument("--absorbance-matrix", type=float, default=0.0,
                    help="absorbance of everything but the chromophore (substrate, matrix), subtracted (default 0)")
     g = p.add_argument_group("bend")
-    g.add_argument("--scenario", metavar="BASE", help="base scenario when no fit plan is given")
+    g.add_argument("--scenario", metavar="BASE", help="base scenario when no fit plan is given (bend); the scenario "
+                   "that receives the fitted relaxation table (dma --viscoelastic)")
     g.add_argument("--curve", action="append", default=[], metavar="FILE:PATH=VALUE,...",
                    help="a curve and its overrides, e.g. 'b20.csv:protocol[0].light.uv_lamp=20 mW/cm^2' (repeat)")
     g.add_argument("--param", action="append", default=[], metavar="PATH:UNIT:LOW:HIGH[:INIT]",
