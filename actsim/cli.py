@@ -94,6 +94,15 @@ def summary_table(summary: dict, width: int | None = None) -> str:
             rows.append((f"blocked force at {tgt}", _fmt(summary["blocked_force_at_target"], "mN", 1e3)))
             if "front_depth_at_target" in summary:
                 rows.append((f"front depth at {tgt}", _fmt(summary["front_depth_at_target"], "um", 1e6)))
+    for h in summary.get("held_steps", []):
+        if h["quantity"] == "holding_moment":
+            load = lambda v: _fmt(v, "uN m", 1e6)  # noqa: E731
+        else:
+            load = lambda v: _fmt(v, "mN", 1e3)  # noqa: E731
+        left = "" if h["share_left"] is None else f" ({100 * h['share_left']:.1f} % of the peak left)"
+        rows.append((f"held {h['hold']}, step {h['step']}",
+                     f"{h['quantity'].replace('_', ' ')} {load(h['peak'])} at {h['time_of_peak']:.4g} s; "
+                     f"{load(h['final'])} at {h['time_of_end']:.4g} s{left}"))
     for c in summary.get("shape_memory_cycles", []):
         what = "strain" if c["kind"] == "stretch" else "curvature"
         ratio = lambda v: "not measured" if v is None else f"{100 * v:.1f} %"  # noqa: E731

@@ -240,6 +240,10 @@ def summarize(ds, *, target_bend_angle=None, protocol=None):
     if "time_steps_accepted" in ds.attrs:
         out["time_steps_accepted"] = int(ds.attrs["time_steps_accepted"])
         out["time_steps_rejected"] = int(ds.attrs["time_steps_rejected"])
+    if "protocol_step" in ds and "holding_moment" in ds:
+        held = held_step_loads(ds, protocol)
+        if held:
+            out["held_steps"] = held
     if protocol is not None and any(s.hold in ("stretch", "bend") for s in protocol):
         from .shape_memory import shape_memory_cycles
 
@@ -252,4 +256,49 @@ def summarize(ds, *, target_bend_angle=None, protocol=None):
             out["blocked_force_at_target"] = float(np.interp(tt, t, force))
             if front is not None:
                 out["front_depth_at_target"] = float(np.interp(tt, t, front))
+    return out
+
+
+def held_step_loads(ds, protocol=None):
+    """What the grips or mandrel carry through each held protocol step, and how much is left at its end.
+
+    A flat or bent hold carries the moment :math:`M(t)` (``holding_moment``), a stretch the axial force
+    ``holding_force``; with a relaxing (viscoelastic) layer it decays while the hold lasts. The share
+    left is :math:`|L_\\mathrm{end}| / \\max_t |L(t)|` over the step's output times.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        Result of :func:`actsim.simulate` (``protocol_step``, ``hold``, ``holding_moment``,
+        ``holding_force``, ``free_length`` attribute [m]).
+    protocol : sequence of actsim.scenario.Step, optional
+        For the step labels.
+
+    Returns
+    -------
+    list of dict
+        One entry per held step: ``step``, ``label``, ``hold``, ``quantity`` ("holding_moment" [N m] or
+        "holding_force" [N]), ``peak``, ``time_of_peak`` [s], ``final`` and ``share_left`` [1] (None when
+        nothing was carried); for a moment also ``equivalent_tip_force`` [N], 1.5 M / L at the end: the
+        blocked tip force of the same free curvature (small deflection).
+    """
+    steps = ds["protocol_step"].values
+    hold = ds["hold"].values
+    t = ds["time"].values
+    out = []
+    for k in sorted(set(steps.tolist())):
+        idx = np.nonzero(steps == k)[0]
+        kind = str(hold[idx[0]])
+        if kind not in ("flat", "bend", "stretch"):
+            continue
+        name = "holding_force" if kind == "stretch" else "holding_moment"
+        v = ds[name].values[idx]
+        j = int(np.argmax(np.abs(v)))
+        peak, final = float(v[j]), float(v[-1])
+        entry = {"step": int(k), "label": (protocol[k].label if protocol is not None else ""), "hold": kind,
+                 "quantity": name, "peak": peak, "time_of_peak": float(t[idx[j]]), "final": final,
+                 "time_of_end": float(t[idx[-1]]), "share_left": abs(final) / abs(peak) if peak != 0 else None}
+        if name == "holding_moment" and "free_length" in ds.attrs:
+            entry["equivalent_tip_force"] = 1.5 * final / float(ds.attrs["free_length"])
+        out.append(entry)
     return out

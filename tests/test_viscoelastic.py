@@ -311,3 +311,28 @@ def test_relaxation_with_a_temperature_law_is_refused():
         'rubbery_modulus = "10 MPa"\ntemperature = "50 degC"\nwidth = "5 K"\n[materials.m.relaxation]')
     with pytest.raises(ActsimInputError, match=r"materials\.m\.relaxation: a relaxing material takes"):
         parse_scenario(text)
+
+
+def test_moment_left_after_a_held_bend():
+    # A homogeneous SLS layer bent onto a mandrel at t = 0 and held: the moment relaxes as the modulus,
+    # M(t) = E(t) I kappa_0 with E(t) = E_inf + E_1 exp(-t/tau) (correspondence principle; Findley, Lai and Onaran
+    # 1976, sec. 5.4), so the share left at the end of the hold is E(t_end) / E(0). The summary reports it. The
+    # relaxing part acts on each cell's centre strain (docs/models.md), so the bending inside a cell (a share 1/n^2
+    # of I for n equal cells) stays glassy: an error second order in the cell size, checked here.
+    from actsim.metrics import summarize
+
+    exact = (E_INF + E_1 * np.exp(-3.0 / TAU)) / (E_INF + E_1)
+    errors = []
+    for cells in (10, 20, 40):
+        sc = single_layer('[[protocol]]\nlabel = "held"\nduration = "3 s"\nhold = "bend"\ncurvature = "50 1/m"\n'
+                          '[[protocol]]\nduration = "1 s"', relaxation=SLS, cells=cells)
+        ds = actsim.simulate(sc)
+        held = summarize(ds, protocol=sc.protocol)["held_steps"]
+        assert len(held) == 1 and held[0]["hold"] == "bend" and held[0]["label"] == "held"
+        assert held[0]["time_of_peak"] == 0.0 and held[0]["time_of_end"] == pytest.approx(3.0)
+        i_w = 2e-3 * (20e-6) ** 3 / 12  # second moment of the 2 mm x 20 um section
+        assert abs(held[0]["peak"]) == pytest.approx((E_INF + E_1) * i_w * 50.0, rel=1e-9)  # glassy at t = 0
+        # the discrete answer: the within-cell share 1/n^2 of I keeps the glassy modulus
+        assert held[0]["share_left"] == pytest.approx(exact * (1 - cells**-2.0) + cells**-2.0, rel=1e-9)
+        errors.append(held[0]["share_left"] - exact)
+    assert errors[0] / errors[1] == pytest.approx(4.0, rel=1e-6) and errors[1] / errors[2] == pytest.approx(4.0, rel=1e-6)
