@@ -267,6 +267,8 @@ def _assemble(scenario: Scenario, p: Problem, raw: dict, *, reuse: bool) -> Solu
     heat_on = scenario.heat.enabled
     network_on = p.material.network_mod > 0
     has_network = bool(np.any(network_on))
+    has_hyper = bool(np.any(p.material.strain_law != material.STRAIN_LINEAR))
+    hyper_T, hyper_S = raw["T"], raw["S"]  # one row when not modelled (the constant value)
     if not heat_on:
         raw.pop("T")
     if not has_network:
@@ -311,6 +313,11 @@ def _assemble(scenario: Scenario, p: Problem, raw: dict, *, reuse: bool) -> Solu
     kappa_free, d_eff, finite = mechanics.section_series(z_edges, z_c, E, Ee, np.ascontiguousarray(e0),
                                                           np.ascontiguousarray(kappa), e_star, stress)
     del Ee
+    if has_hyper and finite:
+        finite = mechanics.hyper_section_series(z_edges, z_c, x, hyper_T, hyper_S, p.material, p.heat.T_ref, E,
+                                                E * e_star, np.ascontiguousarray(e0), np.ascontiguousarray(kappa),
+                                                kappa_free, d_eff, stress)
+    del hyper_T, hyper_S
     if not finite:
         raise _non_finite("curvature" if not np.all(np.isfinite(kappa)) else "stress")
     x_tip, y_tip = mechanics.arc_tip_series(np.ascontiguousarray(kappa), L)
