@@ -272,7 +272,7 @@ def run_design(grid, light, photo, heat, mat, sched, out):
     for i in range(n_cell):
         if mat.strain_law[i] != 0:
             has_hyper = True
-    hs = np.ones((4, n_cell))  # hyperelastic cells: C_p, lambda_s, C_n x, lambda_n (actsim.material.hyper_state)
+    hs = np.zeros((4, n_cell))  # hyperelastic cells: C_p, e_s, C_n x, e_n (actsim.material.hyper_state)
     x = photo.x0.copy()
     T = heat.T0.copy()
     S = np.zeros(n_cell)

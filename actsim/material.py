@@ -1117,17 +1117,18 @@ def hyperelastic_stress(*, stretch, eigenstretch=1.0, shear_modulus, section="be
 
 
 @njit(cache=True)
-def hyper_stress_nb(lam, law, jm):
-    """Normalised Cauchy stress f(lambda_e) of a hyperelastic cell and its derivative, f'(1) = 1 (numba).
+def hyper_stress_nb(u, law, jm):
+    """Normalised Cauchy stress f of a hyperelastic cell at the elastic strain u = lambda_e - 1, and df/dlambda_e.
 
-    The stress is the section modulus times f: beam (plane stress) f = g (lam^2 - 1/lam) / 3, plate
-    (plane strain) f = g (lam^2 - lam^-2) / 4, with Gent's g = J_m / (J_m - (I_1 - 3)) (g = 1 when
-    ``jm`` is 0: neo-Hookean); see :func:`hyperelastic_stress`.
+    The stress is the section modulus times f, f'(1) = 1: beam (plane stress) f = g (lam^2 - 1/lam) / 3, plate
+    (plane strain) f = g (lam^2 - lam^-2) / 4, with Gent's g = J_m / (J_m - (I_1 - 3)) (g = 1 when ``jm`` is 0:
+    neo-Hookean); see :func:`hyperelastic_stress`. Written in u (lam^2 - 1/lam = u (3 + 3u + u^2) / lam,
+    lam^2 - lam^-2 = u (2 + u)(1 + lam^2) / lam^2), so a tiny strain loses no digits to cancellation.
 
     Parameters
     ----------
-    lam : float
-        Elastic stretch [1].
+    u : float
+        Elastic strain lambda_e - 1 [1].
     law : int
         STRAIN_UNIAXIAL or STRAIN_PLANE.
     jm : float
@@ -1136,20 +1137,24 @@ def hyper_stress_nb(lam, law, jm):
     Returns
     -------
     (f, df) : float
-        [1], [1]; ``inf`` past the Gent limit or for lam <= 0.
+        [1], [1]; ``inf`` past the Gent limit or for lambda_e <= 0.
     """
+    lam = 1.0 + u
     if lam <= 0.0:
         return math.inf, math.inf
     if law == STRAIN_PLANE:
-        core = (lam * lam - 1.0 / (lam * lam)) / 4.0
+        p = u * (2.0 + u) * (1.0 + lam * lam) / (lam * lam)  # lam^2 - lam^-2
+        core = p / 4.0
         dcore = (2.0 * lam + 2.0 / (lam * lam * lam)) / 4.0
-        i1 = lam * lam + 1.0 / (lam * lam) - 2.0
-        di1 = 2.0 * lam - 2.0 / (lam * lam * lam)
+        q = u * (2.0 + u) / lam  # lam - 1/lam
+        i1 = q * q
+        di1 = 2.0 * p / lam
     else:
-        core = (lam * lam - 1.0 / lam) / 3.0
+        p = u * (3.0 + 3.0 * u + u * u) / lam  # lam^2 - 1/lam
+        core = p / 3.0
         dcore = (2.0 * lam + 1.0 / (lam * lam)) / 3.0
-        i1 = lam * lam + 2.0 / lam - 3.0
-        di1 = 2.0 * lam - 2.0 / (lam * lam)
+        i1 = u * u * (3.0 + u) / lam
+        di1 = 2.0 * p / lam
     if jm == 0.0:
         return core, dcore
     if i1 >= jm:
@@ -1162,10 +1167,10 @@ def hyper_stress_nb(lam, law, jm):
 def hyper_state(x, T, S, mat, T_ref, E, hs):
     """Per-cell state of the hyperelastic cells, after :func:`material_state` filled ``E``.
 
-    Rows of ``hs``: section modulus of the primary network C_p [Pa], its eigenstretch
-    lambda_s = 1 + e_ph x + e_th [1], the light network's section modulus times its density
-    C_n x [Pa], and the stretch at which that network is stress-free,
-    lambda_n = 1 + S / x + e_th [1] (1 where no network has formed). Linear cells are left alone.
+    Rows of ``hs``: section modulus of the primary network C_p [Pa], its eigenstrain
+    e_s = e_ph x + e_th (eigenstretch 1 + e_s) [1], the light network's section modulus times its density
+    C_n x [Pa], and the strain at which that network is stress-free, e_n = S / x + e_th [1] (0 where no
+    network has formed). Linear cells are left alone.
 
     Parameters
     ----------
@@ -1185,6 +1190,6 @@ def hyper_state(x, T, S, mat, T_ref, E, hs):
         e_th = mat.alpha_th[i] * (T[i] - T_ref)
         cn = mat.network_mod[i] * x[i]
         hs[0, i] = E[i] - cn
-        hs[1, i] = 1.0 + mat.photo_strain[i] * x[i] + e_th
+        hs[1, i] = mat.photo_strain[i] * x[i] + e_th
         hs[2, i] = cn
-        hs[3, i] = 1.0 + S[i] / x[i] + e_th if x[i] > 0.0 else 1.0
+        hs[3, i] = S[i] / x[i] + e_th if x[i] > 0.0 else 0.0

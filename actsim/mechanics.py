@@ -530,18 +530,19 @@ def hyper_resultants(z_edges, E, Ee, law, jm, hs, e0, kappa):
         w = z_edges[i + 1] - z0
         for g in range(2):
             z = z0 + w * (0.5 - GAUSS_OFFSET if g == 0 else 0.5 + GAUSS_OFFSET)
-            lam = 1.0 + e0 - kappa * z
+            e = e0 - kappa * z
+            lam = 1.0 + e
             if law[i] == 0:
-                p = E[i] * (lam - 1.0) - Ee[i]
+                p = E[i] * e - Ee[i]
                 dp = E[i]
             else:
-                ls = hs[1, i]
-                f, df = hyper_stress_nb(lam / ls, law[i], jm[i])
+                ls = 1.0 + hs[1, i]
+                f, df = hyper_stress_nb((e - hs[1, i]) / ls, law[i], jm[i])
                 p = hs[0, i] * f / lam
                 dp = hs[0, i] * (df / (ls * lam) - f / (lam * lam))
                 if hs[2, i] > 0.0:
-                    ln = hs[3, i]
-                    f, df = hyper_stress_nb(lam / ln, law[i], 0.0)
+                    ln = 1.0 + hs[3, i]
+                    f, df = hyper_stress_nb((e - hs[3, i]) / ln, law[i], 0.0)
                     p += hs[2, i] * f / lam
                     dp += hs[2, i] * (df / (ln * lam) - f / (lam * lam))
             hw = 0.5 * w
@@ -656,7 +657,7 @@ def hyper_section_series(z_edges, z_centres, x, T, S, mat, T_ref, E, Ee, strain_
         Whether every value is finite.
     """
     n_time, n_cell = E.shape
-    hs = np.ones((4, n_cell))
+    hs = np.zeros((4, n_cell))
     finite = True
     for t in range(n_time):
         tx, tT, tS = min(t, x.shape[0] - 1), min(t, T.shape[0] - 1), min(t, S.shape[0] - 1)
@@ -664,11 +665,11 @@ def hyper_section_series(z_edges, z_centres, x, T, S, mat, T_ref, E, Ee, strain_
         for i in range(n_cell):
             if mat.strain_law[i] == 0:
                 continue
-            lam = 1.0 + strain_bottom[t] - curvature[t] * z_centres[i]
-            f, _ = hyper_stress_nb(lam / hs[1, i], mat.strain_law[i], mat.extensibility[i])
+            e = strain_bottom[t] - curvature[t] * z_centres[i]
+            f, _ = hyper_stress_nb((e - hs[1, i]) / (1.0 + hs[1, i]), mat.strain_law[i], mat.extensibility[i])
             s = hs[0, i] * f
             if hs[2, i] > 0.0:
-                f, _ = hyper_stress_nb(lam / hs[3, i], mat.strain_law[i], 0.0)
+                f, _ = hyper_stress_nb((e - hs[3, i]) / (1.0 + hs[3, i]), mat.strain_law[i], 0.0)
                 s += hs[2, i] * f
             stress[t, i] = s
             finite = finite and math.isfinite(s)
