@@ -1089,8 +1089,8 @@ def hyperelastic_stress(*, stretch, eigenstretch=1.0, shear_modulus, section="be
         lambda_s = 1 + eigenstrain, > 0 [1].
     shear_modulus : float or array_like
         mu, the small-strain shear modulus (Young's modulus E = 3 mu) [Pa].
-    section : {"beam", "plate"}
-        Plane stress or plane strain across the width.
+    section : str
+        ``"beam"`` (plane stress) or ``"plate"`` (plane strain across the width).
     extensibility : float, optional
         Gent's J_m > 0, the largest I_1 - 3 [1]; None: neo-Hookean.
 
@@ -1182,7 +1182,7 @@ def hyper_state(x, T, S, mat, T_ref, E, hs):
     E : numpy.ndarray, shape (n_cell,)
         Section modulus from :func:`material_state` [Pa].
     hs : numpy.ndarray, shape (4, n_cell)
-        Output.
+        Output: C_p [Pa], e_s [1], C_n x [Pa], e_n [1].
     """
     for i in range(x.size):
         if mat.strain_law[i] == STRAIN_LINEAR:

@@ -506,11 +506,11 @@ def hyper_resultants(z_edges, E, Ee, law, jm, hs, e0, kappa):
     E, Ee : numpy.ndarray, shape (n_cell,)
         Section modulus [Pa] and modulus times eigenstrain [Pa] (used for the linear cells).
     law : numpy.ndarray of int64, shape (n_cell,)
-        Strain law of each cell (``actsim.material.STRAIN_*``).
+        Strain law of each cell (``actsim.material.STRAIN_*``) [1].
     jm : numpy.ndarray, shape (n_cell,)
         Gent's J_m (0: neo-Hookean) [1].
     hs : numpy.ndarray, shape (4, n_cell)
-        From :func:`actsim.material.hyper_state`.
+        From :func:`actsim.material.hyper_state`: C_p [Pa], e_s [1], C_n x [Pa], e_n [1].
     e0, kappa : float
         Stretch less 1 at z = 0 [1] and bend angle per undeformed length [m-1].
 
@@ -567,8 +567,16 @@ def section_solve_hyper(z_edges, E, Ee, law, jm, hs, hold, value, e0, kappa):
 
     Parameters
     ----------
-    z_edges, E, Ee, law, jm, hs
-        As :func:`hyper_resultants`.
+    z_edges : numpy.ndarray, shape (n_cell + 1,)
+        Cell faces of the undeformed strip [m].
+    E, Ee : numpy.ndarray, shape (n_cell,)
+        Section modulus [Pa] and modulus times eigenstrain [Pa] (the linear cells).
+    law : numpy.ndarray of int64, shape (n_cell,)
+        Strain law of each cell [1].
+    jm : numpy.ndarray, shape (n_cell,)
+        Gent's J_m (0: neo-Hookean) [1].
+    hs : numpy.ndarray, shape (4, n_cell)
+        From :func:`actsim.material.hyper_state`: C_p [Pa], e_s [1], C_n x [Pa], e_n [1].
     hold : int
         HOLD_FREE, HOLD_STRETCH, HOLD_BEND or HOLD_FLAT.
     value : float
