@@ -275,7 +275,7 @@ def small_strain_warning(scenario: Scenario, p: Problem, *, e0, kappa, eigenstra
         sel = np.flatnonzero(layer == li)
         faces = np.array([z_edges[sel[0]], z_edges[sel[-1] + 1]])
         total = np.abs(e0[:, None] - kappa[:, None] * faces).max()
-        elastic = np.abs(e0[:, None] - kappa[:, None] * z_c[sel] - eigenstrain[:, sel]).max()
+        elastic = max(float(np.abs(e0 - kappa * z_c[i] - eigenstrain[:, i]).max()) for i in sel)  # no (time, z) temporary
         strain = float(max(total, elastic))
         if strain > limit:
             worst.append(f"{lay.name} ({lay.material.name}) reaches {100 * strain:.3g} %")
@@ -304,7 +304,8 @@ def _assemble(scenario: Scenario, p: Problem, raw: dict, *, reuse: bool) -> Solu
     network_on = p.material.network_mod > 0
     has_network = bool(np.any(network_on))
     has_hyper = bool(np.any(p.material.strain_law != material.STRAIN_LINEAR))
-    hyper_T, hyper_S = raw["T"], raw["S"]  # one row when not modelled (the constant value)
+    # one row when not modelled (the constant value); kept only for a hyperelastic stack, so they are freed otherwise
+    hyper_T, hyper_S = (raw["T"], raw["S"]) if has_hyper else (None, None)
     if not heat_on:
         raw.pop("T")
     if not has_network:
