@@ -24,9 +24,9 @@ from numba import njit, types
 from numba.extending import overload
 
 from .kinetics import exact_update, rates
-from .material import (material_state, mechanical_strain, network_strain_update, viscoelastic_accept,
+from .material import (hyper_state, material_state, mechanical_strain, network_strain_update, viscoelastic_accept,
                        viscoelastic_error, viscoelastic_state, viscoelastic_strain)
-from .mechanics import section_solve, section_solve_centred
+from .mechanics import section_solve, section_solve_centred, section_solve_hyper
 from .optics import light_pass
 #: Step-size control (Hairer, Nørsett and Wanner, Solving ODEs I, 2nd ed., 1993, sec. II.4): safety factor, largest
 #: and smallest change of the step, the error exponent 1/(q+1) with q = 1 the order of the embedded (predictor) step.
@@ -181,6 +181,14 @@ def record(slot, x, T, S, E, Ee, mech, dz, mean_flux, absorbed, beam_emol, q_sur
 
 
 @njit(cache=True)
+def hyper_solve(z_edges, x, T, S, mat, T_ref, E, Ee, hs, hold, value, r):
+    """The section of a stack with hyperelastic layers: :func:`actsim.material.hyper_state`, then
+    :func:`actsim.mechanics.section_solve_hyper` started from the linear solution ``r``."""
+    hyper_state(x, T, S, mat, T_ref, E, hs)
+    return section_solve_hyper(z_edges, E, Ee, mat.strain_law, mat.extensibility, hs, hold, value, r[0], r[1])
+
+
+@njit(cache=True)
 def run_design(grid, light, photo, heat, mat, sched, out):
     """March one design through its protocol.
 
@@ -260,6 +268,11 @@ def run_design(grid, light, photo, heat, mat, sched, out):
     for i in range(n_cell):
         if mat.visco_n[i] > 0:
             has_visco = True
+    has_hyper = False
+    for i in range(n_cell):
+        if mat.strain_law[i] != 0:
+            has_hyper = True
+    hs = np.zeros((4, n_cell))  # hyperelastic cells: C_p, e_s, C_n x, e_n (actsim.material.hyper_state)
     x = photo.x0.copy()
     T = heat.T0.copy()
     S = np.zeros(n_cell)
@@ -318,6 +331,8 @@ def run_design(grid, light, photo, heat, mat, sched, out):
     if has_visco:
         viscoelastic_state(x, T, T, 0.0, H, ev, mat, T_ref, E, Ee, Ev)
     r = section_solve_centred(z_edges, E, Ee, Ev, sched.step_hold[s0], sched.step_value[s0])
+    if has_hyper:
+        r = hyper_solve(z_edges, x, T, S, mat, T_ref, E, Ee, hs, sched.step_hold[s0], sched.step_value[s0], r)
     mech[0], mech[1], mech[2], mech[3] = r[0], r[1], r[2], r[3]
     tr = light_pass(x, dz, light, q, mf, ab)
     record(0, x, T, S, E, Ee, mech, dz, mf, ab, light.beam_emol, q, light.entry, tr, out)
@@ -360,6 +375,8 @@ def run_design(grid, light, photo, heat, mat, sched, out):
             if has_visco:
                 viscoelastic_state(x, T, T, 0.0, H, ev, mat, T_ref, E, Ee, Ev)
             r = section_solve_centred(z_edges, E, Ee, Ev, hold, value)
+            if has_hyper:
+                r = hyper_solve(z_edges, x, T, S, mat, T_ref, E, Ee, hs, hold, value, r)
             mechanical_strain(z_edges, r[0], r[1], mat.alpha_th, T, T_ref, e_start)
             if has_visco and new_step:
                 # a new protocol step starts with an instantaneous step: a change of hold is taken up at once
@@ -474,6 +491,8 @@ def run_design(grid, light, photo, heat, mat, sched, out):
                     if has_visco:
                         viscoelastic_state(xp, T, Tn, dt, H, ev, mat, T_ref, E, Ee, Ev)
                     r = section_solve_centred(z_edges, E, Ee, Ev, hold, value)
+                    if has_hyper:
+                        r = hyper_solve(z_edges, xp, Tn, Sp, mat, T_ref, E, Ee, hs, hold, value, r)
                     mechanical_strain(z_edges, r[0], r[1], mat.alpha_th, Tn, T_ref, e_end)
                     # corrector: midpoint strain
                     for i in range(n_cell):
@@ -483,6 +502,8 @@ def run_design(grid, light, photo, heat, mat, sched, out):
                     if has_visco:
                         viscoelastic_state(xp, T, Tn, dt, H, ev, mat, T_ref, E, Ee, Ev)
                     r = section_solve_centred(z_edges, E, Ee, Ev, hold, value)
+                    if has_hyper:
+                        r = hyper_solve(z_edges, xp, Tn, Sn, mat, T_ref, E, Ee, hs, hold, value, r)
                     mechanical_strain(z_edges, r[0], r[1], mat.alpha_th, Tn, T_ref, e_next)
                 elif has_visco:
                     # the step ends on a section solve with the algorithmic modulus and the history stress
@@ -555,6 +576,8 @@ def run_design(grid, light, photo, heat, mat, sched, out):
         if has_visco:
             viscoelastic_state(x, T, T, 0.0, H, ev, mat, T_ref, E, Ee, Ev)
         r = section_solve_centred(z_edges, E, Ee, Ev, hold, value)
+        if has_hyper:
+            r = hyper_solve(z_edges, x, T, S, mat, T_ref, E, Ee, hs, hold, value, r)
         mech[0], mech[1], mech[2], mech[3] = r[0], r[1], r[2], r[3]
         tr = light_pass(x, dz, light, q, mf, ab)
         light_of = st

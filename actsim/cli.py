@@ -205,7 +205,7 @@ def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set
         width = screen_width()
         print(fit_text(sc.title, width))
         print(summary_table(summary))  # its width: screen_width(), as here
-        for note in model_notes(sc):
+        for note in model_notes(sc) + ([ds.attrs["small_strain_warning"]] if "small_strain_warning" in ds.attrs else []):
             print("\n".join(wrap(note, width, indent="  ")))
         if mask is not None:
             import json

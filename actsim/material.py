@@ -64,6 +64,12 @@ LN_SHIFT_MAX = 700.0
 #: Molar gas constant [J mol-1 K-1] (CODATA 2018, exact; the value actsim.kinetics uses).
 GAS_CONSTANT = float(_R)
 LN10 = math.log(10.0)
+#: Strain law of a cell: small strain (linear), hyperelastic under plane stress (beam), under plane strain (plate).
+STRAIN_LINEAR = 0
+STRAIN_UNIAXIAL = 1
+STRAIN_PLANE = 2
+#: Scenario names of the strain laws.
+STRAIN_LAW_NAMES = ("linear", "neo-hookean", "gent")
 
 
 class MaterialParams(NamedTuple):
@@ -101,6 +107,11 @@ class MaterialParams(NamedTuple):
         SHIFT_NONE, SHIFT_WLF or SHIFT_ARRHENIUS.
     shift_par : numpy.ndarray, shape (n_cell, 3)
         WLF: C1 [1], C2 [K], reference temperature [K]; Arrhenius: E_a / R [K], reference temperature [K], 0.
+    strain_law : numpy.ndarray of int64, shape (n_cell,)
+        STRAIN_LINEAR (small strain), STRAIN_UNIAXIAL (hyperelastic, plane stress: beam) or STRAIN_PLANE
+        (hyperelastic, plane strain across the width: plate).
+    extensibility : numpy.ndarray, shape (n_cell,)
+        Gent's J_m of a hyperelastic cell [1]; 0: neo-Hookean (J_m -> infinity).
     """
 
     mod_kind: np.ndarray
@@ -119,6 +130,8 @@ class MaterialParams(NamedTuple):
     visco_tau: np.ndarray
     shift_kind: np.ndarray
     shift_par: np.ndarray
+    strain_law: np.ndarray
+    extensibility: np.ndarray
 
 
 def material_params(scenario, grid) -> MaterialParams:
@@ -150,12 +163,20 @@ def material_params(scenario, grid) -> MaterialParams:
     visco_tau = np.ones((n_cell, max(n_term, 1)))
     shift_kind = np.zeros(n_cell, np.int64)
     shift_par = np.zeros((n_cell, 3))
+    strain_law = np.zeros(n_cell, np.int64)
+    extensibility = np.zeros(n_cell)
     for li, layer in enumerate(scenario.layers):
         m = layer.material
         sel = grid.layer_index == li
         if m.is_active:
             strain[sel] = m.photo_strain
         sec_fac[sel] = section_modulus(modulus=1.0, poisson_ratio=m.poisson_ratio, section=scenario.strip.section)
+        if m.strain_law != "linear":
+            # incompressible: the small-strain section modulus is 3 mu = E (beam) or 4 mu = 4 E / 3 (plate)
+            plate = scenario.strip.section == "plate"
+            strain_law[sel] = STRAIN_PLANE if plate else STRAIN_UNIAXIAL
+            sec_fac[sel] = 4.0 / 3.0 if plate else 1.0
+            extensibility[sel] = m.extensibility if m.strain_law == "gent" else 0.0
         mod_ratio[sel] = m.product_modulus_ratio
         law = m.temperature_modulus
         if law is None:
@@ -181,7 +202,7 @@ def material_params(scenario, grid) -> MaterialParams:
                 shift_par[sel] = (rx.activation_energy / GAS_CONSTANT, rx.reference_temperature, 0.0)
         # thermal strain is isotropic: under plane strain across the width (plate) it acts as (1 + nu) alpha dT
         # along the strip with the plane-strain modulus (Timoshenko and Woinowsky-Krieger 1959, sec. 14)
-        plate_factor = (1.0 + m.poisson_ratio) if scenario.strip.section == "plate" else 1.0
+        plate_factor = (1.0 + (0.5 if m.strain_law != "linear" else m.poisson_ratio)) if scenario.strip.section == "plate" else 1.0
         alpha_th[sel] = plate_factor * m.thermal_expansion if heat_on else 0.0
     # DMA-style tables, padded to one length by repeating the last point (the lookup clamps at the ends)
     m_len = max([len(t[0]) for t in tables], default=1)
@@ -194,7 +215,8 @@ def material_params(scenario, grid) -> MaterialParams:
     return MaterialParams(mod_kind=mod_kind, mod_base=mod_base, mod_ratio=mod_ratio, sec_fac=sec_fac, gl=gl,
                           tab_idx=tab_idx, tab_T=tab_T, tab_logE=tab_logE, network_mod=network_mod,
                           photo_strain=strain, alpha_th=alpha_th, visco_n=visco_n, visco_mod=visco_mod,
-                          visco_tau=visco_tau, shift_kind=shift_kind, shift_par=shift_par)
+                          visco_tau=visco_tau, shift_kind=shift_kind, shift_par=shift_par, strain_law=strain_law,
+                          extensibility=extensibility)
 
 
 def primary_modulus(*, params: MaterialParams, conversion, temperature):
@@ -1036,3 +1058,138 @@ def viscoelastic_accept(x, T0, T1, dt, H, ev, ev_new, rate, mat):
             H[i, k] = math.exp(-a) * H[i, k] + f * mat.visco_mod[i, k] * g * de
         rate[i] = de / dt if dt > 0.0 else 0.0
         ev[i] = ev_new[i]
+
+
+# --------------------------------------------------------------------------------------------------------------------
+# Large strain: incompressible neo-Hookean and Gent layers
+# --------------------------------------------------------------------------------------------------------------------
+
+
+def hyperelastic_stress(*, stretch, eigenstretch=1.0, shear_modulus, section="beam", extensibility=None):
+    r"""Axial Cauchy stress of an incompressible neo-Hookean or Gent layer along the strip.
+
+    The elastic stretch is :math:`\lambda_e = \lambda / \lambda_s` (the eigenstretch
+    :math:`\lambda_s = 1 + e^*` is isochoric). Under plane stress (``"beam"``: the transverse
+    faces free, uniaxial) and plane strain across the width (``"plate"``: the width held,
+    :math:`\lambda_2 = 1`):
+
+    .. math:: \sigma_\mathrm{beam} = \mu\, g\, (\lambda_e^2 - \lambda_e^{-1}), \qquad
+       \sigma_\mathrm{plate} = \mu\, g\, (\lambda_e^2 - \lambda_e^{-2}), \qquad
+       g = \frac{J_m}{J_m - (I_1 - 3)}
+
+    with :math:`I_1 = \lambda_e^2 + 2/\lambda_e` (beam) or :math:`\lambda_e^2 + 1 + \lambda_e^{-2}`
+    (plate), and g = 1 for neo-Hookean (:math:`J_m \to \infty`). The nominal stress (force per
+    undeformed area) is :math:`\sigma/\lambda`.
+
+    Parameters
+    ----------
+    stretch : float or array_like
+        Total stretch along the strip, lambda > 0 [1].
+    eigenstretch : float or array_like
+        lambda_s = 1 + eigenstrain, > 0 [1].
+    shear_modulus : float or array_like
+        mu, the small-strain shear modulus (Young's modulus E = 3 mu) [Pa].
+    section : str
+        ``"beam"`` (plane stress) or ``"plate"`` (plane strain across the width).
+    extensibility : float, optional
+        Gent's J_m > 0, the largest I_1 - 3 [1]; None: neo-Hookean.
+
+    Returns
+    -------
+    float or numpy.ndarray
+        Cauchy (true) stress along the strip [Pa]; ``inf`` at and past the Gent limit.
+
+    References
+    ----------
+    .. [1] Treloar, L. R. G. The Physics of Rubber Elasticity, 3rd ed., Clarendon Press 1975, ch. 4 and 5.
+    .. [2] Gent, A. N. "A new constitutive relation for rubber." Rubber Chem. Technol. 69 (1996) 59–61.
+    """
+    lam = np.asarray(stretch, float) / np.asarray(eigenstretch, float)
+    if section == "plate":
+        i1, core = lam**2 + 1.0 + lam**-2 - 3.0, lam**2 - lam**-2
+    else:
+        i1, core = lam**2 + 2.0 / lam - 3.0, lam**2 - 1.0 / lam
+    g = 1.0
+    if extensibility is not None:
+        with np.errstate(divide="ignore"):
+            g = np.where(i1 < extensibility, extensibility / (extensibility - i1), np.inf)
+    return scalar_or_array(np.asarray(shear_modulus) * g * core)
+
+
+@njit(cache=True)
+def hyper_stress_nb(u, law, jm):
+    """Normalised Cauchy stress f of a hyperelastic cell at the elastic strain u = lambda_e - 1, and df/dlambda_e.
+
+    The stress is the section modulus times f, f'(1) = 1: beam (plane stress) f = g (lam^2 - 1/lam) / 3, plate
+    (plane strain) f = g (lam^2 - lam^-2) / 4, with Gent's g = J_m / (J_m - (I_1 - 3)) (g = 1 when ``jm`` is 0:
+    neo-Hookean); see :func:`hyperelastic_stress`. Written in u (lam^2 - 1/lam = u (3 + 3u + u^2) / lam,
+    lam^2 - lam^-2 = u (2 + u)(1 + lam^2) / lam^2), so a tiny strain loses no digits to cancellation.
+
+    Parameters
+    ----------
+    u : float
+        Elastic strain lambda_e - 1 [1].
+    law : int
+        STRAIN_UNIAXIAL or STRAIN_PLANE.
+    jm : float
+        Gent's J_m [1]; 0: neo-Hookean.
+
+    Returns
+    -------
+    (f, df) : float
+        [1], [1]; ``inf`` past the Gent limit or for lambda_e <= 0.
+    """
+    lam = 1.0 + u
+    if lam <= 0.0:
+        return math.inf, math.inf
+    if law == STRAIN_PLANE:
+        p = u * (2.0 + u) * (1.0 + lam * lam) / (lam * lam)  # lam^2 - lam^-2
+        core = p / 4.0
+        dcore = (2.0 * lam + 2.0 / (lam * lam * lam)) / 4.0
+        q = u * (2.0 + u) / lam  # lam - 1/lam
+        i1 = q * q
+        di1 = 2.0 * p / lam
+    else:
+        p = u * (3.0 + 3.0 * u + u * u) / lam  # lam^2 - 1/lam
+        core = p / 3.0
+        dcore = (2.0 * lam + 1.0 / (lam * lam)) / 3.0
+        i1 = u * u * (3.0 + u) / lam
+        di1 = 2.0 * p / lam
+    if jm == 0.0:
+        return core, dcore
+    if i1 >= jm:
+        return math.inf, math.inf
+    g = jm / (jm - i1)
+    return g * core, g * dcore + g * g / jm * di1 * core
+
+
+@njit(cache=True)
+def hyper_state(x, T, S, mat, T_ref, E, hs):
+    """Per-cell state of the hyperelastic cells, after :func:`material_state` filled ``E``.
+
+    Rows of ``hs``: section modulus of the primary network C_p [Pa], its eigenstrain
+    e_s = e_ph x + e_th (eigenstretch 1 + e_s) [1], the light network's section modulus times its density
+    C_n x [Pa], and the strain at which that network is stress-free, e_n = S / x + e_th [1] (0 where no
+    network has formed). Linear cells are left alone.
+
+    Parameters
+    ----------
+    x, T, S : numpy.ndarray, shape (n_cell,)
+        Conversion [1], temperature [K], network-weighted formation strain [1].
+    mat : actsim.material.MaterialParams
+    T_ref : float
+        Zero of the thermal strain [K].
+    E : numpy.ndarray, shape (n_cell,)
+        Section modulus from :func:`material_state` [Pa].
+    hs : numpy.ndarray, shape (4, n_cell)
+        Output: C_p [Pa], e_s [1], C_n x [Pa], e_n [1].
+    """
+    for i in range(x.size):
+        if mat.strain_law[i] == STRAIN_LINEAR:
+            continue
+        e_th = mat.alpha_th[i] * (T[i] - T_ref)
+        cn = mat.network_mod[i] * x[i]
+        hs[0, i] = E[i] - cn
+        hs[1, i] = mat.photo_strain[i] * x[i] + e_th
+        hs[2, i] = cn
+        hs[3, i] = S[i] / x[i] + e_th if x[i] > 0.0 else 0.0

@@ -32,6 +32,8 @@ import math
 import numpy as np
 from numba import njit
 
+from .material import hyper_state, hyper_stress_nb
+
 #: Mechanical conditions of a protocol step, as the kernel codes them.
 HOLD_FREE = 0
 HOLD_STRETCH = 1
@@ -480,3 +482,210 @@ def section_solve_centred(z_edges, E, Ee, Ec, hold, value):
     N = A * e0 - B * kappa - Ns
     M = B * e0 - D * kappa - Ms
     return e0, kappa, N, M
+
+
+#: Gauss-Legendre points of the hyperelastic section integrals: two per cell (exact for a stress cubic in z).
+GAUSS_OFFSET = 0.5 / math.sqrt(3.0)
+#: Newton iterations of the hyperelastic section solve, and its step tolerance on e0 and kappa h [1].
+HYPER_MAX_ITER = 60
+HYPER_TOL = 1e-14
+
+
+@njit(cache=True)
+def hyper_resultants(z_edges, E, Ee, law, jm, hs, e0, kappa):
+    """Force and moment of a section with hyperelastic cells, and their tangents, for lambda(z) = 1 + e0 - kappa z.
+
+    Nominal stress (force per undeformed area) of each cell: linear cells E (lambda - 1) - E e*; hyperelastic
+    cells C_p f(lambda / lambda_s) / lambda + C_n x f_nH(lambda / lambda_n) / lambda (the light network
+    neo-Hookean), f from :func:`actsim.material.hyper_stress_nb`. Two Gauss points per cell.
+
+    Parameters
+    ----------
+    z_edges : numpy.ndarray, shape (n_cell + 1,)
+        Cell faces of the undeformed strip [m].
+    E, Ee : numpy.ndarray, shape (n_cell,)
+        Section modulus [Pa] and modulus times eigenstrain [Pa] (used for the linear cells).
+    law : numpy.ndarray of int64, shape (n_cell,)
+        Strain law of each cell (``actsim.material.STRAIN_*``) [1].
+    jm : numpy.ndarray, shape (n_cell,)
+        Gent's J_m (0: neo-Hookean) [1].
+    hs : numpy.ndarray, shape (4, n_cell)
+        From :func:`actsim.material.hyper_state`: C_p [Pa], e_s [1], C_n x [Pa], e_n [1].
+    e0, kappa : float
+        Stretch less 1 at z = 0 [1] and bend angle per undeformed length [m-1].
+
+    Returns
+    -------
+    (N, M, A, B, D) : float
+        N = int P dz [N m-1], M = int P z dz [N], and the tangents int dP/dlambda (1, z, z^2) dz
+        [N m-1], [N], [N m].
+    """
+    N = 0.0
+    M = 0.0
+    A = 0.0
+    B = 0.0
+    D = 0.0
+    for i in range(E.size):
+        z0 = z_edges[i]
+        w = z_edges[i + 1] - z0
+        for g in range(2):
+            z = z0 + w * (0.5 - GAUSS_OFFSET if g == 0 else 0.5 + GAUSS_OFFSET)
+            e = e0 - kappa * z
+            lam = 1.0 + e
+            if law[i] == 0:
+                p = E[i] * e - Ee[i]
+                dp = E[i]
+            else:
+                ls = 1.0 + hs[1, i]
+                f, df = hyper_stress_nb((e - hs[1, i]) / ls, law[i], jm[i])
+                p = hs[0, i] * f / lam
+                dp = hs[0, i] * (df / (ls * lam) - f / (lam * lam))
+                if hs[2, i] > 0.0:
+                    ln = 1.0 + hs[3, i]
+                    f, df = hyper_stress_nb((e - hs[3, i]) / ln, law[i], 0.0)
+                    p += hs[2, i] * f / lam
+                    dp += hs[2, i] * (df / (ln * lam) - f / (lam * lam))
+            hw = 0.5 * w
+            N += hw * p
+            M += hw * p * z
+            A += hw * dp
+            B += hw * dp * z
+            D += hw * dp * z * z
+    return N, M, A, B, D
+
+
+@njit(cache=True)
+def section_solve_hyper(z_edges, E, Ee, law, jm, hs, hold, value, e0, kappa):
+    """:func:`section_solve` for a section with hyperelastic cells: Newton from the guess (e0, kappa).
+
+    Kinematics of plane sections (a Reissner beam): the stretch along the strip of the fibre at
+    undeformed height z is :math:`\\lambda(z) = 1 + e_0 - \\kappa z`, so e0 is the stretch less 1 of the
+    bottom face and kappa the bend angle per undeformed length (the bend angle of a length L is
+    kappa L exactly; the fibre at z has the geometric curvature kappa / lambda(z)). The free strip solves
+    N = M = 0, the held steps as :func:`section_solve`; each Newton step is halved until the force and
+    moment misfit falls (at most 30 times), and the iteration stops when |de0| + |dkappa| h < 1e-14.
+
+    Parameters
+    ----------
+    z_edges : numpy.ndarray, shape (n_cell + 1,)
+        Cell faces of the undeformed strip [m].
+    E, Ee : numpy.ndarray, shape (n_cell,)
+        Section modulus [Pa] and modulus times eigenstrain [Pa] (the linear cells).
+    law : numpy.ndarray of int64, shape (n_cell,)
+        Strain law of each cell [1].
+    jm : numpy.ndarray, shape (n_cell,)
+        Gent's J_m (0: neo-Hookean) [1].
+    hs : numpy.ndarray, shape (4, n_cell)
+        From :func:`actsim.material.hyper_state`: C_p [Pa], e_s [1], C_n x [Pa], e_n [1].
+    hold : int
+        HOLD_FREE, HOLD_STRETCH, HOLD_BEND or HOLD_FLAT.
+    value : float
+        Strain lambda - 1 [1] (stretch) or kappa [m-1] (bend).
+    e0, kappa : float
+        The start: the linear solution (:func:`section_solve`) [1], [m-1].
+
+    Returns
+    -------
+    (e0, kappa, N, M) : float
+        As :func:`section_solve`; N and M from the nominal stress, about z = 0 of the undeformed section.
+
+    References
+    ----------
+    .. [1] Reissner, E. "On one-dimensional finite-strain beam theory: the plane problem." Z. angew. Math.
+       Phys. 23 (1972) 795–804.
+    """
+    h = z_edges[z_edges.size - 1] - z_edges[0]
+    if hold == HOLD_STRETCH:
+        e0 = value
+        kappa = 0.0
+    elif hold == HOLD_BEND:
+        kappa = value
+    elif hold == HOLD_FLAT:
+        kappa = 0.0
+    N, M, A, B, D = hyper_resultants(z_edges, E, Ee, law, jm, hs, e0, kappa)
+    if hold == HOLD_STRETCH:
+        return e0, kappa, N, M
+    free = hold == HOLD_FREE
+    for _ in range(HYPER_MAX_ITER):
+        if free:
+            det = A * D - B * B  # [[A, -B], [B, -D]] (de0, dk) = -(N, M)
+            de = (-N * -D - (-B) * -M) / (-det)
+            dk = (A * -M - B * -N) / (-det)
+        else:
+            de = -N / A
+            dk = 0.0
+        res0 = abs(N) + abs(M) / h if free else abs(N)
+        t = 1.0
+        for _k in range(30):
+            N1, M1, A1, B1, D1 = hyper_resultants(z_edges, E, Ee, law, jm, hs, e0 + t * de, kappa + t * dk)
+            res1 = abs(N1) + abs(M1) / h if free else abs(N1)
+            if math.isfinite(res1) and math.isfinite(A1) and (res1 <= res0 or res1 == 0.0):
+                break
+            t *= 0.5
+        e0 += t * de
+        kappa += t * dk
+        N, M, A, B, D = N1, M1, A1, B1, D1
+        if abs(t * de) + abs(t * dk) * h < HYPER_TOL:
+            break
+    return e0, kappa, N, M
+
+
+@njit(cache=True)
+def hyper_section_series(z_edges, z_centres, x, T, S, mat, T_ref, E, Ee, strain_bottom, curvature, kappa_free,
+                         stiffness, stress):
+    """The output-time mechanics of :func:`section_series` redone for the hyperelastic cells, in place.
+
+    Per output time: the Cauchy stress of each hyperelastic cell at its centre,
+    :math:`\\sigma = C_p f(\\lambda/\\lambda_s) + C_n x f_{nH}(\\lambda/\\lambda_n)` with
+    :math:`\\lambda = 1 + e_0 - \\kappa z` (linear cells keep theirs), the free strip's bend per undeformed
+    length by :func:`section_solve_hyper` (started from the linear one), and the tangent bending stiffness
+    about the neutral axis at the actual state, :math:`D_t - B_t^2/A_t` (from the nominal stress).
+
+    Parameters
+    ----------
+    z_edges, z_centres : numpy.ndarray
+        Cell faces (n_cell + 1,) and centres (n_cell,) [m].
+    x, T, S : numpy.ndarray, shape (n_time or 1, n_cell)
+        Conversion [1], temperature [K], network-weighted formation strain [1] (one row: the same at every time).
+    mat : actsim.material.MaterialParams
+    T_ref : float
+        Zero of the thermal strain [K].
+    E, Ee : numpy.ndarray, shape (n_time, n_cell)
+        Section modulus and modulus times eigenstrain as the time loop recorded them [Pa].
+    strain_bottom, curvature : numpy.ndarray, shape (n_time,)
+        The strip's actual e0 [1] and kappa [m-1].
+    kappa_free, stiffness : numpy.ndarray, shape (n_time,)
+        In: the linear values (the Newton start); out: the hyperelastic ones [m-1], [N m].
+    stress : numpy.ndarray, shape (n_time, n_cell)
+        Out (hyperelastic cells): Cauchy stress [Pa].
+
+    Returns
+    -------
+    bool
+        Whether every value is finite.
+    """
+    n_time, n_cell = E.shape
+    hs = np.zeros((4, n_cell))
+    finite = True
+    for t in range(n_time):
+        tx, tT, tS = min(t, x.shape[0] - 1), min(t, T.shape[0] - 1), min(t, S.shape[0] - 1)
+        hyper_state(x[tx], T[tT], S[tS], mat, T_ref, E[t], hs)
+        for i in range(n_cell):
+            if mat.strain_law[i] == 0:
+                continue
+            e = strain_bottom[t] - curvature[t] * z_centres[i]
+            f, _ = hyper_stress_nb((e - hs[1, i]) / (1.0 + hs[1, i]), mat.strain_law[i], mat.extensibility[i])
+            s = hs[0, i] * f
+            if hs[2, i] > 0.0:
+                f, _ = hyper_stress_nb((e - hs[3, i]) / (1.0 + hs[3, i]), mat.strain_law[i], 0.0)
+                s += hs[2, i] * f
+            stress[t, i] = s
+            finite = finite and math.isfinite(s)
+        r = section_solve_hyper(z_edges, E[t], Ee[t], mat.strain_law, mat.extensibility, hs, HOLD_FREE, 0.0,
+                                0.0, kappa_free[t])
+        kappa_free[t] = r[1]
+        _, _, a, b, d = hyper_resultants(z_edges, E[t], Ee[t], mat.strain_law, mat.extensibility, hs,
+                                         strain_bottom[t], curvature[t])
+        stiffness[t] = d - b * b / a
+        finite = finite and math.isfinite(r[1]) and math.isfinite(stiffness[t])
+    return finite

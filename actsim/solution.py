@@ -164,6 +164,7 @@ class Solution:
     recovery_ratio: np.ndarray | None = None
     bend_angle_after_release: np.ndarray | None = None
     front_level: float = 0.5
+    small_strain_warning: str = ""
 
     @property
     def names(self) -> list[str]:
@@ -204,7 +205,7 @@ class Solution:
             "time_stepping": self.time_stepping,
             "time_steps_accepted": self.time_steps_accepted,
             "time_steps_rejected": self.time_steps_rejected,
-        }
+        } | ({"small_strain_warning": self.small_strain_warning} if self.small_strain_warning else {})
 
     @property
     def nbytes(self) -> int:

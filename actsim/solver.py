@@ -250,6 +250,42 @@ def assemble_solution(scenario: Scenario, p: Problem, o: RawOutput) -> Solution:
         return _assemble(scenario, p, o._asdict(), reuse=False)
 
 
+def small_strain_warning(scenario: Scenario, p: Problem, *, e0, kappa, eigenstrain) -> str:
+    """One line naming the small-strain (linear) layers driven past ``[report] small_strain_limit``, or "".
+
+    A layer's strain is the larger of its total strain along the strip, :math:`|e_0 - \\kappa z|` at its
+    faces, and its elastic strain :math:`|e_0 - \\kappa z - e^*|` at its cell centres, over all output times.
+
+    Parameters
+    ----------
+    scenario : Scenario
+    p : Problem
+    e0, kappa : numpy.ndarray, shape (n_time,)
+        Strain at z = 0 [1] and curvature [m-1].
+    eigenstrain : numpy.ndarray, shape (n_time, n_cell)
+        [1].
+    """
+    limit = scenario.small_strain_limit
+    z_edges, layer = p.grid.z_edges, p.grid.layer_index
+    z_c = cell_centres(z_edges)
+    worst = []
+    for li, lay in enumerate(scenario.layers):
+        if lay.material.strain_law != "linear":
+            continue
+        sel = np.flatnonzero(layer == li)
+        faces = np.array([z_edges[sel[0]], z_edges[sel[-1] + 1]])
+        total = np.abs(e0[:, None] - kappa[:, None] * faces).max()
+        elastic = max(float(np.abs(e0 - kappa * z_c[i] - eigenstrain[:, i]).max()) for i in sel)  # no (time, z) temporary
+        strain = float(max(total, elastic))
+        if strain > limit:
+            worst.append(f"{lay.name} ({lay.material.name}) reaches {100 * strain:.3g} %")
+    if not worst:
+        return ""
+    return (f"warning: small-strain layer(s) driven past the small-strain limit of {100 * limit:g} %: "
+            + "; ".join(worst) + " (use strain_law = 'neo-hookean' or 'gent' for large strain; the limit is "
+            "[report] small_strain_limit)")
+
+
 #: Elements of (time, z) work arrays computed at once, so temporaries stay small beside the result.
 _CHUNK = 1 << 16
 
@@ -267,6 +303,9 @@ def _assemble(scenario: Scenario, p: Problem, raw: dict, *, reuse: bool) -> Solu
     heat_on = scenario.heat.enabled
     network_on = p.material.network_mod > 0
     has_network = bool(np.any(network_on))
+    has_hyper = bool(np.any(p.material.strain_law != material.STRAIN_LINEAR))
+    # one row when not modelled (the constant value); kept only for a hyperelastic stack, so they are freed otherwise
+    hyper_T, hyper_S = (raw["T"], raw["S"]) if has_hyper else (None, None)
     if not heat_on:
         raw.pop("T")
     if not has_network:
@@ -311,6 +350,11 @@ def _assemble(scenario: Scenario, p: Problem, raw: dict, *, reuse: bool) -> Solu
     kappa_free, d_eff, finite = mechanics.section_series(z_edges, z_c, E, Ee, np.ascontiguousarray(e0),
                                                           np.ascontiguousarray(kappa), e_star, stress)
     del Ee
+    if has_hyper and finite:
+        finite = mechanics.hyper_section_series(z_edges, z_c, x, hyper_T, hyper_S, p.material, p.heat.T_ref, E,
+                                                E * e_star, np.ascontiguousarray(e0), np.ascontiguousarray(kappa),
+                                                kappa_free, d_eff, stress)
+    del hyper_T, hyper_S
     if not finite:
         raise _non_finite("curvature" if not np.all(np.isfinite(kappa)) else "stress")
     x_tip, y_tip = mechanics.arc_tip_series(np.ascontiguousarray(kappa), L)
@@ -343,6 +387,7 @@ def _assemble(scenario: Scenario, p: Problem, raw: dict, *, reuse: bool) -> Solu
         cycles = dict(cycle=np.arange(1, len(found) + 1), cycle_hold=np.array([c["kind"] for c in found]),
                       fixity_ratio=column("fixity_ratio"), recovery_ratio=column("recovery_ratio"),
                       bend_angle_after_release=column("bend_angle_after_release"))
+    warning = small_strain_warning(scenario, p, e0=e0, kappa=kappa, eigenstrain=e_star)
     width = max(len(holds[i]) for i in set(step_of_time.tolist()))  # the string width of the holds that occur
     return Solution(
         time=times,
@@ -388,6 +433,7 @@ def _assemble(scenario: Scenario, p: Problem, raw: dict, *, reuse: bool) -> Solu
         lit_face="top" if lit_from_top else "bottom",
         conversion_front_depth=front,
         front_level=scenario.front_level,
+        small_strain_warning=warning,
         **cycles,
         **heat,
         **network,

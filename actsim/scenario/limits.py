@@ -99,6 +99,9 @@ LIMITS: dict[str, Limit] = {
     "materials.NAME.poisson_ratio": Limit(None, 0.0, 0.5, hi_open=True,
                                           reason="0.5 (incompressible) makes the plate modulus E/(1 - nu^2) "
                                           "meaningless for the plane-strain section; auxetic values are not modelled"),
+    "materials.NAME.extensibility": Limit(None, 0.0, 1e6, lo_open=True,
+                                          reason="Gent's J_m, the largest I1 - 3; rubbers lie between about 20 and "
+                                          "200 (Gent 1996), and large values give back the neo-Hookean law"),
     "materials.NAME.refractive_index": Limit(None, 1.0, 4.0, reason="as optics.ambient_refractive_index"),
     "materials.NAME.background_absorption": Limit("absorption_coefficient", 0.0, 1e9,
                                                   reason="up to an absorption length of 1 nm (metals absorb within "
@@ -179,6 +182,9 @@ LIMITS: dict[str, Limit] = {
     "report.target_bend_angle": Limit("angle", -20 * math.pi, 20 * math.pi, reason="+-10 turns (" + _NOSRC + ")"),
     "report.front_conversion": Limit(None, 0.0, 1.0, lo_open=True, hi_open=True,
                                      reason="a share of full conversion; 0 and 1 mark no contour"),
+    "report.small_strain_limit": Limit(None, 0.0, 1.0, lo_open=True,
+                                       reason="a strain; past 100 % no small-strain law is worth a warning (" + _NOSRC
+                                       + ")"),
 }
 
 #: Sizes of a scenario, checked before anything of that size is read or allocated (common practice, no

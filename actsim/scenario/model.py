@@ -74,6 +74,10 @@ class Material:
     network_modulus: float = 0.0
     # linear viscoelasticity of the primary network (None: elastic); ``modulus`` is then the long-term modulus
     relaxation: Relaxation | None = None
+    # large strain: "linear" (small strain), "neo-hookean" or "gent" (incompressible, shear modulus = modulus / 3);
+    # Gent's finite extensibility J_m [1] (0 unless "gent")
+    strain_law: str = "linear"
+    extensibility: float = 0.0
 
     @property
     def is_active(self) -> bool:
@@ -166,6 +170,7 @@ class Scenario:
     description: str = ""
     target_bend_angle: float | None = None  # rad
     front_level: float = 0.5  # converted fraction of full conversion that marks the conversion front [1]
+    small_strain_limit: float = 0.05  # strain past which a small-strain (linear) layer draws a warning [1]
     #: job sections as the file gave them: name (one of JOB_SECTIONS) -> TOML table (plain data, not parsed
     #: here; a job reads its own with actsim.scenario.section_settings). Treat as read-only.
     sections: dict = field(default_factory=dict)

@@ -215,6 +215,16 @@ def _parse_material(name: str, data, base_dir: Path) -> Material:
             f"materials.{name}.relaxation: a relaxing material takes its temperature dependence from the shift; "
             "remove glass_transition / modulus_table and give the long-term modulus as modulus"
         )
+    strain_law = t.string("strain_law", default="linear", choices=("linear", "neo-hookean", "gent"))
+    extensibility = 0.0
+    if strain_law == "gent":
+        extensibility = t.number("extensibility", **limit("materials.NAME.extensibility"))
+    elif t.has("extensibility"):
+        raise ActsimInputError(f"materials.{name}.extensibility: used only with strain_law = 'gent' "
+                               f"(here '{strain_law}')")
+    if strain_law != "linear" and relaxation is not None:
+        raise ActsimInputError(f"materials.{name}.relaxation: a '{strain_law}' layer is elastic; large-strain "
+                               "viscoelasticity is not modelled (use strain_law = 'linear' or remove relaxation)")
     if temperature_modulus is not None:
         for key in ("modulus", "product_modulus"):
             if t.has(key):
@@ -249,6 +259,8 @@ def _parse_material(name: str, data, base_dir: Path) -> Material:
         temperature_modulus=temperature_modulus,
         product_modulus_ratio=ratio,
         relaxation=relaxation,
+        strain_law=strain_law,
+        extensibility=extensibility,
     )
     if kw["network_modulus"] > 0 and conc <= 0:
         raise ActsimInputError(
@@ -555,6 +567,7 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
     if rt.has("target_bend_angle"):
         target = rt.quantity("target_bend_angle", "angle", **limit("report.target_bend_angle"))
     front_level = rt.number("front_conversion", 0.5, **limit("report.front_conversion"))
+    small_strain_limit = rt.number("small_strain_limit", 0.05, **limit("report.small_strain_limit"))
     rt.finish()
     sections = {}
     for section in JOB_SECTIONS:
@@ -565,7 +578,8 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
     return Scenario(
         title=title, strip=strip, layers=tuple(layers), sources=tuple(sources), protocol=tuple(protocol),
         optics=optics, heat=heat, output_interval=output_interval, time_step=time_step, time_tolerance=tolerance, text=text, path=str(path),
-        description=description, target_bend_angle=target, front_level=front_level, sections=sections, base_dir=str(base),
+        description=description, target_bend_angle=target, front_level=front_level,
+        small_strain_limit=small_strain_limit, sections=sections, base_dir=str(base),
         material_names=tuple(materials),
     )
 
