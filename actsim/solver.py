@@ -207,6 +207,10 @@ def solve(scenario: Scenario, *, engine: str = "kernel", allow_large: bool = Fal
         else:
             from .reference import run_reference
 
+            if np.any(p.material.strain_law != material.STRAIN_LINEAR):
+                hyper = next(la.material.name for la in scenario.layers if la.material.strain_law != "linear")
+                raise ActsimInputError(f"engine: the reference engine has no large-strain layers (materials.{hyper}."
+                                       "strain_law); use engine = 'kernel'")
             raw = run_reference(p)._asdict()
         return _assemble(scenario, p, raw, reuse=True)
 
@@ -358,6 +362,9 @@ def _assemble(scenario: Scenario, p: Problem, raw: dict, *, reuse: bool) -> Solu
     if not finite:
         raise _non_finite("curvature" if not np.all(np.isfinite(kappa)) else "stress")
     x_tip, y_tip = mechanics.arc_tip_series(np.ascontiguousarray(kappa), L)
+    if has_hyper:  # large strain: the mid-plane's arc is L (1 + its strain) long; theta = kappa L still holds
+        stretch_mid = 1.0 + (e0 - kappa * 0.5 * h)
+        x_tip, y_tip = x_tip * stretch_mid, y_tip * stretch_mid
     m_block = mechanics.blocked_moment(bending_stiffness=d_eff, curvature=kappa_free, width=b)
     f_block = mechanics.blocked_tip_force(bending_stiffness=d_eff, curvature=kappa_free, width=b, free_length=L)
     # the strip responses derived after the time loop (the loop checks its own state): a NaN or inf in any of the

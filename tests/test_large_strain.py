@@ -240,3 +240,35 @@ def test_two_networks_at_large_stretch(pre):
           f"{100 * (l_lin / l_hyp - 1):.2f} % off")
     assert l_hyp == pytest.approx(closed, rel=1e-6)
     assert l_lin == pytest.approx(1 + 0.75 * (lm - 1), rel=1e-6)
+
+
+def test_tip_of_a_contracted_strip_is_the_arc_of_the_contracted_length():
+    # the mid-plane is an arc of angle theta = kappa L and length L (1 + e_mid): x = L (1 + e) sin(theta)/theta,
+    # y = L (1 + e) (1 - cos theta)/theta (circular arc; Timoshenko and Gere 1961)
+    from pathlib import Path
+
+    import actsim
+
+    sc = actsim.load_scenario(Path(__file__).resolve().parents[1] / "scenarios" / "elastomer_contraction.toml")
+    s = actsim.solve(sc)
+    L = sc.strip.free_length
+    th = s.bend_angle
+    i = int(np.argmax(np.abs(th)))
+    length = L * (1 + s.axial_strain[i])
+    assert s.axial_strain[i] < -0.1  # the demo contracts by about 20 %
+    assert s.tip_position_x[i] == pytest.approx(length * np.sin(th[i]) / th[i], rel=1e-12)
+    assert s.tip_deflection[i] == pytest.approx(length * (1 - np.cos(th[i])) / th[i], rel=1e-12)
+
+
+def test_paths_without_large_strain_refuse_it():
+    from pathlib import Path
+
+    import actsim
+    from actsim.errors import ActsimInputError
+    from actsim.study.sweep import sweep
+
+    sc = actsim.load_scenario(Path(__file__).resolve().parents[1] / "scenarios" / "elastomer_contraction.toml")
+    with pytest.raises(ActsimInputError, match=r"^engine: the reference engine has no large-strain layers"):
+        actsim.solve(sc, engine="reference")
+    with pytest.raises(ActsimInputError, match=r"strain_law: a sweep's metrics .* are small-strain"):
+        sweep(sc, {"strip.free_length": "10 mm,20 mm"}, progress=False)

@@ -163,6 +163,12 @@ def sweep(scenario, vary, *, sampling="grid", n_samples=None, seed=0, metrics=No
         Metrics (see :data:`~actsim.study.store.METRIC_INFO`) per design,
         ``status``, and the swept fields as coordinates in SI with ``units``.
     """
+    hyper = sorted({la.material.name for la in scenario.layers if la.material.strain_law != "linear"})
+    if hyper:
+        raise ActsimInputError(
+            f"materials.{hyper[0]}.strain_law: a sweep's metrics (blocked force, tip travel) are small-strain, and "
+            f"'{hyper[0]}' is {scenario.layers[[la.material.name for la in scenario.layers].index(hyper[0])].material.strain_law}; "
+            "run the designs one by one with actsim run (sweeps of hyperelastic layers are not supported yet)")
     plan = plan_sweep(scenario, vary, sampling=sampling, n_samples=n_samples, seed=seed,
                       target_bend_angle=target_bend_angle, keep_series=keep_series, chunk_size=chunk_size, yes=yes)
     if metrics is not None:
