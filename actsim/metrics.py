@@ -272,7 +272,7 @@ def held_step_loads(ds, protocol=None):
         Result of :func:`actsim.simulate` (``protocol_step``, ``hold``, ``holding_moment``,
         ``holding_force``, ``free_length`` attribute [m]).
     protocol : sequence of actsim.scenario.Step, optional
-        For the step labels.
+        For the step labels (durations [s]).
 
     Returns
     -------
