@@ -282,6 +282,50 @@ def section_series(z_edges, z_centres, modulus, modulus_eigenstrain, strain_bott
 
 
 @njit(cache=True)
+def strain_peaks(strain_bottom, curvature, z_edges, z_centres, eigenstrain):
+    """Largest strains over the output times: total strain at each cell face, elastic strain at each centre.
+
+    .. math:: \\max_t |e_0 - \\kappa z_j| \\;(\\text{faces } z_j), \\qquad
+       \\max_t |e_0 - \\kappa z_i - e^*_i| \\;(\\text{centres } z_i)
+
+    Parameters
+    ----------
+    strain_bottom, curvature : numpy.ndarray, shape (n_time,)
+        Strain at z = 0 [1] and curvature [m-1].
+    z_edges : numpy.ndarray, shape (n_cell + 1,)
+        [m].
+    z_centres : numpy.ndarray, shape (n_cell,)
+        [m].
+    eigenstrain : numpy.ndarray, shape (n_time, n_cell)
+        [1].
+
+    Returns
+    -------
+    (face_peaks, centre_peaks) : numpy.ndarray, shapes (n_cell + 1,), (n_cell,)
+        [1].
+
+    References
+    ----------
+    .. [1] Timoshenko, S. "Analysis of bi-metal thermostats." J. Opt. Soc. Am. 11 (1925) 233-255 (the strain
+       field e_0 - kappa z of a layered beam).
+    """
+    n_time, n_cell = eigenstrain.shape
+    faces = np.zeros(n_cell + 1)
+    centres = np.zeros(n_cell)
+    for t in range(n_time):
+        e0, k = strain_bottom[t], curvature[t]
+        for j in range(n_cell + 1):
+            v = abs(e0 - k * z_edges[j])
+            if v > faces[j]:
+                faces[j] = v
+        for i in range(n_cell):
+            v = abs(e0 - k * z_centres[i] - eigenstrain[t, i])
+            if v > centres[i]:
+                centres[i] = v
+    return faces, centres
+
+
+@njit(cache=True)
 def arc_tip_series(curvature, free_length):
     """Tip of a uniformly curved cantilever at every output time (the loop form of :func:`arc_tip_position`).
 

@@ -13,6 +13,7 @@ import math
 from typing import NamedTuple
 
 import numpy as np
+from numba import njit
 
 from .mechanics import HOLD_CODES
 from .spectra import photon_flux
@@ -75,16 +76,26 @@ def segments(*, durations, output_interval, time_step):
         Protocol step of each segment, its time step [s] and number of steps, and the
         segment ends with 0 first [s].
     """
-    total = float(sum(durations))
-    tol = 1e-9 * min(min(durations), output_interval)
-    boundaries = np.cumsum([0.0] + list(durations))
+    return _segments(np.asarray(durations, dtype=np.float64), float(output_interval), float(time_step))
+
+
+@njit(cache=True)
+def _segments(durations, output_interval, time_step):
+    """The arithmetic of :func:`segments` (numba: a protocol is cut in microseconds, not tens of them)."""
+    total = 0.0
+    for d in durations:
+        total += d
+    tol = 1e-9 * min(durations.min(), output_interval)
+    boundaries = np.empty(durations.size + 1)
+    boundaries[0] = 0.0
+    boundaries[1:] = np.cumsum(durations)
     boundaries[-1] = total
     n_out = int(math.floor(total / output_interval + 1e-9))
     outs = np.arange(n_out + 1) * output_interval
     outs = outs[outs < total - tol]
     j = np.minimum(np.maximum(np.searchsorted(boundaries, outs), 1), boundaries.size - 1)
     near = np.minimum(np.abs(outs - boundaries[j - 1]), np.abs(outs - boundaries[j])) <= tol
-    marks = np.sort(np.concatenate([boundaries, outs[~near]]))
+    marks = np.sort(np.concatenate((boundaries, outs[~near])))
     length = np.diff(marks)
     seg_step = np.searchsorted(boundaries, 0.5 * (marks[:-1] + marks[1:])) - 1
     seg_n = np.maximum(1, np.ceil(length / time_step - 1e-9)).astype(np.int64)
@@ -130,5 +141,17 @@ def incident_dose(schedule: Schedule) -> np.ndarray:
 
     .. math:: H(t_k) = \\sum_{j < k} \\Big(\\sum_{sources} E_{step(j)}\\Big)\\,(t_{j+1} - t_j)
     """
-    seg_power = schedule.step_irradiance.sum(axis=1)[schedule.seg_step]
-    return np.concatenate([[0.0], np.cumsum(seg_power * np.diff(schedule.times))])
+    return _incident_dose(schedule.step_irradiance, schedule.seg_step, schedule.times)
+
+
+@njit(cache=True)
+def _incident_dose(step_irradiance, seg_step, times):
+    """The sum of :func:`incident_dose`, segment by segment (numba)."""
+    out = np.empty(times.size)
+    out[0] = 0.0
+    for j in range(seg_step.size):
+        power = 0.0
+        for k in range(step_irradiance.shape[1]):
+            power += step_irradiance[seg_step[j], k]
+        out[j + 1] = out[j] + power * (times[j + 1] - times[j])
+    return out

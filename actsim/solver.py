@@ -270,19 +270,19 @@ def small_strain_warning(scenario: Scenario, p: Problem, *, e0, kappa, eigenstra
         [1].
     """
     limit = scenario.small_strain_limit
-    z_edges, layer = p.grid.z_edges, p.grid.layer_index
+    z_edges = p.grid.z_edges
     z_c = cell_centres(z_edges)
     worst = []
-    for li, lay in enumerate(scenario.layers):
-        if lay.material.strain_law != "linear":
-            continue
-        sel = np.flatnonzero(layer == li)
-        faces = np.array([z_edges[sel[0]], z_edges[sel[-1] + 1]])
-        total = np.abs(e0[:, None] - kappa[:, None] * faces).max()
-        elastic = max(float(np.abs(e0 - kappa * z_c[i] - eigenstrain[:, i]).max()) for i in sel)  # no (time, z) temporary
-        strain = float(max(total, elastic))
-        if strain > limit:
-            worst.append(f"{lay.name} ({lay.material.name}) reaches {100 * strain:.3g} %")
+    face_peaks, centre_peaks = mechanics.strain_peaks(np.ascontiguousarray(e0), np.ascontiguousarray(kappa), z_edges,
+                                                      z_c, eigenstrain)
+    start = 0
+    for lay in scenario.layers:  # the grid's cells are the layers' cells in order, bottom first
+        stop = start + lay.cells
+        if lay.material.strain_law == "linear":
+            strain = max(face_peaks[start], face_peaks[stop], centre_peaks[start:stop].max())
+            if strain > limit:
+                worst.append(f"{lay.name} ({lay.material.name}) reaches {100 * strain:.3g} %")
+        start = stop
     if not worst:
         return ""
     return (f"warning: small-strain layer(s) driven past the small-strain limit of {100 * limit:g} %: "
@@ -306,8 +306,8 @@ def _assemble(scenario: Scenario, p: Problem, raw: dict, *, reuse: bool) -> Solu
     strip = scenario.strip
     heat_on = scenario.heat.enabled
     network_on = p.material.network_mod > 0
-    has_network = bool(np.any(network_on))
-    has_hyper = bool(np.any(p.material.strain_law != material.STRAIN_LINEAR))
+    has_network = bool(network_on.any())
+    has_hyper = bool((p.material.strain_law != material.STRAIN_LINEAR).any())
     # one row when not modelled (the constant value); kept only for a hyperelastic stack, so they are freed otherwise
     hyper_T, hyper_S = (raw["T"], raw["S"]) if has_hyper else (None, None)
     if not heat_on:
