@@ -972,7 +972,17 @@ def viscoelastic_section_state(*, params: MaterialParams, conversion, temperatur
 
 @njit(cache=True)
 def interp_clamped_nb(x, xs, ys):
-    """Piecewise-linear interpolation of ``ys`` at ``x`` over strictly increasing ``xs``, clamped at the ends."""
+    """Piecewise-linear interpolation of ``ys`` at ``x`` over strictly increasing ``xs``, clamped at the ends.
+
+    Parameters
+    ----------
+    x : float
+        Where to interpolate [unit of ``xs``].
+    xs : numpy.ndarray, shape (m,)
+        Strictly increasing abscissae.
+    ys : numpy.ndarray, shape (m,)
+        Values at ``xs``.
+    """
     m = xs.shape[0]
     if x <= xs[0]:
         return ys[0]
