@@ -979,9 +979,9 @@ def interp_clamped_nb(x, xs, ys):
     x : float
         Where to interpolate [unit of ``xs``].
     xs : numpy.ndarray, shape (m,)
-        Strictly increasing abscissae.
+        Strictly increasing abscissae [unit of x].
     ys : numpy.ndarray, shape (m,)
-        Values at ``xs``.
+        Values at ``xs`` [unit of the result].
     """
     m = xs.shape[0]
     if x <= xs[0]:
