@@ -54,11 +54,12 @@ from .units import check_range, finite_array, scalar_or_array
 MODULUS_CONSTANT = 0
 MODULUS_GLASS = 1
 MODULUS_TABLE = 2
-#: Time-temperature shift of a relaxing material: none, WLF, Arrhenius.
+#: Time-temperature shift of a relaxing material: none, WLF, Arrhenius, a table of log10 a_T.
 SHIFT_NONE = 0
 SHIFT_WLF = 1
 SHIFT_ARRHENIUS = 2
-SHIFT_NAMES = ("none", "wlf", "arrhenius")
+SHIFT_TABLE = 3
+SHIFT_NAMES = ("none", "wlf", "arrhenius", "table")
 #: |ln a_T| is clamped here (exp(700) ~ 1e304): beyond it a cell is frozen (glassy) or fully relaxed anyway.
 LN_SHIFT_MAX = 700.0
 #: Molar gas constant [J mol-1 K-1] (CODATA 2018, exact; the value actsim.kinetics uses).
@@ -104,9 +105,14 @@ class MaterialParams(NamedTuple):
     visco_tau : numpy.ndarray, shape (n_cell, n_term)
         Relaxation time of each term at the shift's reference temperature [s] (1 beyond visco_n).
     shift_kind : numpy.ndarray of int64, shape (n_cell,)
-        SHIFT_NONE, SHIFT_WLF or SHIFT_ARRHENIUS.
+        SHIFT_NONE, SHIFT_WLF, SHIFT_ARRHENIUS or SHIFT_TABLE.
     shift_par : numpy.ndarray, shape (n_cell, 3)
         WLF: C1 [1], C2 [K], reference temperature [K]; Arrhenius: E_a / R [K], reference temperature [K], 0.
+    shift_tab_idx : numpy.ndarray of int64, shape (n_cell,)
+        Row of the shift table of each SHIFT_TABLE cell (0 otherwise).
+    shift_tab_T, shift_tab_log : numpy.ndarray, shape (n_shift_table, m)
+        Shift-table temperatures [K] and ln a_T [1], padded to one length by repeating the last value at 1 K
+        steps (the lookup clamps at the ends).
     strain_law : numpy.ndarray of int64, shape (n_cell,)
         STRAIN_LINEAR (small strain), STRAIN_UNIAXIAL (hyperelastic, plane stress: beam) or STRAIN_PLANE
         (hyperelastic, plane strain across the width: plate).
@@ -130,6 +136,9 @@ class MaterialParams(NamedTuple):
     visco_tau: np.ndarray
     shift_kind: np.ndarray
     shift_par: np.ndarray
+    shift_tab_idx: np.ndarray
+    shift_tab_T: np.ndarray
+    shift_tab_log: np.ndarray
     strain_law: np.ndarray
     extensibility: np.ndarray
 
@@ -163,6 +172,8 @@ def material_params(scenario, grid) -> MaterialParams:
     visco_tau = np.ones((n_cell, max(n_term, 1)))
     shift_kind = np.zeros(n_cell, np.int64)
     shift_par = np.zeros((n_cell, 3))
+    shift_tab_idx = np.zeros(n_cell, np.int64)
+    shift_tables = []
     strain_law = np.zeros(n_cell, np.int64)
     extensibility = np.zeros(n_cell)
     for li, layer in enumerate(scenario.layers):
@@ -200,6 +211,10 @@ def material_params(scenario, grid) -> MaterialParams:
                 shift_par[sel] = (rx.wlf_c1, rx.wlf_c2, rx.reference_temperature)
             elif rx.shift == "arrhenius":
                 shift_par[sel] = (rx.activation_energy / GAS_CONSTANT, rx.reference_temperature, 0.0)
+            elif rx.shift == "table":
+                shift_tab_idx[sel] = len(shift_tables)
+                shift_tables.append((np.asarray(rx.shift_table_temperatures, float),
+                                     LN10 * np.asarray(rx.shift_table_log10, float)))
         # thermal strain is isotropic: under plane strain across the width (plate) it acts as (1 + nu) alpha dT
         # along the strip with the plane-strain modulus (Timoshenko and Woinowsky-Krieger 1959, sec. 14)
         plate_factor = (1.0 + (0.5 if m.strain_law != "linear" else m.poisson_ratio)) if scenario.strip.section == "plate" else 1.0
@@ -212,11 +227,26 @@ def material_params(scenario, grid) -> MaterialParams:
         pad = m_len - len(tt)
         tab_T[j] = np.concatenate([tt, tt[-1] + np.arange(1, pad + 1)])
         tab_logE[j] = np.log(np.concatenate([ee, np.full(pad, ee[-1])]))
+    shift_tab_T, shift_tab_log = _padded_tables(shift_tables)
     return MaterialParams(mod_kind=mod_kind, mod_base=mod_base, mod_ratio=mod_ratio, sec_fac=sec_fac, gl=gl,
                           tab_idx=tab_idx, tab_T=tab_T, tab_logE=tab_logE, network_mod=network_mod,
                           photo_strain=strain, alpha_th=alpha_th, visco_n=visco_n, visco_mod=visco_mod,
-                          visco_tau=visco_tau, shift_kind=shift_kind, shift_par=shift_par, strain_law=strain_law,
+                          visco_tau=visco_tau, shift_kind=shift_kind, shift_par=shift_par,
+                          shift_tab_idx=shift_tab_idx, shift_tab_T=shift_tab_T, shift_tab_log=shift_tab_log,
+                          strain_law=strain_law,
                           extensibility=extensibility)
+
+
+def _padded_tables(tables):
+    """Tables of (x, y) of different lengths as two arrays of one length, the last x stepped by 1, y repeated."""
+    m_len = max([len(t[0]) for t in tables], default=1)
+    xs = np.zeros((max(len(tables), 1), m_len))
+    ys = np.zeros((max(len(tables), 1), m_len))
+    for j, (tx, ty) in enumerate(tables):
+        pad = m_len - len(tx)
+        xs[j] = np.concatenate([tx, tx[-1] + np.arange(1, pad + 1)])
+        ys[j] = np.concatenate([ty, np.full(pad, ty[-1])])
+    return xs, ys
 
 
 def primary_modulus(*, params: MaterialParams, conversion, temperature):
@@ -745,6 +775,37 @@ def arrhenius_log_shift(*, temperature, activation_energy, reference_temperature
     return scalar_or_array(activation_energy / GAS_CONSTANT * (1.0 / T - 1.0 / reference_temperature) / LN10)
 
 
+def table_log_shift(*, temperature, table_temperature, table_log10_shift):
+    r"""Tabulated shift, :math:`\log_{10} a_T` piecewise linear in T between the table points, clamped at the ends.
+
+    .. math:: \log_{10} a_T(T) = \log_{10} a_j + \frac{T - T_j}{T_{j+1} - T_j}\,(\log_{10} a_{j+1} - \log_{10} a_j),
+              \quad T_j \le T \le T_{j+1}
+
+    and :math:`\log_{10} a_T = \log_{10} a_1` below :math:`T_1`, :math:`\log_{10} a_m` above :math:`T_m`.
+
+    Parameters
+    ----------
+    temperature : float or array_like
+        [K].
+    table_temperature : array_like, shape (m,)
+        Strictly increasing table temperatures [K].
+    table_log10_shift : array_like, shape (m,)
+        :math:`\log_{10} a_T` at ``table_temperature`` [1] (e.g. measured by shifting DMA isotherms).
+
+    Returns
+    -------
+    float or numpy.ndarray
+        :math:`\log_{10} a_T` [1].
+
+    References
+    ----------
+    .. [1] Ferry, J. D. Viscoelastic Properties of Polymers, 3rd ed., Wiley 1980, ch. 11 (shift factors measured
+       by superposing isotherms).
+    """
+    T = np.asarray(temperature, float)
+    return scalar_or_array(np.interp(T, np.asarray(table_temperature, float), np.asarray(table_log10_shift, float)))
+
+
 def reduced_time_step(*, params: MaterialParams, dt, temperature):
     r"""Reduced time step :math:`\Delta\xi = \Delta t / a_T(T)` of every cell (readable path).
 
@@ -766,6 +827,10 @@ def reduced_time_step(*, params: MaterialParams, dt, temperature):
     log10_a = np.zeros(temperature.shape)
     wlf = p.shift_kind == SHIFT_WLF
     arr = p.shift_kind == SHIFT_ARRHENIUS
+    for i in np.nonzero(p.shift_kind == SHIFT_TABLE)[0]:
+        j = p.shift_tab_idx[i]
+        log10_a[i] = table_log_shift(temperature=temperature[i], table_temperature=p.shift_tab_T[j],
+                                     table_log10_shift=p.shift_tab_log[j] / LN10)
     if wlf.any():
         log10_a[wlf] = wlf_log_shift(temperature=temperature[wlf], c1=p.shift_par[wlf, 0], c2=p.shift_par[wlf, 1],
                                      reference_temperature=p.shift_par[wlf, 2])
@@ -906,17 +971,50 @@ def viscoelastic_section_state(*, params: MaterialParams, conversion, temperatur
 
 
 @njit(cache=True)
-def log_shift_nb(kind, par, T):
+def interp_clamped_nb(x, xs, ys):
+    """Piecewise-linear interpolation of ``ys`` at ``x`` over strictly increasing ``xs``, clamped at the ends.
+
+    Parameters
+    ----------
+    x : float
+        Where to interpolate [unit of ``xs``].
+    xs : numpy.ndarray, shape (m,)
+        Strictly increasing abscissae [unit of x].
+    ys : numpy.ndarray, shape (m,)
+        Values at ``xs`` [unit of the result].
+    """
+    m = xs.shape[0]
+    if x <= xs[0]:
+        return ys[0]
+    if x >= xs[m - 1]:
+        return ys[m - 1]
+    lo = 0
+    hi = m - 1
+    while hi - lo > 1:  # bisection for xs[lo] <= x < xs[hi]
+        mid = (lo + hi) // 2
+        if xs[mid] <= x:
+            lo = mid
+        else:
+            hi = mid
+    f = (x - xs[lo]) / (xs[hi] - xs[lo])
+    return ys[lo] + f * (ys[hi] - ys[lo])
+
+
+@njit(cache=True)
+def log_shift_nb(kind, par, T, tab_T, tab_log):
     """Natural log of the shift factor a_T of one cell, clamped to +-LN_SHIFT_MAX (kernel step) [1].
 
     Parameters
     ----------
     kind : int
-        SHIFT_NONE, SHIFT_WLF or SHIFT_ARRHENIUS.
+        SHIFT_NONE, SHIFT_WLF, SHIFT_ARRHENIUS or SHIFT_TABLE.
     par : numpy.ndarray, shape (3,)
         The cell's row of ``MaterialParams.shift_par``: WLF C1 [1], C2 [K], T_r [K]; Arrhenius E_a/R [K], T_r [K].
     T : float
         Temperature [K].
+    tab_T, tab_log : numpy.ndarray, shape (m,)
+        The cell's rows of ``MaterialParams.shift_tab_T`` [K] and ``shift_tab_log`` (ln a_T) [1]; used by
+        SHIFT_TABLE only (piecewise linear in ln a_T, clamped at the end values).
     """
     if kind == SHIFT_WLF:
         d = T - par[2]
@@ -926,6 +1024,8 @@ def log_shift_nb(kind, par, T):
         v = -LN10 * par[0] * d / den
     elif kind == SHIFT_ARRHENIUS:
         v = par[0] * (1.0 / T - 1.0 / par[1])
+    elif kind == SHIFT_TABLE:
+        v = interp_clamped_nb(T, tab_T, tab_log)
     else:
         return 0.0
     return min(max(v, -LN_SHIFT_MAX), LN_SHIFT_MAX)
@@ -966,7 +1066,9 @@ def viscoelastic_state(x, T0, T1, dt, H, ev, mat, T_ref, E_out, Ee_out, Ev_out):
         if n == 0:
             continue
         f = 1.0 + (mat.mod_ratio[i] - 1.0) * x[i]
-        dxi = dt * math.exp(-log_shift_nb(mat.shift_kind[i], mat.shift_par[i], 0.5 * (T0[i] + T1[i])))
+        dxi = dt * math.exp(-log_shift_nb(mat.shift_kind[i], mat.shift_par[i], 0.5 * (T0[i] + T1[i]),
+                                           mat.shift_tab_T[mat.shift_tab_idx[i]],
+                                           mat.shift_tab_log[mat.shift_tab_idx[i]]))
         e_alg = 0.0
         e_glassy = 0.0
         s_hist = 0.0
@@ -1050,7 +1152,9 @@ def viscoelastic_accept(x, T0, T1, dt, H, ev, ev_new, rate, mat):
         if n == 0:
             continue
         f = 1.0 + (mat.mod_ratio[i] - 1.0) * x[i]
-        dxi = dt * math.exp(-log_shift_nb(mat.shift_kind[i], mat.shift_par[i], 0.5 * (T0[i] + T1[i])))
+        dxi = dt * math.exp(-log_shift_nb(mat.shift_kind[i], mat.shift_par[i], 0.5 * (T0[i] + T1[i]),
+                                           mat.shift_tab_T[mat.shift_tab_idx[i]],
+                                           mat.shift_tab_log[mat.shift_tab_idx[i]]))
         de = ev_new[i] - ev[i]
         for k in range(n):
             a = dxi / mat.visco_tau[i, k]

@@ -16,13 +16,14 @@ import pytest
 
 import actsim
 from actsim.errors import ActsimInputError
-from actsim.material import arrhenius_log_shift, prony_relaxation_modulus, prony_storage_loss, wlf_log_shift
+from actsim.material import (arrhenius_log_shift, prony_relaxation_modulus, prony_storage_loss, table_log_shift,
+                             wlf_log_shift)
 from actsim.scenario import parse_scenario
 
 E_INF, E_1, TAU = 1.0e9, 2.0e9, 1.0  # Pa, Pa, s: a standard linear solid (E_0 = 3 GPa)
 
 
-def single_layer(protocol, *, relaxation, tolerance="1e-6", cells=2, modulus="1 GPa", output="0.5 s"):
+def single_layer(protocol, *, relaxation, tolerance="1e-6", cells=2, modulus="1 GPa", output="0.5 s", base_dir=None):
     """One passive layer with a [relaxation] table, no heat (T = 293.15 K throughout)."""
     return parse_scenario(textwrap.dedent(f"""
     title = "viscoelastic layer"
@@ -42,7 +43,7 @@ def single_layer(protocol, *, relaxation, tolerance="1e-6", cells=2, modulus="1 
     [time]
     output_interval = "{output}"
     tolerance = {tolerance}
-    """))
+    """), base_dir=base_dir)
 
 
 SLS = 'terms = [{ modulus = "2 GPa", time = "1 s" }]'
@@ -422,3 +423,104 @@ def test_heated_and_cooled_bilayer_matches_an_independent_ode():
     print(f"heated bilayer: peak {np.degrees(np.max(np.abs(bend))):.2f} deg, final {np.degrees(bend[-1]):.2f} deg "
           f"(actsim {np.degrees(got[-1]):.2f}); max difference {err:.2e} of the peak")
     assert err < 1e-2
+
+
+# ------------------------------------------------------------------------------------- tabulated shift a_T
+def write_shift_table(folder, temperatures_c, column, *, header="log10 shift [1]"):
+    rows = "\n".join(f"{float(t)!r}, {float(v)!r}" for t, v in zip(temperatures_c, column))
+    (folder / "shift.csv").write_text(f"temperature [degC], {header}\n{rows}\n")
+
+
+def test_two_point_table_is_a_straight_line_in_log_shift():
+    # by hand: (0 degC, +0.5) and (40 degC, -1.5) -> slope -0.05 per K; at 20 degC log10 a_T = 0.5 - 20 * 0.05 = -0.5;
+    # clamped at the end values outside 0..40 degC
+    t, v = [273.15, 313.15], [0.5, -1.5]
+    assert table_log_shift(temperature=293.15, table_temperature=t, table_log10_shift=v) == pytest.approx(-0.5, abs=1e-12)
+    assert table_log_shift(temperature=303.15, table_temperature=t, table_log10_shift=v) == pytest.approx(-1.0, abs=1e-12)
+    np.testing.assert_allclose(table_log_shift(temperature=[200.0, 400.0], table_temperature=t, table_log10_shift=v),
+                               [0.5, -1.5])
+
+
+@pytest.mark.parametrize("header,column,log10_a", [
+    # two points, straight line in log10 a_T vs T: at 20 degC (the run's 293.15 K) -0.5, by hand as above
+    ("log10 shift [1]", [0.5, -1.5], -0.5),
+    # the same as a_T itself: 10^0.5 and 10^-1.5
+    ("shift factor [1]", [10.0 ** 0.5, 10.0 ** -1.5], -0.5),
+])
+def test_tabulated_shift_in_the_time_loop(tmp_path, header, column, log10_a):
+    # time-temperature superposition: at T the relaxation times are tau a_T (Ferry 1980, ch. 11)
+    write_shift_table(tmp_path, [0.0, 40.0], column, header=header)
+    tau_T = TAU * 10.0 ** log10_a
+    rel = (f'terms = [{{ modulus = "2 GPa", time = "{TAU / tau_T * 2.0!r} s" }}]\nshift = "table"\n'
+           'shift_table = { file = "shift.csv" }')
+    sc = single_layer('[[protocol]]\nduration = "6 s"\nhold = "stretch"\nstrain = 0.01', relaxation=rel,
+                      base_dir=tmp_path)
+    assert sc.layers[0].material.relaxation.shift_table_log10 == pytest.approx((0.5, -1.5), abs=1e-12)
+    ds = actsim.simulate(sc)
+    t = ds.time.values
+    np.testing.assert_allclose(ds.stress.values[:, 0], 0.01 * (E_INF + E_1 * np.exp(-t / 2.0)), rtol=1e-9)
+
+
+def test_fine_table_of_the_universal_wlf_reproduces_the_wlf_run(tmp_path):
+    # The bundled photothermal hinge (WLF about 45 degC with the universal constants C1 = 17.44, C2 = 51.6 K,
+    # Williams, Landel and Ferry, J. Am. Chem. Soc. 77 (1955) 3701), fixed steps, against the same run with a_T
+    # from a table of that WLF law every 0.1 K. Piecewise-linear interpolation errs by at most h^2/8 max|f''|
+    # (f = log10 a_T, f'' = 2 C1 C2 / (C2 + T - Tr)^3, largest at the coldest cell, 22 degC: 0.077 K^-2), i.e.
+    # 9.6e-5 in log10 a_T, 2.2e-4 in ln a_T: the reduced times differ by a factor within 1 +- 2.2e-4, and the
+    # curvature (its sensitivity to ln xi is at most order one) by less than 2.2e-4 of its peak (measured:
+    # 2.7e-6; with a 1 K table 2.5e-4, the h^2 scaling). The readable engine agrees with the kernel to 1e-9.
+    from pathlib import Path
+
+    text = (Path(__file__).resolve().parents[1] / "scenarios" / "photothermal_hinge.toml").read_text()
+    text = text.replace("tolerance = 1e-4", 'step = "0.05 s"').replace('output_interval = "0.25 s"',
+                                                                      'output_interval = "1 s"')
+    wlf = parse_scenario(text, base_dir=tmp_path)
+    rel = [la.material for la in wlf.layers][1].relaxation
+    assert (rel.wlf_c1, rel.wlf_c2) == (17.44, 51.6)
+    temps_c = np.round(np.arange(0.0, 120.0 + 1e-9, 0.1), 10)
+    log10_a = wlf_log_shift(temperature=temps_c + 273.15, c1=17.44, c2=51.6, reference_temperature=318.15)
+    write_shift_table(tmp_path, temps_c, log10_a)
+    tab_text = text.replace('shift = "wlf"\nreference_temperature = "45 degC"\nwlf_c1 = 17.44\nwlf_c2 = "51.6 K"',
+                            'shift = "table"\nshift_table = { file = "shift.csv" }')
+    assert tab_text != text
+    tab = parse_scenario(tab_text, base_dir=tmp_path)
+    a, b = actsim.simulate(wlf), actsim.simulate(tab)
+    T = a.temperature.values
+    assert 273.15 < T.min() and T.max() < 393.15  # inside the table: no clamping
+    k_a, k_b = a.curvature.values, b.curvature.values
+    peak = np.max(np.abs(k_a))
+    assert peak > 10.0  # a real bend [1/m]
+    assert np.max(np.abs(k_b - k_a)) < 2.2e-4 * peak
+    c = actsim.simulate(tab, engine="reference")
+    np.testing.assert_allclose(c.curvature.values, k_b, rtol=0, atol=1e-9 * peak)
+
+
+@pytest.mark.parametrize("rows,match", [
+    ("0, 1\n20, 0\n10, -1\n", r"shift_table\.file: 'shift\.csv' temperatures must increase strictly"),
+    ("0, 1\n", r"shift_table\.file: .*shift\.csv"),
+    ("0, 1\n20, nan\n", r"shift_table\.file: .*shift\.csv"),
+    ("0, 1\n20, 400\n", r"shift_table\.file: 'shift\.csv' has a log10 a_T from 1 to 400, outside the allowed"),
+    ("-300, 1\n20, 0\n", r"shift_table\.file: 'shift\.csv' has a temperature from .* K, outside the allowed"),
+])
+def test_bad_shift_table_is_one_line(tmp_path, rows, match):
+    (tmp_path / "shift.csv").write_text("temperature [degC], log10 shift [1]\n" + rows)
+    rel = SLS + '\nshift = "table"\nshift_table = { file = "shift.csv" }'
+    with pytest.raises(ActsimInputError, match=match) as exc:
+        single_layer('[[protocol]]\nduration = "1 s"', relaxation=rel, base_dir=tmp_path)
+    assert "\n" not in str(exc.value)
+
+
+@pytest.mark.parametrize("relaxation,header,match", [
+    (SLS + '\nshift = "table"', "log10 shift [1]", r"relaxation\.shift_table: required"),
+    (SLS + '\nshift = "wlf"\nreference_temperature = "45 degC"\nshift_table = { file = "shift.csv" }',
+     "log10 shift [1]", r"relaxation\.shift_table: not used with shift = 'wlf'"),
+    (SLS + '\nshift = "table"\nreference_temperature = "45 degC"\nshift_table = { file = "shift.csv" }',
+     "log10 shift [1]", r"relaxation\.reference_temperature: not used with shift = 'table'"),
+    (SLS + '\nshift = "table"\nshift_table = { file = "../shift.csv" }', "log10 shift [1]", r"shift_table\.file"),
+    (SLS + '\nshift = "table"\nshift_table = { file = "shift.csv" }', "strain [1]", r"second column 'strain': name it 'log10 shift"),
+])
+def test_bad_shift_table_fields_are_one_line(tmp_path, relaxation, header, match):
+    (tmp_path / "shift.csv").write_text(f"temperature [degC], {header}\n0, 1\n20, 0\n")
+    with pytest.raises(ActsimInputError, match=match) as exc:
+        single_layer('[[protocol]]\nduration = "1 s"', relaxation=relaxation, base_dir=tmp_path)
+    assert "\n" not in str(exc.value)

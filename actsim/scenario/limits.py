@@ -147,6 +147,10 @@ LIMITS: dict[str, Limit] = {
                                               reason="51.6 K is the 'universal' value about Tg (Williams, Landel "
                                               "and Ferry 1955); measured ones are tens to a few hundred K (from "
                                               "memory)"),
+    "materials.NAME.relaxation.shift_table.log10_shift": Limit(None, -300.0, 300.0,
+                                                              reason="ln a_T is clamped at +-700 (log10 a_T about "
+                                                              "304) anyway; measured shift factors span some 20 "
+                                                              "decades (from memory)"),
     "materials.NAME.relaxation.activation_energy": Limit("energy_per_mol", 0.0, 1e7,
                                                          reason="secondary relaxations take tens of kJ/mol, an "
                                                          "Arrhenius fit through Tg up to several MJ/mol (from "

@@ -23,7 +23,9 @@ class Relaxation:
     The relaxation modulus is ``E(xi) = modulus + sum_k moduli[k] exp(-xi / times[k])`` in the reduced time
     ``d xi = dt / a_T(T)`` (the material's ``modulus`` is the long-term, fully relaxed one); ``shift`` is
     ``"none"``, ``"wlf"`` (``wlf_c1`` [1], ``wlf_c2`` [K] about ``reference_temperature`` [K]) or
-    ``"arrhenius"`` (``activation_energy`` [J/mol] about ``reference_temperature``).
+    ``"arrhenius"`` (``activation_energy`` [J/mol] about ``reference_temperature``) or ``"table"``
+    (``log10 a_T`` at ``shift_table_temperatures`` [K], strictly increasing, piecewise linear in between and
+    clamped at the end values).
     """
 
     moduli: tuple  # Pa, one per term
@@ -33,6 +35,8 @@ class Relaxation:
     wlf_c1: float = 17.44  # 1
     wlf_c2: float = 51.6  # K
     activation_energy: float = 0.0  # J/mol
+    shift_table_temperatures: tuple = ()  # K, strictly increasing (shift = "table")
+    shift_table_log10: tuple = ()  # log10 a_T at those temperatures, 1
 
 
 @dataclass(frozen=True, eq=False)

@@ -171,7 +171,40 @@ def _read_modulus_table(path: Path, field_name: str):
     return temps, moduli
 
 
-def _parse_relaxation(t: "Table") -> Relaxation | None:
+def _read_shift_table(path: Path, field_name: str):
+    """Read a shift table CSV: temperature [unit] and ``log10 ...`` [1] (log10 a_T) or ``shift factor`` [1] (a_T)."""
+    from ..tables import read_xy_csv
+
+    try:
+        data = read_xy_csv(path, x_kind="temperature", y_kind="dimensionless")
+    except ActsimInputError as exc:
+        raise ActsimInputError(f"{field_name}: {exc}") from None
+    temps, y = data.x, data.y
+    name = data.y_name.strip().lower()
+    if name.startswith("log"):
+        log10_a = y
+    elif "shift" in name or name in ("a_t", "at"):
+        if np.any(y <= 0):
+            raise ActsimInputError(f"{field_name}: '{path.name}' column '{data.y_name}' (a_T) must be > 0; "
+                                   "or give log10 a_T in a column named 'log10 shift [1]'")
+        log10_a = np.log10(y)
+    else:
+        raise ActsimInputError(f"{field_name}: '{path.name}' second column '{data.y_name}': name it "
+                               "'log10 shift [1]' (log10 a_T) or 'shift factor [1]' (a_T)")
+    if np.any(np.diff(temps) <= 0):
+        raise ActsimInputError(f"{field_name}: '{path.name}' temperatures must increase strictly")
+    for values, key, unit in ((temps, "reference_temperature", "K"), (log10_a, "shift_table.log10_shift", "")):
+        lim = limit(f"materials.NAME.relaxation.{key}")
+        if values.min() < lim["lo"] or values.max() > lim["hi"]:
+            what = "temperature" if unit else "log10 a_T"
+            raise ActsimInputError(
+                f"{field_name}: '{path.name}' has a {what} from {values.min():g} to {values.max():g} {unit}".rstrip()
+                + f", outside the allowed range (>= {lim['lo']:g} and <= {lim['hi']:g} {unit})".replace(" )", ")")
+            )
+    return tuple(float(v) for v in temps), tuple(float(v) for v in log10_a)
+
+
+def _parse_relaxation(t: "Table", base_dir: Path) -> Relaxation | None:
     """The optional [materials.X.relaxation] table: Prony terms and the time-temperature shift."""
     if not t.has("relaxation"):
         return None
@@ -187,9 +220,18 @@ def _parse_relaxation(t: "Table") -> Relaxation | None:
         moduli.append(tt.quantity("modulus", "pressure", **limit("materials.NAME.relaxation.terms[].modulus")))
         times.append(tt.quantity("time", "time", **limit("materials.NAME.relaxation.terms[].time")))
         tt.finish()
-    shift = g.string("shift", default="none", choices=("none", "wlf", "arrhenius"))
+    shift = g.string("shift", default="none", choices=("none", "wlf", "arrhenius", "table"))
     kw = {}
-    if shift != "none":
+    if shift == "table":
+        where = g.field_path("shift_table") + ".file"
+        st = g.table("shift_table")
+        fname = st.string("file")
+        st.finish()
+        temps, log10_a = _read_shift_table(resolve_data_path(fname, base_dir=base_dir, field=where), where)
+        kw["shift_table_temperatures"], kw["shift_table_log10"] = temps, log10_a
+    elif g.has("shift_table"):
+        raise ActsimInputError(f"{g.field_path('shift_table')}: not used with shift = '{shift}' (use shift = 'table')")
+    if shift not in ("none", "table"):
         kw["reference_temperature"] = g.quantity("reference_temperature", "temperature",
                                                  **limit("materials.NAME.relaxation.reference_temperature"))
     if shift == "wlf":
@@ -209,7 +251,7 @@ def _parse_relaxation(t: "Table") -> Relaxation | None:
 def _parse_material(name: str, data, base_dir: Path) -> Material:
     t = Table(data, f"materials.{name}")
     temperature_modulus = _parse_temperature_modulus(t, base_dir)
-    relaxation = _parse_relaxation(t)
+    relaxation = _parse_relaxation(t, base_dir)
     if relaxation is not None and temperature_modulus is not None:
         raise ActsimInputError(
             f"materials.{name}.relaxation: a relaxing material takes its temperature dependence from the shift; "
