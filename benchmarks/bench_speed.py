@@ -7,7 +7,9 @@ Prints, side by side in one run (timings interleaved, medians):
     output times. For each solver the cheapest (cells, tolerance) pair that reaches the accuracy is searched:
     ``actsim.solve`` and ``actsim.simulate`` (error-controlled steps, ``[time] tolerance``) against scipy's
     ``solve_ivp`` RK45, LSODA and BDF on the same method-of-lines right-hand side (the same exact per-cell
-    Beer-Lambert light) at the loosest rtol that reaches it.
+    Beer-Lambert light) at the loosest rtol that reaches it. Timings are interleaved rounds (REPEATS); every
+    timed call follows an untimed call of the same solver and setting (warm caches for all solvers alike) and
+    runs with the garbage collector off, as timeit does.
 (b) ``actsim sweep`` of 20,000 thicknesses of scenarios/thickness_study.toml, end to end (benchmarks/bench_sweep_cli.py).
 (c) ``actsim demo``, warm (numba cache present) and cold (cache cleared into a scratch copy).
 (d) Nanoseconds per cell-step of the kernel with fixed steps (100 cells, 1000 steps).
@@ -18,6 +20,7 @@ Speed claims live here, never in timed tests.
 from __future__ import annotations
 
 import functools
+import gc
 import math
 import os
 import shutil
@@ -98,6 +101,8 @@ def scipy_error(cells, rtol, method):
 
 
 CELLS = (25, 50, 100, 200, 400, 800, 1600)
+#: Interleaved rounds of timing in (a); each solver's time is the median of its rounds.
+REPEATS = 11
 TOLS = tuple(10.0 ** (-k / 2) for k in range(4, 19))  # 1e-2 .. 1e-9 in half decades
 
 
@@ -138,13 +143,22 @@ def part_a():
                                         (lambda m: lambda c, t: (lambda: scipy_solve(c, t, m)))(method))
         settings = {name: cheapest(err_fn, target) for name, (err_fn, _) in cands.items()}
         # time every qualifying setting, interleaved (one round over all solvers, repeated), and keep the cheapest
+        # each timed call follows an untimed call of the same solver and setting (warm caches for every solver
+        # alike: otherwise the call after scipy's BDF, whose LU work evicts the caches, pays ~0.3 ms more), and,
+        # as timeit does, the garbage collector is off while a call is timed
         timings = {name: [[] for _ in s] for name, s in settings.items()}
-        for _ in range(5):
+        for _ in range(REPEATS):
             for name, (_, make) in cands.items():
                 for k, (cells, tol, _) in enumerate(settings[name]):
-                    t0 = time.perf_counter()
-                    make(cells, tol)()
-                    timings[name][k].append(time.perf_counter() - t0)
+                    fn = make(cells, tol)
+                    fn()
+                    gc.disable()
+                    try:
+                        t0 = time.perf_counter()
+                        fn()
+                        timings[name][k].append(time.perf_counter() - t0)
+                    finally:
+                        gc.enable()
         for name, s in settings.items():
             if not s:
                 entries[name] = None
