@@ -28,6 +28,8 @@ MODULES = (
     "actsim.kinetics",
     "actsim.mechanics",
     "actsim.material",
+    "actsim.viscoelastic",
+    "actsim.hyperelastic",
     "actsim.grid",
     "actsim.schedule",
     "actsim.reference",
