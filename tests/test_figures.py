@@ -16,6 +16,7 @@ import numpy as np
 import pytest
 import xarray as xr
 
+import actsim.calibrate.rates as rates
 import actsim.calibrate.tensile as tensile
 import actsim.check_figures as check_figures
 import actsim.figures as figures
@@ -36,7 +37,7 @@ def captured(monkeypatch):
         figs[Path(path).name] = fig
         return original(fig, path, *a, **k)
 
-    for mod in (aio, figures, check_figures, tensile):  # modules that bind save_figure when imported
+    for mod in (aio, figures, check_figures, tensile, rates):  # modules that bind save_figure when imported
         monkeypatch.setattr(mod, "save_figure", keep)
     return figs
 

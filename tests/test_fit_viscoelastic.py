@@ -12,7 +12,7 @@ import pytest
 import actsim
 from scipy import integrate
 
-from actsim.calibrate.tensile import eyring_yield_stress, fit_eyring, fit_tensile_rates
+from actsim.calibrate.rates import eyring_yield_stress, fit_eyring, fit_tensile_rates
 from actsim.calibrate.viscoelastic import (
     arrhenius_log_shift,
     dma_sweeps,

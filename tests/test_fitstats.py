@@ -142,7 +142,7 @@ def test_calibrate_docstrings_document_every_parameter():
     import re
 
     exempt = {"save_figure_atomic", "as_xy", "plot_tensile"}
-    for m in ("fitstats", "readers", "tensile", "dma", "spectra"):
+    for m in ("fitstats", "readers", "tensile", "rates", "dma", "spectra"):
         mod = importlib.import_module(f"actsim.calibrate.{m}")
         for name in mod.__all__:
             obj = getattr(mod, name)

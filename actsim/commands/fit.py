@@ -157,7 +157,7 @@ def fit_dma_to(path, out: Path, *, step="log", confidence=0.95):
 def fit_tensile_rates_to(paths, out: Path, *, rates, temperatures, at_rate=None, at_temperature=None,
                          yield_from="offset", toe=False, confidence=0.95):
     """Tensile curves at several strain rates into ``out``; returns (series, files)."""
-    from ..calibrate.tensile import fit_tensile_rates, plot_tensile_rates
+    from ..calibrate.rates import fit_tensile_rates, plot_tensile_rates
     from ..units import parse_quantity
 
     if not rates:

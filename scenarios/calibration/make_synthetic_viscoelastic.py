@@ -24,7 +24,7 @@ import numpy as np
 HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE.parent.parent))
 
-from actsim.calibrate.tensile import eyring_yield_stress  # noqa: E402
+from actsim.calibrate.rates import eyring_yield_stress  # noqa: E402
 from actsim.calibrate.viscoelastic import prony_storage_loss, wlf_log_shift  # noqa: E402
 from actsim.io import write_text  # noqa: E402
 
