@@ -411,6 +411,31 @@ def held_strip_response(*, z_edges, modulus, eigenstrain, hold, value=0.0, centr
 
 
 @njit(cache=True)
+def _held_state(A, B, D, Ns, Ms, hold, value):
+    """Strain at z = 0, curvature and the holding force and moment from the section integrals, for a hold.
+
+    Free: N = M = 0; stretch: e0 given, kappa = 0; bend: kappa given, N = 0; flat: kappa = 0, N = 0. The
+    holding resultants per unit width are N = A e0 - B kappa - N*, M = B e0 - D kappa - M*.
+    """
+    if hold == HOLD_STRETCH:
+        kappa = 0.0
+        e0 = value
+    elif hold == HOLD_BEND:
+        kappa = value
+        e0 = (Ns + B * kappa) / A
+    elif hold == HOLD_FLAT:
+        kappa = 0.0
+        e0 = Ns / A
+    else:
+        det = A * D - B * B
+        e0 = (D * Ns - B * Ms) / det
+        kappa = (B * Ns - A * Ms) / det
+    N = A * e0 - B * kappa - Ns
+    M = B * e0 - D * kappa - Ms
+    return e0, kappa, N, M
+
+
+@njit(cache=True)
 def section_solve(z_edges, E, Ee, hold, value):
     """Kernel step of :func:`held_strip_response`: strain at z = 0 and curvature under a hold code.
 
@@ -447,22 +472,7 @@ def section_solve(z_edges, E, Ee, hold, value):
         D += E[i] * w3
         Ns += Ee[i] * w1
         Ms += Ee[i] * w2
-    if hold == HOLD_STRETCH:
-        kappa = 0.0
-        e0 = value
-    elif hold == HOLD_BEND:
-        kappa = value
-        e0 = (Ns + B * kappa) / A
-    elif hold == HOLD_FLAT:
-        kappa = 0.0
-        e0 = Ns / A
-    else:
-        det = A * D - B * B
-        e0 = (D * Ns - B * Ms) / det
-        kappa = (B * Ns - A * Ms) / det
-    N = A * e0 - B * kappa - Ns
-    M = B * e0 - D * kappa - Ms
-    return e0, kappa, N, M
+    return _held_state(A, B, D, Ns, Ms, hold, value)
 
 
 @njit(cache=True)
@@ -510,22 +520,7 @@ def section_solve_centred(z_edges, E, Ee, Ec, hold, value):
         D += E[i] * w3 - Ec[i] * (w1 * w1 * w1 / 12.0)
         Ns += Ee[i] * w1
         Ms += Ee[i] * w2
-    if hold == HOLD_STRETCH:
-        kappa = 0.0
-        e0 = value
-    elif hold == HOLD_BEND:
-        kappa = value
-        e0 = (Ns + B * kappa) / A
-    elif hold == HOLD_FLAT:
-        kappa = 0.0
-        e0 = Ns / A
-    else:
-        det = A * D - B * B
-        e0 = (D * Ns - B * Ms) / det
-        kappa = (B * Ns - A * Ms) / det
-    N = A * e0 - B * kappa - Ns
-    M = B * e0 - D * kappa - Ms
-    return e0, kappa, N, M
+    return _held_state(A, B, D, Ns, Ms, hold, value)
 
 
 #: Gauss-Legendre points of the hyperelastic section integrals: two per cell (exact for a stress cubic in z).

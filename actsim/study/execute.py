@@ -423,20 +423,6 @@ def _check_timeout(timeout):
     return float(timeout)
 
 
-def _file_names(node, out):
-    """The strings under keys named ``file`` anywhere in a parsed TOML tree."""
-    if isinstance(node, dict):
-        for k, v in node.items():
-            if k == "file" and isinstance(v, str):
-                out.append(v)
-            else:
-                _file_names(v, out)
-    elif isinstance(node, list):
-        for v in node:
-            _file_names(v, out)
-    return out
-
-
 def data_file_contents(plan) -> tuple:
     """The data files a sweep's scenario and its swept ``.file`` values name, read here to send with each task.
 
@@ -449,10 +435,12 @@ def data_file_contents(plan) -> tuple:
     """
     import tomllib
 
+    from .plan import file_names
+
     sc = plan.scenario
     base = str(sc.base_dir or (Path(sc.path).parent if sc.path else Path.cwd()))
     try:
-        names = _file_names(tomllib.loads(sc.text), [])
+        names = file_names(tomllib.loads(sc.text), [])
     except tomllib.TOMLDecodeError:
         names = []
     names += [v for ax in plan.axes for p, vals in zip(ax.paths, ax.values) if p.endswith(".file")

@@ -214,17 +214,17 @@ class SweepPlan:
         return range(c * self.chunk_size, min(self.n_designs, (c + 1) * self.chunk_size))
 
 
-def _file_names(node, out):
+def file_names(node, out):
     """Collect the strings under keys named ``file`` anywhere in a parsed TOML tree."""
     if isinstance(node, dict):
         for k, v in node.items():
             if k == "file" and isinstance(v, str):
                 out.append(v)
             else:
-                _file_names(v, out)
+                file_names(v, out)
     elif isinstance(node, list):
         for v in node:
-            _file_names(v, out)
+            file_names(v, out)
     return out
 
 
@@ -254,7 +254,7 @@ def data_file_digests(scenario, extra_names=()) -> dict:
 
     base = Path(scenario.base_dir or (Path(scenario.path).parent if scenario.path else Path.cwd()))
     out = {}
-    for name in _file_names(tree, []) + [str(n) for n in extra_names]:
+    for name in file_names(tree, []) + [str(n) for n in extra_names]:
         if name in out:
             continue
         try:  # the same checks as the parser: inside the folder, a regular file, bounded (never a FIFO or device)
