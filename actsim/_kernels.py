@@ -295,6 +295,9 @@ def run_design(grid, light, photo, heat, mat, sched, out):
     Sn = np.empty(n_cell)
     mf = np.empty((n_cell, n_beam))
     ab = np.empty((n_cell, n_beam))
+    # species-weighted flux of the dichroic (polarised) light pass; unused (and not filled) otherwise
+    fa = np.zeros((n_cell, n_beam))
+    fb = np.zeros((n_cell, n_beam))
     kf0 = np.empty(n_cell)
     kb0 = np.empty(n_cell)
     kf1 = np.empty(n_cell)
@@ -334,7 +337,7 @@ def run_design(grid, light, photo, heat, mat, sched, out):
     if has_hyper:
         r = hyper_solve(z_edges, x, T, S, mat, T_ref, E, Ee, hs, sched.step_hold[s0], sched.step_value[s0], r)
     mech[0], mech[1], mech[2], mech[3] = r[0], r[1], r[2], r[3]
-    tr = light_pass(x, dz, light, q, mf, ab)
+    tr = light_pass(x, T, dz, light, q, mf, ab, fa, fb)
     record(0, x, T, S, E, Ee, mech, dz, mf, ab, light.beam_emol, q, light.entry, tr, out)
     # mf and ab hold the light at the current x under protocol step `light_of` (-1: not current). The light at
     # the end of a segment, computed for the output record, is the first stage of the next step when the light
@@ -359,9 +362,9 @@ def run_design(grid, light, photo, heat, mat, sched, out):
             # a new protocol step (light, ambient or hold switched): start from a step the fastest
             # photoreaction allows, sqrt(tol) / max(k_f + k_b), or the previous step if smaller
             if light_of != st:
-                light_pass(x, dz, light, q, mf, ab)
+                light_pass(x, T, dz, light, q, mf, ab, fa, fb)
                 light_of = st
-            rates(mf, light, photo, T, T_ref, kf0, kb0)
+            rates(mf, fa, fb, light, photo, T, T_ref, kf0, kb0)
             k_max = 0.0
             for i in range(n_cell):
                 if kf0[i] + kb0[i] > k_max:
@@ -414,24 +417,24 @@ def run_design(grid, light, photo, heat, mat, sched, out):
                 # error-controlled, one-way reaction, no heat, no light network: the rates at four stages averaged
                 # with RK4's weights in the exact update -- classical RK4 in ln(x_max - x), so fourth order
                 if light_of != st:
-                    light_pass(x, dz, light, q, mf, ab)
-                rates(mf, light, photo, T, T_ref, kf0, kb0)
+                    light_pass(x, T, dz, light, q, mf, ab, fa, fb)
+                rates(mf, fa, fb, light, photo, T, T_ref, kf0, kb0)
                 exact_update(x, kf0, kb0, 0.5 * dt, x_pred)
                 light_of = -1
-                light_pass(x_pred, dz, light, q, mf, ab)
-                rates(mf, light, photo, T, T_ref, kf1, kb1)
+                light_pass(x_pred, T, dz, light, q, mf, ab, fa, fb)
+                rates(mf, fa, fb, light, photo, T, T_ref, kf1, kb1)
                 for i in range(n_cell):
                     kf_sum[i] = kf0[i] + 2.0 * kf1[i]
                     kb_sum[i] = kb0[i] + 2.0 * kb1[i]
                 exact_update(x, kf1, kb1, 0.5 * dt, x_pred)
-                light_pass(x_pred, dz, light, q, mf, ab)
-                rates(mf, light, photo, T, T_ref, kf1, kb1)
+                light_pass(x_pred, T, dz, light, q, mf, ab, fa, fb)
+                rates(mf, fa, fb, light, photo, T, T_ref, kf1, kb1)
                 for i in range(n_cell):
                     kf_sum[i] += 2.0 * kf1[i]
                     kb_sum[i] += 2.0 * kb1[i]
                 exact_update(x, kf1, kb1, dt, x_pred)
-                light_pass(x_pred, dz, light, q, mf, ab)
-                rates(mf, light, photo, T, T_ref, kf1, kb1)
+                light_pass(x_pred, T, dz, light, q, mf, ab, fa, fb)
+                rates(mf, fa, fb, light, photo, T, T_ref, kf1, kb1)
                 for i in range(n_cell):
                     kf_sum[i] = (kf_sum[i] + kf1[i]) / 6.0
                     kb_sum[i] = (kb_sum[i] + kb1[i]) / 6.0
@@ -449,14 +452,14 @@ def run_design(grid, light, photo, heat, mat, sched, out):
             else:
                 # light and rates at the start of the step
                 if light_of != st:
-                    light_pass(x, dz, light, q, mf, ab)
-                rates(mf, light, photo, T, T_ref, kf0, kb0)
+                    light_pass(x, T, dz, light, q, mf, ab, fa, fb)
+                rates(mf, fa, fb, light, photo, T, T_ref, kf0, kb0)
                 light_of = -1
                 if heat_mode != HEAT_OFF:
                     heat_source(ab, light.beam_emol, dz, heat.heat_frac, q0)
                 exact_update(x, kf0, kb0, dt, x_pred)
                 # light at the predicted conversion
-                light_pass(x_pred, dz, light, q, mf, ab)
+                light_pass(x_pred, T, dz, light, q, mf, ab, fa, fb)
                 lb = 0.0
                 lt = 0.0
                 d_in = 0.0
@@ -479,7 +482,7 @@ def run_design(grid, light, photo, heat, mat, sched, out):
                 else:
                     for i in range(n_cell):
                         Tn[i] = T[i]
-                rates(mf, light, photo, Tn, T_ref, kf1, kb1)
+                rates(mf, fa, fb, light, photo, Tn, T_ref, kf1, kb1)
                 for i in range(n_cell):
                     kf1[i] = 0.5 * (kf0[i] + kf1[i])
                     kb1[i] = 0.5 * (kb0[i] + kb1[i])
@@ -579,7 +582,7 @@ def run_design(grid, light, photo, heat, mat, sched, out):
         if has_hyper:
             r = hyper_solve(z_edges, x, T, S, mat, T_ref, E, Ee, hs, hold, value, r)
         mech[0], mech[1], mech[2], mech[3] = r[0], r[1], r[2], r[3]
-        tr = light_pass(x, dz, light, q, mf, ab)
+        tr = light_pass(x, T, dz, light, q, mf, ab, fa, fb)
         light_of = st
         record(s + 1, x, T, S, E, Ee, mech, dz, mf, ab, light.beam_emol, q, light.entry, tr, out)
         out.energy[s + 1, 0] = e_in

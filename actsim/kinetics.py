@@ -226,7 +226,7 @@ def arrhenius_shift(*, rate_at_reference, activation_energy, temperature, refere
 
 
 @njit(cache=True)
-def rates(mean_flux, light, photo, T, T_ref, k_f, k_b):
+def rates(mean_flux, flux_a, flux_b, light, photo, T, T_ref, k_f, k_b):
     """Kernel step of :func:`photoreaction_rates` with :func:`arrhenius_shift`: fill k_f, k_b [s-1] in place.
 
     With a reactive fraction :math:`x_{max} < 1` the cell's rates are handed on as those of the
@@ -244,6 +244,9 @@ def rates(mean_flux, light, photo, T, T_ref, k_f, k_b):
     ----------
     mean_flux : numpy.ndarray, shape (n_cell, n_beam)
         Cell-mean photon flux [mol m-2 s-1].
+    flux_a, flux_b : numpy.ndarray, shape (n_cell, n_beam)
+        With ``light.polarised``: the flux each species sees, weighted by its dichroic absorption factor
+        (:func:`actsim.polarised.polarised_light_pass`) [mol m-2 s-1]; not read otherwise.
     light : actsim.optics.LightParams
         Absorptivities.
     photo : actsim.kinetics.PhotoParams
@@ -259,9 +262,14 @@ def rates(mean_flux, light, photo, T, T_ref, k_f, k_b):
     for i in range(n_cell):
         sf = 0.0
         sb = 0.0
-        for b in range(n_beam):
-            sf += photo.phi_f[i, b] * light.eps_a[i, b] * mean_flux[i, b]
-            sb += photo.phi_b[i, b] * light.eps_b[i, b] * mean_flux[i, b]
+        if light.polarised:
+            for b in range(n_beam):
+                sf += photo.phi_f[i, b] * light.eps_a[i, b] * flux_a[i, b]
+                sb += photo.phi_b[i, b] * light.eps_b[i, b] * flux_b[i, b]
+        else:
+            for b in range(n_beam):
+                sf += photo.phi_f[i, b] * light.eps_a[i, b] * mean_flux[i, b]
+                sb += photo.phi_b[i, b] * light.eps_b[i, b] * mean_flux[i, b]
         k_th = photo.k_ref[i]
         if photo.e_act[i] != 0.0 and k_th != 0.0:
             k_th = k_th * math.exp(-photo.e_act[i] / GAS_CONSTANT * (1.0 / T[i] - 1.0 / T_ref))

@@ -43,6 +43,7 @@ import numpy as np
 from numba import njit
 
 from .errors import ActsimInputError
+from .order import lc_strains_nb, order_nb
 from .hyperelastic import STRAIN_LAW_NAMES, STRAIN_LINEAR, STRAIN_PLANE, STRAIN_UNIAXIAL  # noqa: F401 (re-exported)
 from .hyperelastic import hyper_state, hyper_stress_nb, hyperelastic_stress  # noqa: F401 (re-exported)
 from .units import check_range, finite_array, scalar_or_array
@@ -102,6 +103,19 @@ class MaterialParams(NamedTuple):
         (hyperelastic, plane strain across the width: plate).
     extensibility : numpy.ndarray, shape (n_cell,)
         Gent's J_m of a hyperelastic cell [1]; 0: neo-Hookean (J_m -> infinity).
+    lc_kind : numpy.ndarray of int64, shape (n_cell,)
+        Liquid-crystal network of each cell: actsim.order.LC_NONE (isotropic), LC_GLASSY or LC_ELASTOMER.
+    order_law : numpy.ndarray of int64, shape (n_cell,)
+        actsim.order.ORDER_NONE, ORDER_MAIER_SAUPE or ORDER_HALLER.
+    order_par : numpy.ndarray, shape (n_cell, 4)
+        Clearing temperature [K], its drop at full conversion [K], Haller's exponent [1], reference order Q_ref [1].
+    lc_coef : numpy.ndarray, shape (n_cell, 2)
+        Strain per unit order along and across the director (glassy networks) [1].
+    lc_wx, lc_wp : numpy.ndarray, shape (n_cell,)
+        Weights of the order strain along the strip: e_perp lc_wp + (e_par - e_perp) lc_wx
+        (:func:`actsim.liquid_crystal.section_weights`) [1].
+    order_t, order_q : numpy.ndarray, shape (m,)
+        The Maier–Saupe order against the reduced temperature T / T_NI (actsim.order.maier_saupe_table).
     """
 
     mod_kind: np.ndarray
@@ -125,6 +139,14 @@ class MaterialParams(NamedTuple):
     shift_tab_log: np.ndarray
     strain_law: np.ndarray
     extensibility: np.ndarray
+    lc_kind: np.ndarray
+    order_law: np.ndarray
+    order_par: np.ndarray
+    lc_coef: np.ndarray
+    lc_wx: np.ndarray
+    lc_wp: np.ndarray
+    order_t: np.ndarray
+    order_q: np.ndarray
 
 
 def material_params(scenario, grid) -> MaterialParams:
@@ -212,13 +234,19 @@ def material_params(scenario, grid) -> MaterialParams:
         tab_T[j] = np.concatenate([tt, tt[-1] + np.arange(1, pad + 1)])
         tab_logE[j] = np.log(np.concatenate([ee, np.full(pad, ee[-1])]))
     shift_tab_T, shift_tab_log = _padded_tables(shift_tables)
+    from .liquid_crystal import cell_params, section_weights
+
+    lc = cell_params(scenario, grid)
+    lc_wx, lc_wp = section_weights(scenario, grid, lc["weights"])
     return MaterialParams(mod_kind=mod_kind, mod_base=mod_base, mod_ratio=mod_ratio, sec_fac=sec_fac, gl=gl,
                           tab_idx=tab_idx, tab_T=tab_T, tab_logE=tab_logE, network_mod=network_mod,
                           photo_strain=strain, alpha_th=alpha_th, visco_n=visco_n, visco_mod=visco_mod,
                           visco_tau=visco_tau, shift_kind=shift_kind, shift_par=shift_par,
                           shift_tab_idx=shift_tab_idx, shift_tab_T=shift_tab_T, shift_tab_log=shift_tab_log,
                           strain_law=strain_law,
-                          extensibility=extensibility)
+                          extensibility=extensibility, lc_kind=lc["lc_kind"], order_law=lc["order_law"],
+                          order_par=lc["order_par"], lc_coef=lc["lc_coef"], lc_wx=lc_wx, lc_wp=lc_wp,
+                          order_t=lc["order_t"], order_q=lc["order_q"])
 
 
 def _padded_tables(tables):
@@ -537,7 +565,11 @@ def tabulated_modulus(*, temperature, table_T, table_E):
 def material_state(x, T, S, mat, T_ref, E_out, Ee_out):
     """Kernel step of :func:`two_network_state` with :func:`primary_modulus`: E and E e* of each cell in place.
 
-    .. math:: E = E_p + E_n x, \\qquad E e^* = E_p (\\varepsilon_{ph} x + e_{th}) + E_n (x e_{th} + S)
+    .. math:: E = E_p + E_n x, \\qquad E e^* = E_p (\\varepsilon_{ph} x + e_{th} + e_{LC}) + E_n (x e_{th} + S)
+
+    with the order strain along the strip of a liquid-crystal cell
+    :math:`e_{LC} = e_\\perp w_p + (e_\\parallel - e_\\perp) w_x` from the order Q(x, T)
+    (:func:`actsim.order.order_nb`, :func:`actsim.order.lc_strains_nb`; 0 in isotropic cells).
 
     Parameters
     ----------
@@ -564,6 +596,11 @@ def material_state(x, T, S, mat, T_ref, E_out, Ee_out):
         e_n = mat.network_mod[i]
         E_out[i] = e_p + e_n * x[i]
         Ee_out[i] = e_p * (mat.photo_strain[i] * x[i] + e_th) + e_n * (x[i] * e_th + S[i])
+        if mat.lc_kind[i] != 0:
+            q = order_nb(x[i], T[i], mat.order_law[i], mat.order_par[i, 0], mat.order_par[i, 1], mat.order_par[i, 2],
+                         mat.order_t, mat.order_q)
+            e_par, e_perp = lc_strains_nb(q, mat.order_par[i, 3], mat.lc_kind[i], mat.lc_coef[i, 0], mat.lc_coef[i, 1])
+            Ee_out[i] += e_p * (e_perp * mat.lc_wp[i] + (e_par - e_perp) * mat.lc_wx[i])
 
 
 @njit(cache=True)

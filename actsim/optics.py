@@ -59,6 +59,24 @@ class LightParams(NamedTuple):
         [m].
     beam_fraction : numpy.ndarray, shape (n_beam,)
         Fraction of its source's irradiance the beam carries [1].
+    polarised : bool
+        True when a liquid-crystal layer absorbs or is birefringent: :func:`light_pass` then takes the
+        dichroic, polarised pass (:func:`actsim.polarised.polarised_light_pass`) and fills the species-weighted
+        fluxes. The ``pol_*`` fields are the fields of :class:`actsim.polarised.PolarParams`, kept flat.
+    pol_director_angle, pol_director_tilt : numpy.ndarray, shape (n_cell,)
+        Director's angle from the strip axis in the plane and its tilt out of the plane [rad].
+    pol_birefringence, pol_order_reference, pol_refractive_index : numpy.ndarray, shape (n_cell,)
+        n_e - n_o at the order Q_ref, Q_ref, n_o [1].
+    pol_order_factor_a, pol_order_factor_b, pol_ratio_a, pol_ratio_b : numpy.ndarray, shape (n_cell,)
+        Each species' order as a share of Q, and its absorption across over along its transition moment [1].
+    pol_beam : numpy.ndarray of bool, shape (n_beam,)
+        Linearly polarised beams.
+    pol_beam_angle : numpy.ndarray, shape (n_beam,)
+        Angle of their electric field from the strip axis [rad].
+    order_law, order_par, order_t, order_q
+        The order law of every cell, as :class:`actsim.material.MaterialParams` holds it.
+    order_now : numpy.ndarray, shape (n_cell,)
+        Scratch: the order parameter at the state of the latest light pass [1].
     """
 
     c0: np.ndarray
@@ -71,6 +89,23 @@ class LightParams(NamedTuple):
     beam_source: np.ndarray
     beam_wavelength: np.ndarray
     beam_fraction: np.ndarray
+    polarised: bool
+    pol_director_angle: np.ndarray
+    pol_director_tilt: np.ndarray
+    pol_birefringence: np.ndarray
+    pol_order_reference: np.ndarray
+    pol_refractive_index: np.ndarray
+    pol_order_factor_a: np.ndarray
+    pol_order_factor_b: np.ndarray
+    pol_ratio_a: np.ndarray
+    pol_ratio_b: np.ndarray
+    pol_beam: np.ndarray
+    pol_beam_angle: np.ndarray
+    order_law: np.ndarray
+    order_par: np.ndarray
+    order_t: np.ndarray
+    order_q: np.ndarray
+    order_now: np.ndarray
 
 
 def light_params(scenario, grid) -> LightParams:
@@ -135,19 +170,40 @@ def light_params(scenario, grid) -> LightParams:
                 f"{beam_wl[worst] * 1e9:.4g} nm (source '{src}'), above optics.max_cell_optical_depth = {max_tau:g}; "
                 + fix
             )
+    from .liquid_crystal import cell_params, has_polarised_light
+
+    lc = cell_params(scenario, grid)
+    pol_angle = [scenario.sources[s].polarisation for s in beam_source]
     return LightParams(c0=c0, eps_a=eps_a, eps_b=eps_b, alpha_bg=alpha_bg, from_top=from_top, entry=entry,
                        beam_emol=molar_photon_energy(beam_wl) if n_beam else np.zeros(0), beam_source=beam_source,
-                       beam_wavelength=beam_wl, beam_fraction=beam_frac)
+                       beam_wavelength=beam_wl, beam_fraction=beam_frac,
+                       polarised=bool(has_polarised_light(scenario)) and n_beam > 0,
+                       pol_director_angle=lc["phi"], pol_director_tilt=lc["tilt"],
+                       pol_birefringence=lc["birefringence"],
+                       pol_order_reference=np.where(lc["lc_kind"] > 0, lc["order_par"][:, 3], 1.0),
+                       pol_refractive_index=lc["refractive_index"], pol_order_factor_a=lc["order_factor"][:, 0].copy(),
+                       pol_order_factor_b=lc["order_factor"][:, 1].copy(),
+                       pol_ratio_a=lc["absorption_ratio"][:, 0].copy(), pol_ratio_b=lc["absorption_ratio"][:, 1].copy(),
+                       pol_beam=np.array([a is not None for a in pol_angle], dtype=np.bool_),
+                       pol_beam_angle=np.array([0.0 if a is None else a for a in pol_angle], float),
+                       order_law=lc["order_law"], order_par=lc["order_par"], order_t=lc["order_t"],
+                       order_q=lc["order_q"], order_now=np.zeros(n_cell))
 
 
 @njit(cache=True)
-def light_pass(x, dz, light, q_surface, mean_flux, absorbed):
+def light_pass(x, T, dz, light, q_surface, mean_flux, absorbed, flux_a, flux_b):
     """Kernel step of :func:`light_field`: fill ``mean_flux`` and ``absorbed`` (n_cell, n_beam) in place.
+
+    With ``light.polarised`` the pass is the dichroic one of :func:`actsim.polarised.polarised_light_pass`
+    at the order parameter Q(x, T) of every cell (:func:`actsim.order.order_nb`), which also fills the
+    species-weighted fluxes ``flux_a`` and ``flux_b``; otherwise those are not touched.
 
     Parameters
     ----------
     x : numpy.ndarray, shape (n_cell,)
         Conversion [1].
+    T : numpy.ndarray, shape (n_cell,)
+        Temperature [K] (read only with ``light.polarised``).
     dz : numpy.ndarray, shape (n_cell,)
         Cell widths [m].
     light : actsim.optics.LightParams
@@ -156,12 +212,24 @@ def light_pass(x, dz, light, q_surface, mean_flux, absorbed):
         Incident photon flux of each beam before reflection [mol m-2 s-1].
     mean_flux, absorbed : numpy.ndarray, shape (n_cell, n_beam)
         Outputs [mol m-2 s-1].
+    flux_a, flux_b : numpy.ndarray, shape (n_cell, n_beam)
+        Outputs with ``light.polarised``: the flux each species sees [mol m-2 s-1].
 
     Returns
     -------
     float
         Photon flux leaving through the far faces, summed over beams [mol m-2 s-1].
     """
+    if light.polarised:
+        q = light.order_now
+        for i in range(x.size):
+            q[i] = order_nb(x[i], T[i], light.order_law[i], light.order_par[i, 0], light.order_par[i, 1],
+                            light.order_par[i, 2], light.order_t, light.order_q)
+        pol = PolarParams(light.pol_director_angle, light.pol_director_tilt, light.pol_birefringence,
+                          light.pol_order_reference, light.pol_refractive_index, light.pol_order_factor_a,
+                          light.pol_order_factor_b, light.pol_ratio_a, light.pol_ratio_b, light.pol_beam,
+                          light.pol_beam_angle)
+        return polarised_light_pass(x, q, dz, light, pol, q_surface, mean_flux, absorbed, flux_a, flux_b)
     n_cell, n_beam = light.eps_a.shape
     transmitted = 0.0
     for b in range(n_beam):
@@ -307,3 +375,7 @@ def light_field(*, alpha, dz, surface_flux, entry_transmission, from_top):
             alpha=alpha[:, b], dz=dz, flux_in=surface_flux[b] * entry_transmission[b], from_top=bool(from_top[b])
         )
     return mean_flux, absorbed, transmitted
+
+
+from .order import order_nb  # noqa: E402
+from .polarised import PolarParams, polarised_light_pass  # noqa: E402 (polarised imports LN10 from here)

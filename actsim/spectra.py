@@ -144,6 +144,8 @@ class LightSource:
         Fraction of the irradiance in each band [1], summing to 1.
     description : str
         Plain-words description (``"line at 365 nm"``).
+    polarisation : float or None
+        Angle of the electric field of linearly polarised light from the strip axis [rad]; None: unpolarised.
     """
 
     name: str
@@ -152,6 +154,7 @@ class LightSource:
     band_wavelength: np.ndarray
     band_fraction: np.ndarray
     description: str
+    polarisation: float | None = None
 
 
 def line_bands(*, wavelength):

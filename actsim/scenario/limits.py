@@ -155,6 +155,48 @@ LIMITS: dict[str, Limit] = {
                                                          reason="secondary relaxations take tens of kJ/mol, an "
                                                          "Arrhenius fit through Tg up to several MJ/mol (from "
                                                          "memory)"),
+    "materials.NAME.liquid_crystal.clearing_temperature": Limit("temperature", 200.0, 700.0,
+                                                              reason="nematic-isotropic transitions of liquid-crystal "
+                                                              "networks lie from below room temperature to about "
+                                                              "300 degC, where they decompose (from memory)"),
+    "materials.NAME.liquid_crystal.clearing_shift": Limit("temperature_difference", 0.0, 500.0,
+                                                        reason="the drop of T_NI at full conversion; also below the "
+                                                        "clearing temperature less 1 K (" + _NOSRC + ")"),
+    "materials.NAME.liquid_crystal.haller_exponent": Limit(None, 0.05, 1.0,
+                                                         reason="Haller's exponent is about 0.15 to 0.25 for "
+                                                         "nematics (from memory); 1 is a linear fall"),
+    "materials.NAME.liquid_crystal.preparation_temperature": Limit("temperature", 1.0, 700.0,
+                                                                 reason="1 K to 700 K; also below the "
+                                                                 "clearing temperature (the network is made nematic)"),
+    "materials.NAME.liquid_crystal.strain_per_order": Limit(None, -2.0, 2.0,
+                                                          reason="glassy networks give about 0.01 to 0.1 per unit "
+                                                          "of Q (from memory); past 2 the small-strain section is "
+                                                          "meaningless (" + _NOSRC + ")"),
+    "materials.NAME.liquid_crystal.strain_across_per_order": Limit(None, -2.0, 2.0,
+                                                                 reason="as strain_per_order"),
+    "materials.NAME.liquid_crystal.birefringence": Limit(None, 0.0, 0.6,
+                                                       reason="n_e - n_o of nematics is about 0.05 to 0.4 (from "
+                                                       "memory)"),
+    "materials.NAME.liquid_crystal.reactant_order": Limit(None, -0.5, 1.0,
+                                                        reason="an order parameter lies between -1/2 (moments "
+                                                        "across the director) and 1; the species' order is this "
+                                                        "share of Q"),
+    "materials.NAME.liquid_crystal.product_order": Limit(None, -0.5, 1.0, reason="as reactant_order"),
+    "materials.NAME.liquid_crystal.absorption_ratio_reactant": Limit(None, 0.0, 1.0,
+                                                                   reason="absorption across over along the "
+                                                                   "transition moment: 0 (a pure moment) to 1 "
+                                                                   "(isotropic); a moment across the long axis is "
+                                                                   "a negative order"),
+    "materials.NAME.liquid_crystal.absorption_ratio_product": Limit(None, 0.0, 1.0,
+                                                                  reason="as absorption_ratio_reactant"),
+    "layers[].director.angle": Limit("angle", -2 * math.pi, 2 * math.pi,
+                                     reason="one turn either way from the strip axis"),
+    "layers[].director.tilt": Limit("angle", -math.pi / 2, math.pi / 2,
+                                    reason="out of the plane: 0 planar, 90 deg homeotropic"),
+    "layers[].director.table.height": Limit(None, 0.0, 1.0,
+                                            reason="height within the layer, 0 bottom face to 1 top face"),
+    "sources[].polarisation": Limit("angle", -2 * math.pi, 2 * math.pi,
+                                    reason="the electric field's angle from the strip axis, one turn either way"),
     "spectral bands[].centre": Limit("wavelength", 100e-9, 20e-6, reason=_WAVELENGTH),
     "spectral bands[].fwhm": Limit("wavelength", 0.1e-9, 1000e-9, reason=_FWHM),
     "spectral wavelength[]": Limit("wavelength", 100e-9, 20e-6, reason=_WAVELENGTH),

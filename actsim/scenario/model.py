@@ -12,7 +12,7 @@ from dataclasses import dataclass, field, replace
 
 from ..spectra import LightSource, SpectralFunction
 
-__all__ = ["Relaxation", "Material", "Layer", "Strip", "HOLDS", "Step", "HeatSettings", "OpticsSettings", "Scenario",
+__all__ = ["Relaxation", "LiquidCrystal", "Director", "Material", "Layer", "Strip", "HOLDS", "Step", "HeatSettings", "OpticsSettings", "Scenario",
            "LightSource", "SpectralFunction"]
 
 
@@ -37,6 +37,51 @@ class Relaxation:
     activation_energy: float = 0.0  # J/mol
     shift_table_temperatures: tuple = ()  # K, strictly increasing (shift = "table")
     shift_table_log10: tuple = ()  # log10 a_T at those temperatures, 1
+
+
+@dataclass(frozen=True)
+class LiquidCrystal:
+    """Nematic order of a liquid-crystal network and the spontaneous strain it sets, SI (see actsim.order).
+
+    The order parameter Q follows ``order_law`` ("maier-saupe" or "haller") of the reduced temperature
+    T / T_NI(x), with T_NI(x) = ``clearing_temperature`` - ``clearing_shift`` x lowered by the converted (cis)
+    fraction x. The strain along / across the director is ``strain_per_order`` (Q - Q_ref) and
+    ``strain_across_per_order`` (Q - Q_ref) for a glassy network, or the Warner–Terentjev step-length result for an
+    elastomer, relative to the order Q_ref at ``preparation_temperature`` and x = 0. The absorbing species follow
+    the order by ``reactant_order`` and ``product_order`` (fractions of Q); their transition moments absorb
+    ``absorption_ratio_*`` as much across as along. ``birefringence`` is n_e - n_o at Q_ref (scaled with Q).
+    """
+
+    network: str = "glassy"  # "glassy" or "elastomer"
+    order_law: str = "maier-saupe"  # or "haller"
+    clearing_temperature: float = 368.15  # K, T_NI of the unconverted network
+    clearing_shift: float = 0.0  # K, drop of T_NI at full conversion
+    haller_exponent: float = 0.2  # 1
+    preparation_temperature: float = 293.15  # K
+    strain_per_order: float = 0.0  # 1, along the director per unit Q (glassy)
+    strain_across_per_order: float = 0.0  # 1, across the director per unit Q (glassy)
+    birefringence: float = 0.0  # 1, at the preparation order
+    reactant_order: float = 1.0  # 1
+    product_order: float = 0.0  # 1
+    absorption_ratio_reactant: float = 0.0  # 1
+    absorption_ratio_product: float = 0.0  # 1
+
+
+@dataclass(frozen=True)
+class Director:
+    """Director profile of a layer through its thickness (angles in rad; see actsim.order.director_profile).
+
+    ``kind`` is "planar" (in-plane at ``angle`` from the strip axis), "homeotropic", "splay" (tilt from
+    ``tilt_bottom`` to ``tilt_top``), "twisted" (in-plane angle from ``angle`` to ``angle_top``), "hybrid" (both)
+    or "table" (``table``: rows of normalised height, in-plane angle, tilt).
+    """
+
+    kind: str = "planar"
+    angle: float = 0.0
+    angle_top: float = 0.0
+    tilt_bottom: float = 0.0
+    tilt_top: float = 0.0
+    table: tuple = ()
 
 
 @dataclass(frozen=True, eq=False)
@@ -82,6 +127,8 @@ class Material:
     # Gent's finite extensibility J_m [1] (0 unless "gent")
     strain_law: str = "linear"
     extensibility: float = 0.0
+    # nematic order and its spontaneous strain (None: an isotropic material)
+    liquid_crystal: LiquidCrystal | None = None
 
     @property
     def is_active(self) -> bool:
@@ -101,6 +148,7 @@ class Layer:
     thickness: float  # m
     cells: int
     initial_conversion: float = 0.0
+    director: Director | None = None  # liquid-crystal layers only (None: planar along the strip)
 
 
 @dataclass(frozen=True)

@@ -25,6 +25,7 @@ from ..inputfiles import read_text_file, resolve_data_path
 from ..schema import Table
 from ..spectra import LightSource, SpectralFunction, gaussian_bands, line_bands, read_table_csv, tabulated_bands
 from ..units import SI_UNITS, check_range, parse_dimensionless, parse_quantity
+from .liquid_crystal import parse_director, parse_liquid_crystal, parse_polarisation
 from .limits import SIZE_LIMITS, check_count, check_time_counts, limit, nesting_depth
 from .model import HOLDS, HeatSettings, Layer, Material, OpticsSettings, Relaxation, Scenario, Step, Strip
 
@@ -304,6 +305,8 @@ def _parse_material(name: str, data, base_dir: Path) -> Material:
         strain_law=strain_law,
         extensibility=extensibility,
     )
+    kw["liquid_crystal"] = parse_liquid_crystal(t, name, has_chromophore=conc > 0, strain_law=strain_law,
+                                                relaxation=relaxation, network_modulus=kw["network_modulus"])
     if kw["network_modulus"] > 0 and conc <= 0:
         raise ActsimInputError(
             f"materials.{name}.network_modulus: a light-formed network needs a chromophore (chromophore_concentration > 0)"
@@ -337,6 +340,7 @@ def _parse_source(i: int, data, optics: OpticsSettings, base_dir: Path) -> Light
     name = t.string("name")
     kind = t.string("kind", default="line", choices=("line", "gaussian", "table"))
     face = t.string("face", default="top", choices=("top", "bottom"))
+    polarisation = parse_polarisation(t)
     irradiance = t.quantity("irradiance", "irradiance", **limit("sources[].irradiance"))
     if kind == "line":
         lam = t.quantity("wavelength", "wavelength", **limit("sources[].wavelength"))
@@ -359,7 +363,10 @@ def _parse_source(i: int, data, optics: OpticsSettings, base_dir: Path) -> Light
         wl, frac = tabulated_bands(wavelength=lam_tab, spectral_irradiance=val, n_bands=n_bands, field_name=f"sources[{i}].file")
         desc = f"tabulated spectrum '{fname}' ({lam_tab[0] * 1e9:.4g}-{lam_tab[-1] * 1e9:.4g} nm)"
     t.finish()
-    return LightSource(name=name, face=face, irradiance=irradiance, band_wavelength=wl, band_fraction=frac, description=desc)
+    if polarisation is not None:
+        desc += f", polarised at {math.degrees(polarisation):.4g} deg to the strip axis"
+    return LightSource(name=name, face=face, irradiance=irradiance, band_wavelength=wl, band_fraction=frac,
+                       description=desc, polarisation=polarisation)
 
 
 def _parse_step(i: int, data, sources, heat: "HeatSettings", previous: "Step | None", thickness: float) -> Step:
@@ -516,6 +523,7 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
             thickness=lt.quantity("thickness", "length", **limit("layers[].thickness")),
             cells=lt.integer("cells", default=20, lo=1, hi=limit("layers[].cells")["hi"]),
             initial_conversion=lt.number("initial_conversion", default=0.0, **limit("layers[].initial_conversion")),
+            director=parse_director(lt, i, liquid_crystal=materials[mname].liquid_crystal is not None),
         )
         if layer.initial_conversion > 0 and not layer.material.is_active:
             raise ActsimInputError(

@@ -1,0 +1,153 @@
+"""Liquid-crystal layers of a stack: their per-cell parameters and what a run reports of them.
+
+The physics lives in its stage modules: the order parameter and the spontaneous strain in
+:mod:`actsim.order`, the dichroic absorption of polarised light in :mod:`actsim.polarised`, the plate
+section (curvatures and twist) and the free ribbon's shape in :mod:`actsim.laminate`. This module
+builds the per-cell arrays those stages take from a scenario (:func:`cell_params`) and, after a run,
+the plate response and the ribbon's shape from the recorded conversion and temperature
+(:func:`plate_outputs`).
+
+The strip's beam response (``curvature``, ``bend_angle``, blocked force, the checks) takes the order
+strain along the strip: :math:`e^*_{xx}` for a narrow strip (plane stress), :math:`e^*_{xx} + \\nu e^*_{yy}`
+for a wide one (plane strain across the width). The plate response takes the whole in-plane tensor
+:math:`(e^*_{xx}, e^*_{yy}, \\gamma^*_{xy})` of every cell in the laminate section; the two agree on
+:math:`\\kappa_x` when the layers share one Poisson ratio and nothing twists.
+
+References
+----------
+.. [1] Warner, M. and Terentjev, E. M. Liquid Crystal Elastomers, Oxford University Press 2003.
+.. [2] Jones, R. M. Mechanics of Composite Materials, 2nd ed., Taylor & Francis 1999, ch. 4.
+.. [3] Armon, S., Efrati, E., Kupferman, R. and Sharon, E. "Geometry and mechanics in the opening of
+   chiral seed pods." Science 333 (2011) 1726–1730.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from . import order as order_stage
+
+#: Ribbon shapes are computed at no more output times than this (evenly spread, with every step end).
+MAX_RIBBON_TIMES = 400
+
+
+def has_liquid_crystal(scenario) -> bool:
+    """Whether any layer of the stack is a liquid-crystal network."""
+    return any(layer.material.liquid_crystal is not None for layer in scenario.layers)
+
+
+def has_polarised_light(scenario) -> bool:
+    """Whether the polarised, dichroic light pass is needed: a liquid-crystal layer that absorbs, or birefringence."""
+    return any(layer.material.liquid_crystal is not None and layer.material.is_active for layer in scenario.layers) \
+        or any(layer.material.liquid_crystal is not None and layer.material.liquid_crystal.birefringence > 0
+               for layer in scenario.layers)
+
+
+def cell_params(scenario, grid) -> dict:
+    """Per-cell arrays of the liquid-crystal model (zeros and "none" codes in isotropic cells).
+
+    Returns
+    -------
+    dict
+        ``lc_kind`` (int64: order.LC_NONE, LC_GLASSY, LC_ELASTOMER), ``order_law`` (int64), ``order_par``
+        (n_cell, 4): clearing temperature [K], its shift at full conversion [K], Haller's exponent [1], the
+        reference order Q_ref [1]; ``lc_coef`` (n_cell, 2): strain per unit order along and across the director
+        [1]; ``phi``, ``tilt`` (n_cell,) director angles [rad]; ``weights`` (n_cell, 3) = (wxx, wyy, wxy) of
+        :func:`actsim.order.director_weights`; ``order_factor`` and ``absorption_ratio`` (n_cell, 2) for reactant
+        and product; ``birefringence``, ``refractive_index`` (n_cell,); ``order_t``, ``order_q``: the
+        Maier–Saupe table (reduced temperature, Q).
+    """
+    n = grid.dz.size
+    out = dict(lc_kind=np.zeros(n, np.int64), order_law=np.zeros(n, np.int64), order_par=np.zeros((n, 4)),
+               lc_coef=np.zeros((n, 2)), phi=np.zeros(n), tilt=np.zeros(n), weights=np.zeros((n, 3)),
+               order_factor=np.zeros((n, 2)), absorption_ratio=np.zeros((n, 2)), birefringence=np.zeros(n),
+               refractive_index=np.ones(n))
+    out["order_par"][:, 0] = 1.0  # harmless T_NI in isotropic cells (never used: law none)
+    any_ms = False
+    for li, layer in enumerate(scenario.layers):
+        sel = grid.layer_index == li
+        m = layer.material
+        out["refractive_index"][sel] = m.refractive_index
+        lc = m.liquid_crystal
+        if lc is None:
+            continue
+        law = order_stage.ORDER_LAW_NAMES.index(lc.order_law)
+        any_ms |= law == order_stage.ORDER_MAIER_SAUPE
+        q_ref = float(order_stage.nematic_order(0.0, lc.preparation_temperature, law=lc.order_law,
+                                                clearing_temperature=lc.clearing_temperature,
+                                                clearing_shift=lc.clearing_shift, exponent=lc.haller_exponent))
+        out["lc_kind"][sel] = order_stage.LC_KIND_NAMES.index(lc.network)
+        out["order_law"][sel] = law
+        out["order_par"][sel] = (lc.clearing_temperature, lc.clearing_shift, lc.haller_exponent, q_ref)
+        out["lc_coef"][sel] = (lc.strain_per_order, lc.strain_across_per_order)
+        d = layer.director
+        zeta = (np.arange(layer.cells) + 0.5) / layer.cells
+        if d is None:
+            phi, tilt = np.zeros(layer.cells), np.zeros(layer.cells)
+        else:
+            table = np.asarray(d.table, float) if d.table else None
+            phi, tilt = order_stage.director_profile(d.kind, zeta, angle=d.angle, angle_top=d.angle_top,
+                                                     tilt_bottom=d.tilt_bottom, tilt_top=d.tilt_top, table=table)
+        out["phi"][sel], out["tilt"][sel] = phi, tilt
+        out["weights"][sel] = np.column_stack(order_stage.director_weights(phi, tilt))
+        out["order_factor"][sel] = (lc.reactant_order, lc.product_order)
+        out["absorption_ratio"][sel] = (lc.absorption_ratio_reactant, lc.absorption_ratio_product)
+        out["birefringence"][sel] = lc.birefringence
+    if any_ms:
+        out["order_t"], out["order_q"] = (np.ascontiguousarray(a, float) for a in order_stage.maier_saupe_table())
+    else:
+        out["order_t"], out["order_q"] = np.array([0.0, 1.0]), np.array([1.0, 0.0])
+    return out
+
+
+def section_weights(scenario, grid, weights) -> tuple:
+    """Weights of the order strain along the strip in the beam section, per cell.
+
+    The strain along the strip is :math:`e_\\perp w_p + (e_\\parallel - e_\\perp) w_x` with
+    :math:`(w_x, w_p) = (w_{xx}, 1)` in plane stress and :math:`(w_{xx} + \\nu w_{yy}, 1 + \\nu)` in plane strain
+    across the width (:math:`\\varepsilon_{yy} = 0`, so :math:`\\sigma_{xx} = E/(1-\\nu^2)\\,(\\varepsilon_{xx}
+    - e^*_{xx} - \\nu e^*_{yy})`; Timoshenko and Woinowsky-Krieger 1959, sec. 14).
+    """
+    w_x = weights[:, 0].copy()
+    w_p = np.ones(grid.dz.size)
+    if scenario.strip.section == "plate":
+        nu = np.array([layer.material.poisson_ratio for layer in scenario.layers])[grid.layer_index]
+        w_x += nu * weights[:, 1]
+        w_p += nu
+    return w_x, w_p
+
+
+def order_field(conversion, temperature, params) -> np.ndarray:
+    """Order parameter Q of every cell at every output time (0 in isotropic cells) [1]."""
+    q = np.zeros(np.broadcast_shapes(np.shape(conversion), np.shape(temperature)))
+    x = np.broadcast_to(conversion, q.shape)
+    T = np.broadcast_to(temperature, q.shape)
+    for law in np.unique(params["order_law"]):
+        if law == order_stage.ORDER_NONE:
+            continue
+        cols = np.flatnonzero(params["order_law"] == law)
+        par = params["order_par"][cols]
+        q[:, cols] = order_stage.nematic_order(
+            x[:, cols], T[:, cols], law=order_stage.ORDER_LAW_NAMES[law], clearing_temperature=par[:, 0],
+            clearing_shift=par[:, 1], exponent=par[:, 2])
+    return q
+
+
+def order_strains(q, params) -> tuple:
+    """Spontaneous strains along and across the director, (time, cell) each [1] (0 in isotropic cells)."""
+    e_par = np.zeros(q.shape)
+    e_perp = np.zeros(q.shape)
+    q_ref = params["order_par"][:, 3]
+    for kind in (order_stage.LC_GLASSY, order_stage.LC_ELASTOMER):
+        cols = np.flatnonzero(params["lc_kind"] == kind)
+        if not cols.size:
+            continue
+        if kind == order_stage.LC_GLASSY:
+            a, b = order_stage.glassy_strains(q[:, cols], reference_order=q_ref[cols], c_par=params["lc_coef"][cols, 0],
+                                              c_perp=params["lc_coef"][cols, 1])
+        else:
+            a, b = order_stage.elastomer_strains(q[:, cols], reference_order=q_ref[cols])
+        e_par[:, cols], e_perp[:, cols] = a, b
+    return e_par, e_perp
