@@ -1,24 +1,15 @@
 """Liquid-crystal order: nematic order parameter, spontaneous strain, director profiles.
 
-A liquid-crystalline network bends under light because the bent (cis) product isomer dilutes the
-nematic interaction: the clearing temperature falls with conversion, the order parameter Q falls
-with it, and the network changes length along and across the director. This module holds the pure
-functions of that chain, from conversion and temperature to the in-plane eigenstrain of a cell:
-
-* :func:`transition_temperature`: T_NI(x) = T_NI0 - shift x;
-* order laws Q(x, T): Maier–Saupe mean field (:func:`maier_saupe_order`, the cached interpolation
-  table :func:`maier_saupe_table`) and Haller's empirical law; :func:`nematic_order` (numpy) and the
-  kernel step :func:`order_nb`;
-* spontaneous strains along and across the director relative to the preparation state:
-  :func:`glassy_strains` (linear in Q - Q_ref), :func:`elastomer_strains` (step-length tensor);
-  kernel step :func:`lc_strains_nb`;
-* director profiles through a layer (:func:`director_profile`) and the in-plane eigenstrain of a
-  cell (:func:`director_weights`, :func:`inplane_eigenstrain`, kernel step
-  :func:`inplane_eigenstrain_nb`).
-
-SI inside, angles in radians. The director is
-n = (cos(tilt) cos(phi), cos(tilt) sin(phi), sin(tilt)): phi the in-plane angle from the strip axis
-x, tilt the angle out of the plane (0 planar, pi/2 homeotropic).
+The bent (cis) product isomer dilutes the nematic interaction: the clearing temperature falls with
+conversion, the order parameter Q with it, and the network changes length along and across the
+director. Pure functions of that chain, from conversion and temperature to the in-plane eigenstrain
+of a cell: :func:`transition_temperature`; the order laws (:func:`maier_saupe_order` with its cached
+table :func:`maier_saupe_table`, Haller's law) in :func:`nematic_order` and the kernel step
+:func:`order_nb`; the spontaneous strains (:func:`glassy_strains`, :func:`elastomer_strains`, kernel
+step :func:`lc_strains_nb`); director profiles (:func:`director_profile`) and the in-plane eigenstrain
+(:func:`director_weights`, :func:`inplane_eigenstrain`, kernel step :func:`inplane_eigenstrain_nb`).
+SI inside, angles in rad; the director is n = (cos(tilt) cos(phi), cos(tilt) sin(phi), sin(tilt)), phi
+the in-plane angle from the strip axis x, tilt out of the plane (0 planar, pi/2 homeotropic).
 
 References
 ----------
@@ -66,18 +57,14 @@ CLEARING_FLOOR = 1.0e-3
 MS_TABLE_POINTS = 2049
 
 
-# --------------------------------------------------------------------------- clearing temperature
-
-
 def transition_temperature(conversion, *, clearing_temperature, clearing_shift):
     r"""Nematic–isotropic transition (clearing) temperature lowered by the product fraction.
 
     .. math:: T_{NI}(x) = \max\left(T_{NI,0} - \Delta T\, x,\; T_\mathrm{floor}\right)
 
-    A linear dilution of the nematic interaction by the bent isomers. The result is clamped to the
-    small positive floor ``CLEARING_FLOOR`` (1e-3 K), so that T / T_NI stays finite: a material
-    whose clearing temperature is pushed to the floor is isotropic (Q = 0) at any temperature. The
-    scenario layer bounds the shift below T_NI0, so the floor is a guard, not a model.
+    A linear dilution of the nematic interaction by the bent isomers, clamped to the floor
+    ``CLEARING_FLOOR`` (1e-3 K) so that T / T_NI stays finite (a material at the floor is isotropic at
+    any temperature). The scenario layer bounds the shift below T_NI0: the floor is a guard, not a model.
 
     Parameters
     ----------
@@ -114,9 +101,6 @@ def _checked_array(value, field, unit, lo, hi, lo_open=False, hi_open=False):
         check_range(float(arr[bad].flat[0]), field=field, unit=unit, lo=lo, hi=hi, lo_open=lo_open, hi_open=hi_open)
         raise ActsimInputError(f"{field}: {arr[bad].flat[0]} is not a finite number in [{lo:g}, {hi:g}] {unit}")
     return arr
-
-
-# --------------------------------------------------------------------------- Maier–Saupe
 
 
 def _ms_mean_p2(a):
@@ -268,9 +252,6 @@ def maier_saupe_table():
     return t, q
 
 
-# --------------------------------------------------------------------------- order laws
-
-
 def nematic_order(conversion, temperature, *, law, clearing_temperature, clearing_shift, exponent=0.2):
     r"""Nematic order parameter Q(x, T) by the chosen law.
 
@@ -330,16 +311,12 @@ def order_nb(x, T, law_code, T_ni0, shift, exponent, table_t, table_q):
 
     Parameters
     ----------
-    x : float
-        Conversion [1].
-    T : float
-        Temperature [K].
+    x, T : float
+        Conversion [1], temperature [K].
     law_code : int
         ORDER_NONE, ORDER_MAIER_SAUPE or ORDER_HALLER.
-    T_ni0 : float
-        Clearing temperature at x = 0 [K].
-    shift : float
-        Drop of T_NI from x = 0 to 1 [K].
+    T_ni0, shift : float
+        Clearing temperature at x = 0 and its drop from x = 0 to 1 [K].
     exponent : float
         Haller's beta [1].
     table_t, table_q : numpy.ndarray
@@ -363,9 +340,6 @@ def order_nb(x, T, law_code, T_ni0, shift, exponent, table_t, table_q):
     j = np.searchsorted(table_t, t, side="right") - 1
     slope = (table_q[j + 1] - table_q[j]) / (table_t[j + 1] - table_t[j])
     return slope * (t - table_t[j]) + table_q[j]
-
-
-# --------------------------------------------------------------------------- spontaneous strains
 
 
 def glassy_strains(order, *, reference_order, c_par, c_perp=None):
@@ -463,9 +437,6 @@ def lc_strains_nb(Q, Q_ref, kind, c_par, c_perp):
     return 0.0, 0.0
 
 
-# --------------------------------------------------------------------------- director and eigenstrain
-
-
 def _angle(value, field, lo, hi):
     """A finite angle in [lo, hi] rad, or the one-line error."""
     if not isinstance(value, (int, float, np.floating, np.integer)) or not math.isfinite(value):
@@ -491,7 +462,6 @@ def director_profile(kind, zeta, *, angle=0.0, angle_top=None, tilt_bottom=None,
        \theta(\zeta) = \theta_b + (\theta_t - \theta_b)\,\zeta
 
     Fields a kind does not use are ignored.
-
     Parameters
     ----------
     kind : str
@@ -555,10 +525,8 @@ def director_weights(phi, tilt):
 
     Parameters
     ----------
-    phi : float or array_like
-        In-plane angle of the director from the strip axis [rad].
-    tilt : float or array_like
-        Tilt of the director out of the plane [rad].
+    phi, tilt : float or array_like
+        In-plane angle of the director from the strip axis, tilt out of the plane [rad].
 
     Returns
     -------
@@ -580,14 +548,10 @@ def inplane_eigenstrain(*, e_par, e_perp, phi, tilt):
 
     Parameters
     ----------
-    e_par : float or array_like
-        Strain along the director [1].
-    e_perp : float or array_like
-        Strain across the director [1].
-    phi : float or array_like
-        In-plane angle of the director [rad].
-    tilt : float or array_like
-        Tilt of the director [rad].
+    e_par, e_perp : float or array_like
+        Strains along and across the director [1].
+    phi, tilt : float or array_like
+        In-plane angle and tilt of the director [rad].
 
     Returns
     -------
