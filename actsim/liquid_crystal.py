@@ -87,7 +87,7 @@ def cell_params(scenario, grid) -> dict:
         if d is None:
             phi, tilt = np.zeros(layer.cells), np.zeros(layer.cells)
         else:
-            table = np.asarray(d.table, float) if d.table else None
+            table = tuple(np.asarray(d.table, float).T) if d.table else None
             phi, tilt = order_stage.director_profile(d.kind, zeta, angle=d.angle, angle_top=d.angle_top,
                                                      tilt_bottom=d.tilt_bottom, tilt_top=d.tilt_top, table=table)
         out["phi"][sel], out["tilt"][sel] = phi, tilt

@@ -30,6 +30,7 @@ MODULES = (
     "actsim.material",
     "actsim.viscoelastic",
     "actsim.hyperelastic",
+    "actsim.order",
     "actsim.grid",
     "actsim.schedule",
     "actsim.reference",
