@@ -447,7 +447,8 @@ class PolarisationState(NamedTuple):
     rotation : float
         Azimuth minus the input polarisation angle, wrapped into [-pi/2, pi/2) [rad] (x for unpolarised input).
     ellipticity : float
-        Ellipticity angle chi, sin 2 chi = S3/S_pol, in the lab x, y axes [rad] (0: linear).
+        Ellipticity angle chi, sin 2 chi = S3/S_pol [rad] (0: linear); chi > 0: the field turns from +y to +x
+        (clockwise seen from above the film), whichever way the light travels.
     degree_of_polarisation : float
         Polarised part of the exit flux [1].
     """
@@ -470,7 +471,9 @@ def transmitted_polarisation(*, conversion, order, dz, light, pol, beam):
     From the Stokes parameters of the exit field, summed over its incoherent parts:
 
     .. math:: \\psi = \\tfrac12 \\operatorname{atan2}(S_2, S_1), \\qquad
-       \\sin 2\\chi = S_3 / \\sqrt{S_1^2 + S_2^2 + S_3^2}
+       \\sin 2\\chi = S_3 / \\sqrt{S_1^2 + S_2^2 + S_3^2}, \\qquad S_3 = 2\\,\\mathrm{Im}(E_x E_y^*)
+
+    with fields :math:`\\propto e^{i(k n z - \\omega t)}` as in :func:`polarised_light_field`.
 
     Parameters
     ----------
@@ -506,7 +509,7 @@ def transmitted_polarisation(*, conversion, order, dz, light, pol, beam):
     ix, iy = float(np.sum(abs(E[:, 0]) ** 2)), float(np.sum(abs(E[:, 1]) ** 2))
     s1 = ix - iy
     s2 = float(np.sum(2.0 * (E[:, 0] * np.conj(E[:, 1])).real))
-    s3 = float(np.sum(-2.0 * (E[:, 0] * np.conj(E[:, 1])).imag))
+    s3 = float(np.sum(2.0 * (E[:, 0] * np.conj(E[:, 1])).imag))
     s_pol = math.sqrt(s1 * s1 + s2 * s2 + s3 * s3)
     azimuth = _wrap_half_turn(0.5 * math.atan2(s2, s1))
     start = pol.polarisation_angle[beam] if pol.polarised[beam] else 0.0

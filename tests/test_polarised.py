@@ -190,6 +190,20 @@ def test_mauguin_limit_turns_polarisation_by_twist():
     assert abs(math.degrees(transmitted_polarisation(**_twisted(400, u=0.01)).rotation)) < 0.1
 
 
+def test_quarter_wave_plate_ellipticity():
+    # A quarter-wave plate (dn d = lambda/4) with its slow axis (the director, dn > 0) along x and light polarised
+    # at +45 degrees gives circular light whose x component lags by a quarter period, so the field turns from +y to
+    # +x (Hecht, Optics, 4th ed. 2002, sec. 8.7 - "from memory"): chi = +45 degrees; at -45 degrees input, chi = -45.
+    n, lam, dn = 10, 500e-9, 0.05
+    dz = np.full(n, lam / (4 * dn) / n)
+    for psi, sign in ((math.pi / 4, 1), (-math.pi / 4, -1)):
+        pol = polar_params(n_cell=n, n_beam=1, birefringence=dn, polarised=True, polarisation_angle=psi)
+        state = transmitted_polarisation(conversion=np.zeros(n), order=np.ones(n), dz=dz,
+                                         light=_light(n, 1, wavelength=lam), pol=pol, beam=0)
+        assert math.degrees(state.ellipticity) == pytest.approx(sign * 45.0, abs=1e-9)
+        assert state.transmittance_x == pytest.approx(0.5, rel=1e-12)
+
+
 @settings(max_examples=40, deadline=None)
 @given(seed=st.integers(0, 2 ** 32 - 1), n=st.integers(1, 120), nb=st.integers(1, 4))
 def test_photon_balance_random_films(seed, n, nb):
