@@ -1,45 +1,30 @@
 """Polarised light through an ordered, possibly twisted film: dichroic absorption and birefringence.
 
-A species whose molecules absorb through a transition moment :math:`\\mathbf m` has the absorptivity
-tensor :math:`\\varepsilon_\\perp I + (\\varepsilon_\\parallel - \\varepsilon_\\perp)\\mathbf m \\mathbf m` with
-molecular ratio :math:`r = \\varepsilon_\\perp/\\varepsilon_\\parallel`. Averaged over a uniaxial distribution
-of order :math:`S_s` about the director :math:`\\mathbf n`,
-:math:`\\langle \\mathbf m\\mathbf m\\rangle = \\tfrac{1 - S_s}{3} I + S_s \\mathbf n\\mathbf n`, so light
-polarised along the unit vector :math:`\\mathbf e` sees :math:`\\varepsilon(\\mathbf e) = \\varepsilon_{iso}\\, g`:
+A species' absorptivity for light polarised along :math:`\\mathbf e`, averaged over transition moments of
+order :math:`S_s = f_s Q` about the director :math:`\\mathbf n` (molecular ratio :math:`r = \\varepsilon_\\perp/
+\\varepsilon_\\parallel`), is :math:`\\varepsilon_{iso}\\, g` with
 
 .. math:: g = \\frac{3}{1 + 2r}\\Big[r + (1 - r)\\Big(\\frac{1 - S_s}{3} + S_s\\cos^2\\beta\\Big)\\Big]
    = 1 + \\frac{1 - r}{1 + 2r}\\, S_s\\, (3\\cos^2\\beta - 1), \\qquad \\cos\\beta = \\mathbf e\\cdot\\mathbf n
 
-(the second form is exactly 1 in floating point when :math:`S_s = 0`). The species order is
-:math:`S_s = f_s Q` with the cell's nematic order :math:`Q` and a per-species factor :math:`f_s`.
+(the second form is exactly 1 when :math:`S_s = 0`). At normal incidence each cell has an e-wave along the
+director's in-plane projection (:math:`\\cos^2\\beta = \\cos^2 t`, index :math:`n_e(t)`) and an o-wave across it
+(:math:`\\cos^2\\beta = 0`, :math:`n_o`), each with its own Beer–Lambert coefficient; the cell's Jones matrix in
+the lab axes is [1]_ [2]_
 
-At normal incidence a cell with director :math:`\\mathbf n = (\\cos t\\cos p, \\cos t\\sin p, \\sin t)` has two
-eigen-polarisations: the e-wave along :math:`(\\cos p, \\sin p)` (:math:`\\cos^2\\beta = \\cos^2 t`, index
-:math:`n_e(t)`, :math:`1/n_e^2 = \\sin^2 t/n_o^2 + \\cos^2 t/(n_o + \\Delta n)^2`) and the o-wave perpendicular
-to it in the plane (:math:`\\cos^2\\beta = 0`, index :math:`n_o`). Each channel has its own Beer–Lambert
-coefficient :math:`\\alpha_{ch} = \\ln 10\\, c_0[\\varepsilon_A g_{A,ch}(1 - x) + \\varepsilon_B g_{B,ch} x] + \\alpha_{bg}`
-and the Jones matrix of a cell in the fixed lab axes is [1]_ [2]_
+.. math:: M = R(-p)\\,\\mathrm{diag}\\big(e^{-\\tau_e/2 + i k n_e \\Delta z},\\ e^{-\\tau_o/2 + i k n_o \\Delta z}\\big)\\,R(p)
 
-.. math:: M = R(-p)\\,\\mathrm{diag}\\big(e^{-\\tau_e/2 + i k n_e \\Delta z},\\ e^{-\\tau_o/2 + i k n_o \\Delta z}\\big)\\,R(p),
-   \\qquad k = 2\\pi/\\lambda .
-
-A cell absorbs exactly :math:`I_e(1 - e^{-\\tau_e}) + I_o(1 - e^{-\\tau_o})` with :math:`I_{ch}` the channel
-intensities at its entry (orthogonal channels, so photons are conserved to round-off); the channel mean
-flux is :math:`I_{ch}(1 - e^{-\\tau_{ch}})/\\tau_{ch}`, as in :func:`actsim.optics.light_pass`. The
-species-weighted fluxes :math:`\\sum_{ch} g_{s,ch}\\bar q_{ch}` feed :func:`actsim.kinetics.rates`.
-
-The kernel propagates the coherency matrix :math:`J = \\langle \\mathbf E\\mathbf E^\\dagger\\rangle`
-(:math:`J \\to M J M^\\dagger`), which covers polarised and unpolarised beams in one pass; the readable
-:func:`polarised_light_field` propagates Jones vectors, an unpolarised beam as two incoherent halves
-polarised along x and y. The two agree to round-off (tests/test_polarised.py).
+and it absorbs exactly :math:`\\sum_{ch} I_{ch}(1 - e^{-\\tau_{ch}})`, :math:`I_{ch}` the channel intensities at its
+entry. The kernel propagates the coherency matrix :math:`J \\to M J M^\\dagger` (polarised and unpolarised beams
+in one pass); the readable :func:`polarised_light_field` propagates Jones vectors. Equations, limits and
+measured accuracy: docs/models.md, "Polarised light and dichroic absorption".
 
 References
 ----------
 .. [1] Jones, R. C. "A new calculus for the treatment of optical systems." J. Opt. Soc. Am. 31 (1941) 488.
 .. [2] Yariv, A. and Yeh, P. Optical Waves in Crystals. Wiley 1984, ch. 5 (Jones calculus, twisted media).
 .. [3] Michl, J. and Thulstrup, E. W. Spectroscopy with Polarized Light. VCH 1986 (dichroic ratio and order).
-.. [4] Gooch, C. H. and Tarry, H. A. "The optical properties of twisted nematic liquid crystal structures
-   with twist angles <= 90 degrees." J. Phys. D 8 (1975) 1575.
+.. [4] Gooch, C. H. and Tarry, H. A. J. Phys. D 8 (1975) 1575 (transmission of twisted nematic layers).
 """
 
 from __future__ import annotations
