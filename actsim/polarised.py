@@ -153,7 +153,7 @@ def polar_params(*, n_cell, n_beam, director_angle=0.0, director_tilt=0.0, biref
     return PolarParams(polarised=pol, polarisation_angle=angle, **c)
 
 
-def absorption_factor(order, cos2_angle, ratio):
+def absorption_factor(*, order, cos2_angle, ratio):
     """Ratio g of the absorptivity for light polarised at angle b to the director to the isotropic one.
 
     .. math:: g = 1 + \\frac{1 - r}{1 + 2r}\\, S\\,(3\\cos^2 b - 1)

@@ -67,11 +67,12 @@ def test_absorption_factor_against_orientational_average():
         em = np.sin(b) * st_[:, None] * np.cos(phi)[None, :] + np.cos(b) * ct[:, None]
         mean_em2 = float(np.sum(f[:, None] * em ** 2) / phi.size)
         expected = (r + (1 - r) * mean_em2) / ((1 + 2 * r) / 3)
-        assert absorption_factor(S, math.cos(b) ** 2, r) == pytest.approx(expected, rel=1e-12)
+        assert absorption_factor(order=S, cos2_angle=math.cos(b) ** 2, ratio=r) == pytest.approx(expected, rel=1e-12)
         assert absorption_factor_nb(S, math.cos(b) ** 2, r) == pytest.approx(expected, rel=1e-12)
     # isotropic limit exactly 1, and the mean over three orthogonal directions is 1 (trace of <m m>)
-    assert absorption_factor(0.0, 0.37, 0.25) == 1.0
-    assert (absorption_factor(0.6, 1.0, 0.1) + 2 * absorption_factor(0.6, 0.0, 0.1)) / 3 == pytest.approx(1.0, rel=1e-15)
+    assert absorption_factor(order=0.0, cos2_angle=0.37, ratio=0.25) == 1.0
+    g_par, g_perp = (absorption_factor(order=0.6, cos2_angle=c2, ratio=0.1) for c2 in (1.0, 0.0))
+    assert (g_par + 2 * g_perp) / 3 == pytest.approx(1.0, rel=1e-15)
 
 
 @pytest.mark.parametrize("polarised,angle", [(False, 0.0), (True, 0.0), (True, 1.1), (True, -2.7)])
