@@ -31,6 +31,7 @@ MODULES = (
     "actsim.viscoelastic",
     "actsim.hyperelastic",
     "actsim.order",
+    "actsim.polarised",
     "actsim.grid",
     "actsim.schedule",
     "actsim.reference",
