@@ -24,9 +24,10 @@ References
 ----------
 .. [1] Jones, R. M. *Mechanics of Composite Materials*, 2nd ed. Taylor & Francis, 1999, ch. 2 and 4.
 .. [2] Sawa, Y., Ye, F., Urayama, K., Takigawa, T., Gimenez-Pinto, V., Selinger, R. L. B. and
-   Selinger, J. V. "Shape selection of twist-nematic-elastomer ribbons." PNAS 108 (2011) 6364–6368.
+   Selinger, J. V. "Shape selection of twist-nematic-elastomer ribbons." PNAS 108 (2011) 6364–6368
+   (from memory).
 .. [3] Armon, S., Efrati, E., Kupferman, R. and Sharon, E. "Geometry and mechanics in the opening
-   of chiral seed pods." Science 333 (2011) 1726–1730.
+   of chiral seed pods." Science 333 (2011) 1726–1730 (from memory).
 """
 
 from __future__ import annotations
@@ -144,7 +145,7 @@ def isotropic_stiffness(*, modulus, poisson_ratio):
 
     References
     ----------
-    .. [1] Jones, R. M. *Mechanics of Composite Materials*, 2nd ed., 1999, eq. (2.63).
+    .. [1] Jones, R. M. *Mechanics of Composite Materials*, 2nd ed., 1999, eq. (2.63) (equation number from memory).
     """
     check_range(modulus, field="modulus", unit="Pa", lo=0, lo_open=True)
     check_range(poisson_ratio, field="poisson_ratio", unit="1", lo=-1, hi=0.5, lo_open=True, hi_open=True)
@@ -175,7 +176,8 @@ def rotated_stiffness(Q, angle):
 
     References
     ----------
-    .. [1] Jones, R. M. *Mechanics of Composite Materials*, 2nd ed., 1999, eqs. (2.84)–(2.85).
+    .. [1] Jones, R. M. *Mechanics of Composite Materials*, 2nd ed., 1999, eq. (2.85)
+       (the T matrix of eq. (2.84) from memory).
     """
     Q = np.asarray(Q, dtype=float)
     th = np.asarray(angle, dtype=float)
@@ -210,7 +212,7 @@ def abd_matrices(z_edges, qbar):
 
     References
     ----------
-    .. [1] Jones, R. M. *Mechanics of Composite Materials*, 2nd ed., 1999, eq. (4.23).
+    .. [1] Jones, R. M. *Mechanics of Composite Materials*, 2nd ed., 1999, sec. 4.2 (eq. number from memory: 4.23).
     """
     q, w1, w2, w3 = _cells(z_edges, qbar)
     return tuple(np.einsum("i,ijk->jk", w, q) for w in (w1, w2, w3))
@@ -272,7 +274,8 @@ def free_plate_response(A, B, D, N_star, M_star):
 
     References
     ----------
-    .. [1] Jones, R. M. *Mechanics of Composite Materials*, 2nd ed., 1999, eq. (4.24).
+    .. [1] Jones, R. M. *Mechanics of Composite Materials*, 2nd ed., 1999, sec. 4.2 (classical form
+       eq. 4.24, from memory; here in actsim's sign).
     """
     A, B, D, N_star, M_star = (np.asarray(m, dtype=float) for m in (A, B, D, N_star, M_star))
     if ({A.shape, B.shape, D.shape} != {(3, 3)} or {N_star.shape, M_star.shape} != {(3,)}
@@ -325,7 +328,7 @@ def plate_curvature_series(z_edges, modulus, poisson, eig):
 
     Notes
     -----
-    1e4 times x 200 cells take about 0.1 s (see docs/models.md).
+    1e4 times x 200 cells take 0.12 s (best of 5 on two shared cores, about 60 ns per time and cell).
 
     References
     ----------
@@ -523,7 +526,7 @@ def ribbon_shape(kbar, *, Dstar, stretch_stiffness, width, thickness):
         word = "spiral ribbon"
     else:
         word = "twisted arc"
-    return RibbonShape(k, gauss, kc, tc, radius, pitch, twist_pitch, width**2 * s_bar / thickness, word,
+    return RibbonShape(k, gauss, kc, tc, radius, pitch, twist_pitch, float(width**2 * s_bar / thickness), word,
                        float(energy(k)))
 
 
