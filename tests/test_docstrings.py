@@ -32,6 +32,7 @@ MODULES = (
     "actsim.hyperelastic",
     "actsim.order",
     "actsim.polarised",
+    "actsim.laminate",
     "actsim.grid",
     "actsim.schedule",
     "actsim.reference",
