@@ -133,25 +133,35 @@ def isotropic_stiffness(*, modulus, poisson_ratio):
 
     Parameters
     ----------
-    modulus : float
+    modulus : float or array_like
         Young's modulus E [Pa], > 0.
-    poisson_ratio : float
-        Poisson ratio nu [1], -1 < nu < 0.5.
+    poisson_ratio : float or array_like
+        Poisson ratio nu [1], -1 < nu < 0.5 (broadcast with ``modulus``).
 
     Returns
     -------
-    numpy.ndarray, shape (3, 3)
-        Q [Pa].
+    numpy.ndarray, shape (..., 3, 3)
+        Q [Pa], one matrix per broadcast element.
 
     References
     ----------
     .. [1] Jones, R. M. *Mechanics of Composite Materials*, 2nd ed., 1999, eq. (2.63) (equation number from memory).
     """
-    check_range(modulus, field="modulus", unit="Pa", lo=0, lo_open=True)
-    check_range(poisson_ratio, field="poisson_ratio", unit="1", lo=-1, hi=0.5, lo_open=True, hi_open=True)
-    q11 = modulus / (1.0 - poisson_ratio**2)
-    return np.array([[q11, poisson_ratio * q11, 0.0], [poisson_ratio * q11, q11, 0.0],
-                     [0.0, 0.0, 0.5 * modulus / (1.0 + poisson_ratio)]])
+    E = np.asarray(modulus, float)
+    nu = np.asarray(poisson_ratio, float)
+    if E.ndim == 0 and nu.ndim == 0:
+        check_range(float(E), field="modulus", unit="Pa", lo=0, lo_open=True)
+        check_range(float(nu), field="poisson_ratio", unit="1", lo=-1, hi=0.5, lo_open=True, hi_open=True)
+    elif not (np.all(E > 0) and np.all((nu > -1) & (nu < 0.5))):
+        raise ActsimInputError("modulus, poisson_ratio: every modulus must be > 0 Pa and every Poisson ratio "
+                               "between -1 and 0.5 (exclusive)")
+    E, nu = np.broadcast_arrays(E, nu)
+    q11 = E / (1.0 - nu**2)
+    out = np.zeros(E.shape + (3, 3))
+    out[..., 0, 0] = out[..., 1, 1] = q11
+    out[..., 0, 1] = out[..., 1, 0] = nu * q11
+    out[..., 2, 2] = 0.5 * E / (1.0 + nu)
+    return out
 
 
 def rotated_stiffness(Q, angle):

@@ -124,14 +124,15 @@ def order_field(conversion, temperature, params) -> np.ndarray:
     q = np.zeros(np.broadcast_shapes(np.shape(conversion), np.shape(temperature)))
     x = np.broadcast_to(conversion, q.shape)
     T = np.broadcast_to(temperature, q.shape)
-    for law in np.unique(params["order_law"]):
+    keys = np.column_stack([params["order_law"], params["order_par"][:, :3]])
+    for key in np.unique(keys, axis=0):  # one call per distinct law (per liquid-crystal material)
+        law = int(key[0])
         if law == order_stage.ORDER_NONE:
             continue
-        cols = np.flatnonzero(params["order_law"] == law)
-        par = params["order_par"][cols]
+        cols = np.flatnonzero(np.all(keys == key, axis=1))
         q[:, cols] = order_stage.nematic_order(
-            x[:, cols], T[:, cols], law=order_stage.ORDER_LAW_NAMES[law], clearing_temperature=par[:, 0],
-            clearing_shift=par[:, 1], exponent=par[:, 2])
+            x[:, cols], T[:, cols], law=order_stage.ORDER_LAW_NAMES[law], clearing_temperature=float(key[1]),
+            clearing_shift=float(key[2]), exponent=float(key[3]))
     return q
 
 
@@ -140,14 +141,122 @@ def order_strains(q, params) -> tuple:
     e_par = np.zeros(q.shape)
     e_perp = np.zeros(q.shape)
     q_ref = params["order_par"][:, 3]
-    for kind in (order_stage.LC_GLASSY, order_stage.LC_ELASTOMER):
-        cols = np.flatnonzero(params["lc_kind"] == kind)
-        if not cols.size:
+    keys = np.column_stack([params["lc_kind"], q_ref, params["lc_coef"]])
+    for key in np.unique(keys, axis=0):
+        kind = int(key[0])
+        if kind == order_stage.LC_NONE:
             continue
+        cols = np.flatnonzero(np.all(keys == key, axis=1))
         if kind == order_stage.LC_GLASSY:
-            a, b = order_stage.glassy_strains(q[:, cols], reference_order=q_ref[cols], c_par=params["lc_coef"][cols, 0],
-                                              c_perp=params["lc_coef"][cols, 1])
+            a, b = order_stage.glassy_strains(q[:, cols], reference_order=float(key[1]), c_par=float(key[2]),
+                                              c_perp=float(key[3]))
         else:
-            a, b = order_stage.elastomer_strains(q[:, cols], reference_order=q_ref[cols])
+            a, b = order_stage.elastomer_strains(q[:, cols], reference_order=float(key[1]))
         e_par[:, cols], e_perp[:, cols] = a, b
     return e_par, e_perp
+
+
+def _pol_params(light):
+    """The :class:`actsim.polarised.PolarParams` kept flat in a LightParams."""
+    from .polarised import PolarParams
+
+    return PolarParams(light.pol_director_angle, light.pol_director_tilt, light.pol_birefringence,
+                       light.pol_order_reference, light.pol_refractive_index, light.pol_order_factor_a,
+                       light.pol_order_factor_b, light.pol_ratio_a, light.pol_ratio_b, light.pol_beam,
+                       light.pol_beam_angle)
+
+
+def sample_times(n_time: int, step_of_time, most: int = MAX_RIBBON_TIMES) -> np.ndarray:
+    """Output-time indices at which the ribbon and the polarisation are solved: all of them, or ``most`` evenly
+    spread plus the last time of every protocol step."""
+    if n_time <= most:
+        return np.arange(n_time)
+    ends = np.flatnonzero(np.diff(step_of_time) != 0)
+    return np.unique(np.concatenate([np.linspace(0, n_time - 1, most).round().astype(int), ends, [n_time - 1]]))
+
+
+def plate_outputs(scenario, p, *, conversion, temperature, modulus, step_of_time) -> dict:
+    """What a run reports of its liquid-crystal layers, every (time,) array on the output times.
+
+    Parameters
+    ----------
+    scenario : actsim.scenario.Scenario
+    p : actsim.solver.Problem
+    conversion, temperature : numpy.ndarray, shape (n_time, n_cell)
+        [1] and [K] (temperature may have one row: a constant field).
+    modulus : numpy.ndarray, shape (n_time, n_cell)
+        Section modulus as recorded (Young's modulus times the section factor) [Pa].
+    step_of_time : numpy.ndarray of int, shape (n_time,)
+
+    Returns
+    -------
+    dict
+        ``order_parameter`` (time, z) [1]; ``plate_curvature_x``, ``plate_curvature_y`` [m-1] and
+        ``twist_rate`` (d2w/dxdy) [rad m-1] of the free plate; the free ribbon of the strip's width
+        (:func:`actsim.laminate.ribbon_shape`): ``ribbon_shape`` (words), ``ribbon_curvature`` (its centre line's
+        bend, k11) [m-1], ``ribbon_twist_rate`` (k12) [rad m-1], ``ribbon_helix_radius`` and ``ribbon_helix_pitch``
+        [m]; with a polarised source, ``polarisation_rotation`` [rad] of the first one's main band across the film,
+        and ``ribbon_width_parameter`` (w^2 |kbar| / h at the last time) [1].
+    """
+    from . import laminate
+
+    grid = p.grid
+    lc = cell_params(scenario, grid)
+    n_time = conversion.shape[0]
+    T = np.broadcast_to(temperature, conversion.shape)
+    q = order_field(conversion, T, lc)
+    e_par, e_perp = order_strains(q, lc)
+    li = grid.layer_index
+    layers = scenario.layers
+    nu = np.array([la.material.poisson_ratio for la in layers])[li]
+    photo = np.array([la.material.photo_strain for la in layers])[li]
+    alpha = np.array([la.material.thermal_expansion for la in layers])[li] if scenario.heat.enabled else np.zeros(li.size)
+    w = lc["weights"]
+    iso = alpha * (T - p.heat.T_ref)
+    diff = e_par - e_perp
+    eig = np.empty(conversion.shape + (3,))
+    eig[..., 0] = photo * conversion + iso + e_perp + diff * w[:, 0]
+    eig[..., 1] = iso + e_perp + diff * w[:, 1]
+    eig[..., 2] = diff * w[:, 2]
+    young = modulus / p.material.sec_fac
+    kappa = laminate.plate_curvature_series(grid.z_edges, young, nu, eig).kappa
+    out = dict(order_parameter=q, plate_curvature_x=kappa[:, 0], plate_curvature_y=kappa[:, 1],
+               twist_rate=0.5 * kappa[:, 2])
+    # the free ribbon of the strip's width, solved at sample times; its adopted curvature in between linearly
+    idx = sample_times(n_time, step_of_time)
+    adopted = np.empty((idx.size, 3))
+    words = []
+    wp = 0.0
+    for j, t in enumerate(idx):
+        A, B, D = laminate.abd_matrices(grid.z_edges, laminate.isotropic_stiffness(modulus=young[t], poisson_ratio=nu))
+        r = laminate.ribbon_shape(np.array([kappa[t, 0], kappa[t, 1], 0.5 * kappa[t, 2]]),
+                                  Dstar=laminate.reduced_bending_stiffness(A, B, D),
+                                  stretch_stiffness=laminate.stretch_stiffness(A), width=scenario.strip.width,
+                                  thickness=scenario.thickness)
+        adopted[j] = r.curvature
+        words.append(r.shape)
+        wp = r.width_parameter
+    times = p.times
+    k = np.column_stack([np.interp(times, times[idx], adopted[:, c]) for c in range(3)])
+    nearest = np.searchsorted(idx, np.arange(n_time)).clip(0, idx.size - 1)
+    kc, tc = np.abs(k[:, 0]), k[:, 2]
+    s2 = kc**2 + tc**2
+    with np.errstate(divide="ignore", invalid="ignore"):
+        radius = np.where(s2 > 0, kc / s2, np.inf)
+        pitch = np.where(s2 > 0, 2 * math.pi * np.abs(tc) / s2, np.inf)
+    out.update(ribbon_shape=np.array(words)[nearest], ribbon_curvature=k[:, 0], ribbon_twist_rate=tc,
+               ribbon_helix_radius=radius, ribbon_helix_pitch=pitch, ribbon_width_parameter=wp)
+    light = p.light
+    polarised = [b for b in range(light.pol_beam.size) if light.pol_beam[b]]
+    if polarised and light.polarised:
+        from .polarised import transmitted_polarisation
+
+        src = light.beam_source[polarised[0]]
+        beams = [b for b in polarised if light.beam_source[b] == src]
+        beam = max(beams, key=lambda b: light.beam_fraction[b])
+        pol = _pol_params(light)
+        rot = np.array([transmitted_polarisation(conversion=conversion[t], order=q[t], dz=grid.dz, light=light,
+                                                 pol=pol, beam=beam).rotation for t in idx])
+        out["polarisation_rotation"] = np.interp(times, times[idx], rot)
+        out["polarisation_source"] = scenario.sources[src].name
+    return out

@@ -62,6 +62,19 @@ VARIABLES: dict[str, tuple[str, str, tuple[str, ...]]] = {
     "fixity_ratio": ("1", "shape fixity ratio R_f of the cycle (Lendlein and Kelch 2002)", ("cycle",)),
     "recovery_ratio": ("1", "shape recovery ratio R_r of the cycle (Lendlein and Kelch 2002)", ("cycle",)),
     "bend_angle_after_release": ("rad", "bend angle at the end of the first free step after the hold", ("cycle",)),
+    # only with a liquid-crystal layer
+    "order_parameter": ("1", "nematic order parameter Q (0 in isotropic cells)", ("time", "z")),
+    "plate_curvature_x": ("m-1", "curvature along the strip of the free plate (laminate section)", ("time",)),
+    "plate_curvature_y": ("m-1", "curvature across the strip of the free plate (laminate section)", ("time",)),
+    "twist_rate": ("rad m-1", "twist of the free plate, d2w/dxdy (rotation of the section per length)", ("time",)),
+    "ribbon_shape": ("1", "shape the free ribbon of the strip's width takes", ("time",)),
+    "ribbon_curvature": ("m-1", "bend of the free ribbon's centre line (its normal curvature)", ("time",)),
+    "ribbon_twist_rate": ("rad m-1", "twist of the free ribbon (geodesic torsion of its centre line)", ("time",)),
+    "ribbon_helix_radius": ("m", "radius of the helix the free ribbon's centre line follows (0: straight axis)",
+                            ("time",)),
+    "ribbon_helix_pitch": ("m", "length along the helix axis per turn of the free ribbon", ("time",)),
+    "polarisation_rotation": ("rad", "turn of the polarisation of {polarisation_source} across the film",
+                              ("time",)),
 }
 
 #: What a missing (NaN, written as the fill value) entry of a per-cycle variable means.
@@ -163,6 +176,18 @@ class Solution:
     fixity_ratio: np.ndarray | None = None
     recovery_ratio: np.ndarray | None = None
     bend_angle_after_release: np.ndarray | None = None
+    order_parameter: np.ndarray | None = None
+    plate_curvature_x: np.ndarray | None = None
+    plate_curvature_y: np.ndarray | None = None
+    twist_rate: np.ndarray | None = None
+    ribbon_shape: np.ndarray | None = None
+    ribbon_curvature: np.ndarray | None = None
+    ribbon_twist_rate: np.ndarray | None = None
+    ribbon_helix_radius: np.ndarray | None = None
+    ribbon_helix_pitch: np.ndarray | None = None
+    polarisation_rotation: np.ndarray | None = None
+    ribbon_width_parameter: float | None = None
+    polarisation_source: str = ""
     front_level: float = 0.5
     small_strain_warning: str = ""
 
@@ -179,6 +204,7 @@ class Solution:
     def long_name(self, name: str) -> str:
         """Long name of a variable or coordinate, as the Dataset carries it."""
         return _entry(name)[1].format(section=self.section, lit_face=self.lit_face,
+                                      polarisation_source=f"source '{self.polarisation_source}'",
                                       front_percent=f"{100 * self.front_level:g} %")
 
     @staticmethod
@@ -205,7 +231,9 @@ class Solution:
             "time_stepping": self.time_stepping,
             "time_steps_accepted": self.time_steps_accepted,
             "time_steps_rejected": self.time_steps_rejected,
-        } | ({"small_strain_warning": self.small_strain_warning} if self.small_strain_warning else {})
+        } | ({"small_strain_warning": self.small_strain_warning} if self.small_strain_warning else {}) \
+          | ({"ribbon_width_parameter": self.ribbon_width_parameter} if self.ribbon_width_parameter is not None
+             else {})
 
     @property
     def nbytes(self) -> int:

@@ -20,6 +20,7 @@ from . import kinetics, material, mechanics, optics, thermal
 from ._kernels import RawOutput, allocate_output, run_design
 from .errors import ActsimInputError, ActsimSimulationError
 from .grid import Grid, build_grid, cell_centres
+from .liquid_crystal import has_liquid_crystal, plate_outputs
 from .scenario import Scenario
 from .scenario.limits import check_work
 from .schedule import Schedule, build_schedule, incident_dose
@@ -207,6 +208,10 @@ def solve(scenario: Scenario, *, engine: str = "kernel", allow_large: bool = Fal
         else:
             from .reference import run_reference
 
+            if has_liquid_crystal(scenario):
+                name = next(la.material.name for la in scenario.layers if la.material.liquid_crystal is not None)
+                raise ActsimInputError(f"engine: the reference engine has no liquid-crystal layers (materials.{name}."
+                                       "liquid_crystal); use engine = 'kernel'")
             if np.any(p.material.strain_law != material.STRAIN_LINEAR):
                 hyper = next(la.material.name for la in scenario.layers if la.material.strain_law != "linear")
                 raise ActsimInputError(f"engine: the reference engine has no large-strain layers (materials.{hyper}."
@@ -276,18 +281,21 @@ def small_strain_warning(scenario: Scenario, p: Problem, *, e0, kappa, eigenstra
     face_peaks, centre_peaks = mechanics.strain_peaks(np.ascontiguousarray(e0), np.ascontiguousarray(kappa), z_edges,
                                                       z_c, eigenstrain)
     start = 0
+    ordered = False
     for lay in scenario.layers:  # the grid's cells are the layers' cells in order, bottom first
         stop = start + lay.cells
         if lay.material.strain_law == "linear":
             strain = max(face_peaks[start], face_peaks[stop], centre_peaks[start:stop].max())
             if strain > limit:
                 worst.append(f"{lay.name} ({lay.material.name}) reaches {100 * strain:.3g} %")
+                ordered |= lay.material.liquid_crystal is not None
         start = stop
     if not worst:
         return ""
+    fix = ("a liquid-crystal layer's order strain is small-strain only: lower strain_per_order or the light"
+           if ordered else "use strain_law = 'neo-hookean' or 'gent' for large strain")
     return (f"warning: small-strain layer(s) driven past the small-strain limit of {100 * limit:g} %: "
-            + "; ".join(worst) + " (use strain_law = 'neo-hookean' or 'gent' for large strain; the limit is "
-            "[report] small_strain_limit)")
+            + "; ".join(worst) + f" ({fix}; the limit is [report] small_strain_limit)")
 
 
 #: Elements of (time, z) work arrays computed at once, so temporaries stay small beside the result.
@@ -310,6 +318,7 @@ def _assemble(scenario: Scenario, p: Problem, raw: dict, *, reuse: bool) -> Solu
     has_hyper = bool((p.material.strain_law != material.STRAIN_LINEAR).any())
     # one row when not modelled (the constant value); kept only for a hyperelastic stack, so they are freed otherwise
     hyper_T, hyper_S = (raw["T"], raw["S"]) if has_hyper else (None, None)
+    lc_T = raw["T"] if has_liquid_crystal(scenario) else None  # one row when heat is off: the constant field
     if not heat_on:
         raw.pop("T")
     if not has_network:
@@ -395,6 +404,13 @@ def _assemble(scenario: Scenario, p: Problem, raw: dict, *, reuse: bool) -> Solu
                       fixity_ratio=column("fixity_ratio"), recovery_ratio=column("recovery_ratio"),
                       bend_angle_after_release=column("bend_angle_after_release"))
     warning = small_strain_warning(scenario, p, e0=e0, kappa=kappa, eigenstrain=e_star)
+    lc_out = {}
+    if lc_T is not None:
+        lc_out = plate_outputs(scenario, p, conversion=x, temperature=lc_T, modulus=E, step_of_time=step_of_time)
+        for name in ("plate_curvature_x", "plate_curvature_y", "twist_rate"):
+            if not np.all(np.isfinite(lc_out[name])):
+                raise _non_finite(name)
+    del lc_T
     width = max(len(holds[i]) for i in set(step_of_time.tolist()))  # the string width of the holds that occur
     return Solution(
         time=times,
@@ -444,4 +460,5 @@ def _assemble(scenario: Scenario, p: Problem, raw: dict, *, reuse: bool) -> Solu
         **cycles,
         **heat,
         **network,
+        **lc_out,
     )
