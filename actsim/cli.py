@@ -110,6 +110,10 @@ def summary_table(summary: dict, width: int | None = None) -> str:
         rows.append((f"cycle {c['cycle']} ({c['kind']}) recovery", ratio(c["recovery_ratio"])))
         if c.get("bend_angle_after_release") is not None:
             rows.append((f"cycle {c['cycle']} bend after release", _fmt_angle(c["bend_angle_after_release"])))
+    if "liquid_crystal" in summary:
+        from .liquid_crystal import summary_rows
+
+        rows += summary_rows(summary["liquid_crystal"])
     if summary.get("grid_error_estimate") is not None:
         est = summary["grid_error_estimate"]
         text = f"bend angle within about {100 * est:.2g} % of a finer grid (estimate)"

@@ -559,4 +559,9 @@ def write_standard_figures(ds, folder, *, target_bend_angle=None, scenario=None)
         records.append(shape_memory_figure(ds, folder / "shape_memory.png", scenario=scenario))
     if "temperature" in ds:
         records.append(temperature_figure(ds, folder / "temperature.png", scenario=scenario))
+    if "ribbon_shape" in ds:
+        from .lc_figures import plate_figure, ribbon_figure
+
+        records.append(plate_figure(ds, folder / "plate_curvatures.png", scenario=scenario))
+        records.append(ribbon_figure(ds, folder / "ribbon_shape.png", scenario=scenario))
     return records

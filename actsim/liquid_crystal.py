@@ -194,7 +194,7 @@ def plate_outputs(scenario, p, *, conversion, temperature, modulus, step_of_time
         ``order_parameter`` (time, z) [1]; ``plate_curvature_x``, ``plate_curvature_y`` [m-1] and
         ``twist_rate`` (d2w/dxdy) [rad m-1] of the free plate; the free ribbon of the strip's width
         (:func:`actsim.laminate.ribbon_shape`): ``ribbon_shape`` (words), ``ribbon_curvature`` (its centre line's
-        bend, k11) [m-1], ``ribbon_twist_rate`` (k12) [rad m-1], ``ribbon_helix_radius`` and ``ribbon_helix_pitch``
+        bend, k11) [m-1], ``ribbon_curvature_across`` (k22) [m-1], ``ribbon_twist_rate`` (k12) [rad m-1], ``ribbon_helix_radius`` and ``ribbon_helix_pitch``
         [m]; with a polarised source, ``polarisation_rotation`` [rad] of the first one's main band across the film,
         and ``ribbon_width_parameter`` (w^2 |kbar| / h at the last time) [1].
     """
@@ -242,9 +242,10 @@ def plate_outputs(scenario, p, *, conversion, temperature, modulus, step_of_time
     kc, tc = np.abs(k[:, 0]), k[:, 2]
     s2 = kc**2 + tc**2
     with np.errstate(divide="ignore", invalid="ignore"):
-        radius = np.where(s2 > 0, kc / s2, np.inf)
-        pitch = np.where(s2 > 0, 2 * math.pi * np.abs(tc) / s2, np.inf)
-    out.update(ribbon_shape=np.array(words)[nearest], ribbon_curvature=k[:, 0], ribbon_twist_rate=tc,
+        radius = np.where(s2 > 0, kc / s2, np.nan)  # a flat ribbon has no helix: missing (solution.MISSING_MEANS)
+        pitch = np.where(s2 > 0, 2 * math.pi * np.abs(tc) / s2, np.nan)
+    out.update(ribbon_shape=np.array(words)[nearest], ribbon_curvature=k[:, 0], ribbon_curvature_across=k[:, 1],
+               ribbon_twist_rate=tc,
                ribbon_helix_radius=radius, ribbon_helix_pitch=pitch, ribbon_width_parameter=wp)
     light = p.light
     polarised = [b for b in range(light.pol_beam.size) if light.pol_beam[b]]
@@ -260,3 +261,66 @@ def plate_outputs(scenario, p, *, conversion, temperature, modulus, step_of_time
         out["polarisation_rotation"] = np.interp(times, times[idx], rot)
         out["polarisation_source"] = scenario.sources[src].name
     return out
+
+
+def _finite_or_none(v):
+    v = float(v)
+    return v if math.isfinite(v) else None
+
+
+def ribbon_summary(ds) -> dict:
+    """Key numbers of the liquid-crystal outputs of a run (for ``summary.json`` and the screens).
+
+    The free ribbon is reported at the output time of its largest curvature (centre-line bend and twist
+    together) and at the end; the order as its lowest value in any liquid-crystal cell against its value at
+    the start. Lengths in m, curvatures in m-1, twist in rad m-1, angles in rad; a helix pitch or radius that is
+    infinite (a flat ribbon) is None.
+    """
+    t = ds["time"].values
+    k11 = ds["ribbon_curvature"].values
+    k12 = ds["ribbon_twist_rate"].values
+    i = int(np.argmax(np.hypot(k11, k12)))
+    q = ds["order_parameter"].values
+    lc_cells = np.any(q != 0, axis=0)
+    out = {
+        "ribbon_width": float(ds.attrs.get("width", float("nan"))),
+        "ribbon_width_parameter": _finite_or_none(ds.attrs.get("ribbon_width_parameter", float("nan"))),
+        "time_of_largest_ribbon_curvature": float(t[i]),
+        "ribbon_shape": str(ds["ribbon_shape"].values[i]),
+        "ribbon_helix_pitch": _finite_or_none(ds["ribbon_helix_pitch"].values[i]),
+        "ribbon_helix_radius": _finite_or_none(ds["ribbon_helix_radius"].values[i]),
+        "ribbon_curvature": float(k11[i]),
+        "ribbon_twist_rate": float(k12[i]),
+        "plate_curvature_x": float(ds["plate_curvature_x"].values[i]),
+        "plate_curvature_y": float(ds["plate_curvature_y"].values[i]),
+        "twist_rate": float(ds["twist_rate"].values[i]),
+        "final_ribbon_shape": str(ds["ribbon_shape"].values[-1]),
+        "order_at_start": float(q[0, lc_cells].max()) if lc_cells.any() else 0.0,
+        "lowest_order": float(q[:, lc_cells].min()) if lc_cells.any() else 0.0,
+    }
+    if "polarisation_rotation" in ds:
+        rot = ds["polarisation_rotation"].values
+        out.update(polarisation_source=str(ds["polarisation_rotation"].attrs.get("source", "")),
+                   polarisation_rotation_start=float(rot[0]), polarisation_rotation_end=float(rot[-1]))
+    return out
+
+
+def summary_rows(lc: dict) -> list[tuple[str, str]]:
+    """(label, text) rows of :func:`ribbon_summary` for the run screen, in display units."""
+    def mm(v):
+        return "-" if v is None else f"{v * 1e3:.3g} mm"
+
+    rows = [(f"free ribbon, {lc['ribbon_width'] * 1e3:.3g} mm wide",
+             f"{lc['ribbon_shape']} at t = {lc['time_of_largest_ribbon_curvature']:.4g} s: helix pitch "
+             f"{mm(lc['ribbon_helix_pitch'])}, radius {mm(lc['ribbon_helix_radius'])} (bend "
+             f"{lc['ribbon_curvature'] * 1e-3:.3g} 1/mm, twist {math.degrees(lc['ribbon_twist_rate']) * 1e-3:.3g} "
+             f"deg/mm); {lc['final_ribbon_shape']} at the end"),
+            ("free plate at that time",
+             f"curvature along {lc['plate_curvature_x'] * 1e-3:.3g} 1/mm, across {lc['plate_curvature_y'] * 1e-3:.3g} "
+             f"1/mm, twist {math.degrees(lc['twist_rate']) * 1e-3:.3g} deg/mm"),
+            ("nematic order", f"{lc['order_at_start']:.3g} at the start, lowest {lc['lowest_order']:.3g}")]
+    if "polarisation_rotation_start" in lc:
+        rows.append((f"polarisation of '{lc['polarisation_source']}'",
+                     f"turned by {math.degrees(lc['polarisation_rotation_start']):.3g} deg across the film at the "
+                     f"start, {math.degrees(lc['polarisation_rotation_end']):.3g} deg at the end"))
+    return rows

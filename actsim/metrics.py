@@ -248,6 +248,10 @@ def summarize(ds, *, target_bend_angle=None, protocol=None):
         from .shape_memory import shape_memory_cycles
 
         out["shape_memory_cycles"] = shape_memory_cycles(ds, protocol)
+    if "ribbon_shape" in ds:
+        from .liquid_crystal import ribbon_summary
+
+        out["liquid_crystal"] = ribbon_summary(ds)
     if target_bend_angle is not None:
         tt = first_crossing_time(t, theta, target_bend_angle)
         out["target_bend_angle"] = float(target_bend_angle)

@@ -69,6 +69,7 @@ VARIABLES: dict[str, tuple[str, str, tuple[str, ...]]] = {
     "twist_rate": ("rad m-1", "twist of the free plate, d2w/dxdy (rotation of the section per length)", ("time",)),
     "ribbon_shape": ("1", "shape the free ribbon of the strip's width takes", ("time",)),
     "ribbon_curvature": ("m-1", "bend of the free ribbon's centre line (its normal curvature)", ("time",)),
+    "ribbon_curvature_across": ("m-1", "curvature of the free ribbon across its width", ("time",)),
     "ribbon_twist_rate": ("rad m-1", "twist of the free ribbon (geodesic torsion of its centre line)", ("time",)),
     "ribbon_helix_radius": ("m", "radius of the helix the free ribbon's centre line follows (0: straight axis)",
                             ("time",)),
@@ -82,6 +83,8 @@ MISSING_MEANS: dict[str, str] = {
     "fixity_ratio": "no free step follows the hold, or the programmed value equals the value before it",
     "recovery_ratio": "fewer than two free steps follow the hold, or the programmed value equals the value before it",
     "bend_angle_after_release": "no free step follows the hold",
+    "ribbon_helix_radius": "the ribbon is flat (no bend, no twist)",
+    "ribbon_helix_pitch": "the ribbon is flat (no bend, no twist)",
 }
 
 #: Coordinates: name -> (units, long_name, dims).
@@ -182,6 +185,7 @@ class Solution:
     twist_rate: np.ndarray | None = None
     ribbon_shape: np.ndarray | None = None
     ribbon_curvature: np.ndarray | None = None
+    ribbon_curvature_across: np.ndarray | None = None
     ribbon_twist_rate: np.ndarray | None = None
     ribbon_helix_radius: np.ndarray | None = None
     ribbon_helix_pitch: np.ndarray | None = None
@@ -267,6 +271,8 @@ class Solution:
             attrs["missing_means"] = MISSING_MEANS[name]
         if name == "conversion_front_depth":
             attrs["front_conversion"] = self.front_level
+        if name == "polarisation_rotation":
+            attrs["source"] = self.polarisation_source
         return xr.Variable(dims, getattr(self, name), attrs=attrs)
 
 

@@ -66,6 +66,10 @@ def _result_rows(metrics: dict) -> list[dict]:
     for key, value in metrics.items():
         if key not in _METRICS and not isinstance(value, (dict, list)):
             rows.append({"name": key.replace("_", " "), "value": _metric_value(value, 1.0), "unit": "SI"})
+    if isinstance(metrics.get("liquid_crystal"), dict):
+        from ..liquid_crystal import summary_rows
+
+        rows += [{"name": name, "value": text, "unit": "—"} for name, text in summary_rows(metrics["liquid_crystal"])]
     return rows
 
 
@@ -94,6 +98,15 @@ def _run_cards(metrics: dict, has_temperature: bool) -> list[dict]:
                            "highest anywhere in the stack"))
     elif not has_temperature:
         cards.append(_card("peak temperature", "not modelled", "", "heat is not modelled in this scenario"))
+    lc = metrics.get("liquid_crystal")
+    if isinstance(lc, dict) and "ribbon_shape" in lc:
+        geometry = []
+        for key, what in (("ribbon_helix_pitch", "pitch"), ("ribbon_helix_radius", "radius")):
+            if isinstance(lc.get(key), (int, float)):
+                geometry.append(f"{what} {_num(lc[key] * 1e3)} mm")
+        cards.append(_card(f"free ribbon, {_num(lc.get('ribbon_width', 0.0) * 1e3)} mm wide", str(lc["ribbon_shape"]),
+                           "", f"at t = {_num(lc.get('time_of_largest_ribbon_curvature'))} s"
+                           + (f": {', '.join(geometry)}" if geometry else "")))
     return cards
 
 
