@@ -108,6 +108,21 @@ class LightParams(NamedTuple):
     order_now: np.ndarray
 
 
+def isotropic_fields(n_cell: int, n_beam: int) -> dict:
+    """The liquid-crystal fields of a :class:`LightParams` for isotropic cells and unpolarised beams.
+
+    For building a LightParams by hand: ``LightParams(c0=..., ..., **isotropic_fields(n_cell, n_beam))``;
+    :func:`light_pass` then takes the plain Beer–Lambert pass.
+    """
+    return dict(polarised=False, pol_director_angle=np.zeros(n_cell), pol_director_tilt=np.zeros(n_cell),
+                pol_birefringence=np.zeros(n_cell), pol_order_reference=np.ones(n_cell),
+                pol_refractive_index=np.ones(n_cell), pol_order_factor_a=np.zeros(n_cell),
+                pol_order_factor_b=np.zeros(n_cell), pol_ratio_a=np.zeros(n_cell), pol_ratio_b=np.zeros(n_cell),
+                pol_beam=np.zeros(n_beam, np.bool_), pol_beam_angle=np.zeros(n_beam), order_law=np.zeros(n_cell, np.int64),
+                order_par=np.ones((n_cell, 4)), order_t=np.array([0.0, 1.0]), order_q=np.array([1.0, 0.0]),
+                order_now=np.zeros(n_cell))
+
+
 def light_params(scenario, grid) -> LightParams:
     """Beams and per-cell absorptivities of a scenario.
 
