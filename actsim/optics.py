@@ -113,6 +113,16 @@ def isotropic_fields(n_cell: int, n_beam: int) -> dict:
 
     For building a LightParams by hand: ``LightParams(c0=..., ..., **isotropic_fields(n_cell, n_beam))``;
     :func:`light_pass` then takes the plain Beer–Lambert pass.
+
+    Parameters
+    ----------
+    n_cell, n_beam : int
+        Numbers of cells and beams.
+
+    Returns
+    -------
+    dict
+        The ``polarised``, ``pol_*`` and ``order_*`` fields.
     """
     return dict(polarised=False, pol_director_angle=np.zeros(n_cell), pol_director_tilt=np.zeros(n_cell),
                 pol_birefringence=np.zeros(n_cell), pol_order_reference=np.ones(n_cell),
