@@ -290,3 +290,14 @@ def test_wide_strip_takes_the_order_strain_in_plane_strain():
     dq = maier_saupe_order_independent(333.15 / t_ni) - maier_saupe_order_independent(293.15 / t_ni)
     kx = timoshenko_curvature(mismatch=-(0.05 * dq + 0.4 * (-0.025 * dq)), e1=3e9, e2=1.5e9, h1=25e-6, h2=15e-6)
     assert float(ds.curvature[-1]) == pytest.approx(kx, rel=2e-6)
+
+
+def test_planar_films_bend_toward_the_light_and_homeotropic_films_away():
+    # Kondo, Yu and Ikeda, Angew. Chem. Int. Ed. 45 (2006) 1378: a planar film contracts along its director on the
+    # lit face and bends toward the light; a homeotropic one expands in the plane there and bends away.
+    text = open(__file__.replace("tests/test_liquid_crystal.py", "scenarios/lc_splay_curl.toml")).read()
+    splay = 'director = { kind = "splay", angle = "0 deg", tilt_bottom = "90 deg", tilt_top = "0 deg" }'
+    planar = actsim.simulate(parse_scenario(text.replace(splay, 'director = "planar"')))
+    homeotropic = actsim.simulate(parse_scenario(text.replace(splay, 'director = "homeotropic"')))
+    assert float(planar.bend_angle.max()) > 0.1 and float(planar.bend_angle.min()) >= 0.0
+    assert float(homeotropic.bend_angle.min()) < -0.01 and float(homeotropic.bend_angle.max()) <= 0.0

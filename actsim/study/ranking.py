@@ -37,7 +37,8 @@ def field_words(path: str) -> str:
     """A swept field path in words: ``layers[active film].thickness`` -> ``"active film thickness"``.
 
     ``sources[led].wavelength`` -> ``"led wavelength"``; ``protocol[0].light.led`` ->
-    ``"led irradiance (step 1)"``; ``materials.film.photo_strain`` -> ``"film photo strain"``.
+    ``"led irradiance (step 1)"``; ``materials.film.photo_strain`` -> ``"film photo strain"``;
+    ``sources[0].polarisation`` -> ``"source 1 polarisation"``.
     """
     parts = [m.groups() for m in _PART.finditer(str(path))]
     if not parts:
@@ -48,6 +49,8 @@ def field_words(path: str) -> str:
         label = f"step {int(step) + 1}" if step is not None and step.isdigit() else f"step {step}"
         return f"{parts[-1][0].replace('_', ' ')} irradiance ({label})"
     owner = next((p[1] for p in parts[:-1] if p[1]), None)
+    if owner is not None and owner.isdigit():  # an index: "sources[0]" -> "source 1", "layers[1]" -> "layer 2"
+        owner = f"{parts[0][0].rstrip('s')} {int(owner) + 1}"
     if owner is None and len(parts) >= 3 and parts[0][0] in ("materials", "sources"):
         owner = parts[1][0].replace("_", " ")
     return f"{owner} {name}" if owner else name
