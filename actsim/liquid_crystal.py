@@ -86,6 +86,8 @@ def cell_params(scenario, grid) -> dict:
         zeta = (np.arange(layer.cells) + 0.5) / layer.cells
         if d is None:
             phi, tilt = np.zeros(layer.cells), np.zeros(layer.cells)
+        elif d.kind == "polydomain":  # a fine laminate of domains: K in-plane angles, cycling cell by cell
+            phi, tilt = math.pi * (np.arange(layer.cells) % d.families) / d.families, np.zeros(layer.cells)
         else:
             table = tuple(np.asarray(d.table, float).T) if d.table else None
             phi, tilt = order_stage.director_profile(d.kind, zeta, angle=d.angle, angle_top=d.angle_top,

@@ -301,3 +301,72 @@ def test_planar_films_bend_toward_the_light_and_homeotropic_films_away():
     homeotropic = actsim.simulate(parse_scenario(text.replace(splay, 'director = "homeotropic"')))
     assert float(planar.bend_angle.max()) > 0.1 and float(planar.bend_angle.min()) >= 0.0
     assert float(homeotropic.bend_angle.min()) < -0.01 and float(homeotropic.bend_angle.max()) <= 0.0
+
+
+POLY = """
+title = "polydomain film"
+[strip]
+free_length = "5 mm"
+width = "1 mm"
+[optics]
+front_reflection = false
+[materials.backing]
+modulus = "3 GPa"
+poisson_ratio = 0.4
+[materials.lcn]
+modulus = "1.5 GPa"
+poisson_ratio = 0.4
+chromophore_concentration = "0.01 mol/L"
+reactant_absorptivity = "1 L/(mol*cm)"
+forward_quantum_yield = 0.2
+[materials.lcn.liquid_crystal]
+clearing_temperature = "95 degC"
+clearing_shift = "60 K"
+preparation_temperature = "20 degC"
+strain_per_order = 0.05
+[[layers]]
+material = "backing"
+thickness = "200 um"
+cells = 4
+[[layers]]
+material = "lcn"
+thickness = "1.2 um"
+cells = 12
+director = {{ kind = "polydomain", families = 6 }}
+[[sources]]
+name = "lamp"
+kind = "line"
+wavelength = "365 nm"
+irradiance = "10 mW/cm^2"
+polarisation = "{polarisation}"
+[[protocol]]
+duration = "1 s"
+light = {{ lamp = "10 mW/cm^2" }}
+[time]
+output_interval = "1 s"
+tolerance = 1e-9
+"""
+
+
+def test_a_polydomain_film_bends_along_the_polarisation():
+    # Yu, Nakano and Ikeda, Nature 425 (2003) 145: a polydomain film bends along the light's polarisation, and
+    # turning the polarisation by 90 deg turns the bend. Photoselection in an optically thin film at small
+    # conversion: the order of the domains at angle phi to the polarisation falls in proportion to their absorption
+    # factor g(phi) = (1 - S) + 3 S cos^2 phi, so the film's mean strains are (closed-form averages over phi)
+    #   <e_xx> ~ c_perp <g> + (c_par - c_perp) <g cos^2>,  <e_yy> ~ c_perp <g> + (c_par - c_perp) <g sin^2>
+    # with <g> = 1 - S + 3S/2, <g cos^2> = (1 - S)/2 + 9S/8, <g sin^2> = (1 - S)/2 + 3S/8. On a thick backing the
+    # curvatures follow the film's mean strains (Stoney's limit), so kappa_x / kappa_y = <e_xx> / <e_yy>.
+    s = maier_saupe_order_independent(293.15 / 368.15)
+    g, gc, gs = 1 - s + 1.5 * s, 0.5 * (1 - s) + 9 * s / 8, 0.5 * (1 - s) + 3 * s / 8
+    ratio = (-0.5 * g + 1.5 * gc) / (-0.5 * g + 1.5 * gs)
+    along = actsim.simulate(parse_scenario(textwrap.dedent(POLY.format(polarisation="0 deg"))))
+    across = actsim.simulate(parse_scenario(textwrap.dedent(POLY.format(polarisation="90 deg"))))
+    unpol = actsim.simulate(parse_scenario(textwrap.dedent(POLY.format(polarisation="unpolarised"))))
+    kx, ky = float(along.plate_curvature_x[-1]), float(along.plate_curvature_y[-1])
+    assert kx / ky == pytest.approx(ratio, rel=0.02)  # the domains sit at different depths of the 1.2 um film
+    assert kx > 0 and abs(ky) < 0.5 * kx  # it bends along the polarisation, toward the light
+    # turned by 90 deg: the bend turns with it (to the stacking order of the domain families)
+    assert float(across.plate_curvature_y[-1]) == pytest.approx(kx, rel=0.02)
+    assert float(across.plate_curvature_x[-1]) == pytest.approx(ky, rel=0.05)
+    # unpolarised: no direction in the plane
+    assert float(unpol.plate_curvature_x[-1]) == pytest.approx(float(unpol.plate_curvature_y[-1]), rel=0.02)

@@ -16,7 +16,9 @@ from .limits import limit
 from .model import Director, LiquidCrystal
 
 #: Director profiles through a layer's thickness (see actsim.order.director_profile).
-DIRECTOR_KINDS = ("planar", "homeotropic", "splay", "twisted", "hybrid", "table")
+DIRECTOR_KINDS = ("planar", "homeotropic", "splay", "twisted", "hybrid", "table", "polydomain")
+#: Most orientation families of a polydomain layer.
+MAX_FAMILIES = 36
 #: Most rows of a director table.
 MAX_DIRECTOR_ROWS = 1000
 
@@ -85,7 +87,7 @@ def parse_liquid_crystal(t: Table, name: str, *, has_chromophore: bool, strain_l
                          strain_across_per_order=c_perp, **kw)
 
 
-def parse_director(lt: Table, i: int, *, liquid_crystal: bool) -> Director | None:
+def parse_director(lt: Table, i: int, *, liquid_crystal: bool, cells: int = 0) -> Director | None:
     """The optional ``director`` of layer ``i`` (an inline table); None when absent."""
     if not lt.has("director"):
         return None
@@ -101,8 +103,8 @@ def parse_director(lt: Table, i: int, *, liquid_crystal: bool) -> Director | Non
     kw = {"kind": kind}
     allowed = {"planar": ("angle",), "homeotropic": (), "splay": ("angle", "tilt_bottom", "tilt_top"),
                "twisted": ("angle", "angle_top"), "hybrid": ("angle", "angle_top", "tilt_bottom", "tilt_top"),
-               "table": ("rows",)}[kind]
-    for key in ("angle", "angle_top", "tilt_bottom", "tilt_top", "rows"):
+               "table": ("rows",), "polydomain": ("families",)}[kind]
+    for key in ("angle", "angle_top", "tilt_bottom", "tilt_top", "rows", "families"):
         if d.has(key) and key not in allowed:
             raise ActsimInputError(f"{d.field_path(key)}: not used with kind = '{kind}' (it takes "
                                    f"{', '.join(allowed) or 'no angles'})")
@@ -117,6 +119,15 @@ def parse_director(lt: Table, i: int, *, liquid_crystal: bool) -> Director | Non
     elif kind in ("splay", "hybrid"):
         kw["tilt_bottom"] = d.quantity("tilt_bottom", "angle", default="0 deg", **tilt)
         kw["tilt_top"] = d.quantity("tilt_top", "angle", default="90 deg", **tilt)
+    if kind == "polydomain":
+        k = d.integer("families", default=6, lo=2, hi=MAX_FAMILIES)
+        if cells % k:
+            raise ActsimInputError(f"layers[{i}].cells: {cells} cells is not a multiple of the {k} domain families "
+                                   f"of the polydomain director (use a multiple of {k}, at least {2 * k})")
+        if cells < 2 * k:
+            raise ActsimInputError(f"layers[{i}].cells: {cells} cells is fewer than two slabs of the {k} domain "
+                                   f"families (allowed >= {2 * k})")
+        kw["families"] = k
     if kind == "table":
         rows = d.raw("rows")
         where = d.field_path("rows")

@@ -73,7 +73,8 @@ class Director:
 
     ``kind`` is "planar" (in-plane at ``angle`` from the strip axis), "homeotropic", "splay" (tilt from
     ``tilt_bottom`` to ``tilt_top``), "twisted" (in-plane angle from ``angle`` to ``angle_top``), "hybrid" (both)
-    or "table" (``table``: rows of normalised height, in-plane angle, tilt).
+    or "table" (``table``: rows of normalised height, in-plane angle, tilt), or "polydomain" (directors in the plane
+    spread over ``families`` equally spaced angles, cycling cell by cell: a fine laminate of domains).
     """
 
     kind: str = "planar"
@@ -82,6 +83,7 @@ class Director:
     tilt_bottom: float = 0.0
     tilt_top: float = 0.0
     table: tuple = ()
+    families: int = 0
 
 
 @dataclass(frozen=True, eq=False)

@@ -523,7 +523,8 @@ def parse_scenario(text: str, *, path: str | Path = "", base_dir: str | Path | N
             thickness=lt.quantity("thickness", "length", **limit("layers[].thickness")),
             cells=lt.integer("cells", default=20, lo=1, hi=limit("layers[].cells")["hi"]),
             initial_conversion=lt.number("initial_conversion", default=0.0, **limit("layers[].initial_conversion")),
-            director=parse_director(lt, i, liquid_crystal=materials[mname].liquid_crystal is not None),
+            director=parse_director(lt, i, liquid_crystal=materials[mname].liquid_crystal is not None,
+                                    cells=lt.integer("cells", default=20, lo=1, hi=limit("layers[].cells")["hi"])),
         )
         if layer.initial_conversion > 0 and not layer.material.is_active:
             raise ActsimInputError(
