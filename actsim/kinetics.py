@@ -259,17 +259,14 @@ def rates(mean_flux, flux_a, flux_b, light, photo, T, T_ref, k_f, k_b):
         Outputs [s-1].
     """
     n_cell, n_beam = light.eps_a.shape
+    fa = flux_a if light.polarised else mean_flux
+    fb = flux_b if light.polarised else mean_flux
     for i in range(n_cell):
         sf = 0.0
         sb = 0.0
-        if light.polarised:
-            for b in range(n_beam):
-                sf += photo.phi_f[i, b] * light.eps_a[i, b] * flux_a[i, b]
-                sb += photo.phi_b[i, b] * light.eps_b[i, b] * flux_b[i, b]
-        else:
-            for b in range(n_beam):
-                sf += photo.phi_f[i, b] * light.eps_a[i, b] * mean_flux[i, b]
-                sb += photo.phi_b[i, b] * light.eps_b[i, b] * mean_flux[i, b]
+        for b in range(n_beam):
+            sf += photo.phi_f[i, b] * light.eps_a[i, b] * fa[i, b]
+            sb += photo.phi_b[i, b] * light.eps_b[i, b] * fb[i, b]
         k_th = photo.k_ref[i]
         if photo.e_act[i] != 0.0 and k_th != 0.0:
             k_th = k_th * math.exp(-photo.e_act[i] / GAS_CONSTANT * (1.0 / T[i] - 1.0 / T_ref))

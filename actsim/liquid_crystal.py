@@ -65,6 +65,10 @@ def cell_params(scenario, grid) -> dict:
                order_factor=np.zeros((n, 2)), absorption_ratio=np.zeros((n, 2)), birefringence=np.zeros(n),
                refractive_index=np.ones(n))
     out["order_par"][:, 0] = 1.0  # harmless T_NI in isotropic cells (never used: law none)
+    if not has_liquid_crystal(scenario):
+        out["order_t"], out["order_q"] = np.array([0.0, 1.0]), np.array([1.0, 0.0])
+        out["refractive_index"] = np.array([la.material.refractive_index for la in scenario.layers])[grid.layer_index]
+        return out
     any_ms = False
     for li, layer in enumerate(scenario.layers):
         sel = grid.layer_index == li
