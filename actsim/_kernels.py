@@ -209,7 +209,12 @@ def run_design(grid, light, photo, heat, mat, sched, out):
     state (modulus E_0, eigenstrain at which the cells would be stress-free if
     loaded now). The heat state is the
     rise above ``heat.T_ref`` (the stages see the absolute temperature), so
-    the stored heat is not rounded at 293 K every step. ``out.energy`` holds
+    the stored heat is not rounded at 293 K every step. With liquid-crystal
+    layers every light pass is the dichroic, polarised one at the order
+    Q(x, T) of each cell (:func:`actsim.optics.light_pass`), the rates take
+    each species' weighted flux, and the material step adds the order strain;
+    the light at a predicted conversion takes the temperature at the start of
+    the step. ``out.energy`` holds
     the cumulative heat absorbed and lost through the bottom and top faces
     [J m-2], integrated with the heat scheme's own quadrature.
 
