@@ -34,6 +34,9 @@ from .units import check_range
 #: A hit on a neighbouring segment closer than this (fraction of its length) to the shared end point is
 #: the shared point itself (a grazing ray), not a shadow.
 NEIGHBOUR_EPS = 1e-9
+#: A face is lit only where cos a exceeds this (grazing light carries nothing and its side is round-off), and
+#: a point source's own position (ray parameter within this of 1) shades nothing.
+GRAZING_EPS = 1e-12
 #: Most segments and sample points per segment :func:`incidence` accepts.
 MAX_SEGMENTS = 100_000
 MAX_SAMPLES = 1000
@@ -356,7 +359,7 @@ def _incidence_numpy(p, src, n1, n2, m, oa, ob, oray):
         ray = np.array([sx, sz]) - q
         r2 = ray[..., 0] * ray[..., 0] + ray[..., 1] * ray[..., 1]
         inside = (-(ray[..., 0] * dx + ray[..., 1] * dz) >= cos_half * np.sqrt(r2)) & (r2 > 0.0)
-        tmax = 1.0
+        tmax = 1.0 - GRAZING_EPS
     rr = np.sqrt(r2)
     rr = np.where(rr > 0.0, rr, 1.0)
     cos_top = (ray[..., 0] * nrm[:, None, 0] + ray[..., 1] * nrm[:, None, 1]) / rr
@@ -379,7 +382,7 @@ def _incidence_numpy(p, src, n1, n2, m, oa, ob, oray):
     out = np.empty((5, n, 2))
     for f, sign in enumerate((1.0, -1.0)):
         c = sign * cos_top
-        lit = (c[:, :m] > 0.0) & inside[:, :m] & ~blocked
+        lit = (c[:, :m] > GRAZING_EPS) & inside[:, :m] & ~blocked
         e_k = np.where(lit, power * c[:, :m] / r2[:, :m], 0.0)
         rs, rp, _, ct = _fresnel_cos(np.clip(c, 0.0, 1.0), n1, n2)
         t_k = 1.0 - 0.5 * (rs + rp)
@@ -481,12 +484,12 @@ def shade_kernel(p, kind, sx, sz, dx, dz, power, cos_half, n1, n2, m, oa, ob, or
                 vx, vz = sx - qx, sz - qz
                 r2 = vx * vx + vz * vz
                 inside = (-(vx * dx + vz * dz) >= cos_half * math.sqrt(r2)) and r2 > 0.0
-                tmax = 1.0
+                tmax = 1.0 - GRAZING_EPS
             rr = math.sqrt(r2)
             cos_top = (vx * nx + vz * nz) / (rr if rr > 0.0 else 1.0)
             if k == m:
                 out[0, i, 0], out[0, i, 1] = cos_top, -cos_top
-            elif inside and cos_top != 0.0 and not _blocked(p, i, qx, qz, vx, vz, tmax, oa, ob, oray):
+            elif inside and abs(cos_top) > GRAZING_EPS and not _blocked(p, i, qx, qz, vx, vz, tmax, oa, ob, oray):
                 f = 0 if cos_top > 0.0 else 1
                 c = abs(cos_top)
                 e_k = power * c / r2
