@@ -117,9 +117,7 @@ def _fresnel_cos(ci, n1, n2):
         rs = np.where(den_s > 0.0, (n1 * ci - n2 * ct) / den_s, 1.0) ** 2
         rp = np.where(den_p > 0.0, (n2 * ci - n1 * ct) / den_p, 1.0) ** 2
     tir = st >= 1.0
-    rs = np.where(tir, 1.0, rs)
-    rp = np.where(tir, 1.0, rp)
-    return rs, rp, st, ct
+    return np.where(tir, 1.0, rs), np.where(tir, 1.0, rp), st, ct
 
 
 def fresnel_unpolarised(*, angle, n_outside, n_inside):
@@ -148,8 +146,7 @@ def fresnel_unpolarised(*, angle, n_outside, n_inside):
     ----------
     .. [1] Born and Wolf, Principles of Optics, 7th ed., 1999, sec. 1.5.2, eqs. (20)-(21) and (35).
     """
-    n1 = check_range(float(n_outside), field="n_outside", unit="1", lo=0.0, lo_open=True, hi=10.0)
-    n2 = check_range(float(n_inside), field="n_inside", unit="1", lo=0.0, lo_open=True, hi=10.0)
+    n1, n2 = _indices(n_outside, n_inside)
     a = np.asarray(angle, dtype=float)
     if a.size and not (np.all(np.isfinite(a)) and a.min() >= 0.0 and a.max() <= math.pi / 2):
         bad = a[~(np.isfinite(a) & (a >= 0.0) & (a <= math.pi / 2))].flat[0]
@@ -177,8 +174,7 @@ def segment_normals(points):
     (theta, length, normal) : numpy.ndarray, shapes (N,), (N,), (N, 2)
         Tangent angles [rad], segment lengths [m], top-face normals [1].
     """
-    p = _check_points(points)
-    d = np.diff(p, axis=0)
+    d = np.diff(_check_points(points), axis=0)
     theta = np.arctan2(d[:, 1], d[:, 0])
     return theta, np.hypot(d[:, 0], d[:, 1]), np.column_stack((-np.sin(theta), np.cos(theta)))
 
@@ -205,9 +201,7 @@ def clamp_supports(points, *, height, depth=None):
     check_range(float(height), field="height", unit="m", lo=0.0, lo_open=True)
     if depth is not None:
         check_range(float(depth), field="depth", unit="m", lo=0.0, lo_open=True)
-    p0 = np.asarray(points, dtype=float)[0]
-    back = -np.array([math.cos(theta[0]), math.sin(theta[0])])
-    out = []
+    p0, back, out = np.asarray(points, dtype=float)[0], -np.array([math.cos(theta[0]), math.sin(theta[0])]), []
     for side in (1.0, -1.0):
         corner = p0 + side * height * normal[0]
         far = corner + back * (1.0 if depth is None else depth)
@@ -227,6 +221,11 @@ def _check_points(points):
         i = int(np.argmin(seg))
         raise ActsimInputError(f"points: segment {i} has length {seg[i]:g} m (allowed: > 0 m, distinct points)")
     return p
+
+
+def _indices(n_outside, n_inside):
+    return tuple(check_range(float(v), field=f, unit="1", lo=0.0, lo_open=True, hi=10.0)
+                 for v, f in ((n_outside, "n_outside"), (n_inside, "n_inside")))
 
 
 def _finite(value, field, unit):
@@ -302,8 +301,7 @@ def incidence(points, source, *, n_inside, n_outside=1.0, samples=5, supports=()
     """
     p = _check_points(points)
     src = _source_arrays(source)
-    n1 = check_range(float(n_outside), field="n_outside", unit="1", lo=0.0, lo_open=True, hi=10.0)
-    n2 = check_range(float(n_inside), field="n_inside", unit="1", lo=0.0, lo_open=True, hi=10.0)
+    n1, n2 = _indices(n_outside, n_inside)
     if isinstance(samples, bool) or int(samples) != samples:
         raise ActsimInputError(f"samples: {samples!r} is not allowed (an integer from 1 to {MAX_SAMPLES})")
     m = int(check_range(int(samples), field="samples", unit="1", lo=1, hi=MAX_SAMPLES))
@@ -447,24 +445,16 @@ def shade_kernel(p, kind, sx, sz, dx, dz, power, cos_half, n1, n2, m, oa, ob, or
     ----------
     p : numpy.ndarray, shape (N + 1, 2)
         Centre-line points [m].
-    kind : int
-        0 collimated, 1 point source.
-    sx, sz : float
-        Point source position [m] (unused for a beam).
-    dx, dz : float
-        Unit travel direction of a beam, or the axis of a point source's cone [1].
-    power : float
-        Irradiance of a beam [W m-2] or intensity of a point source [W sr-1].
-    cos_half : float
-        Cosine of the cone's half angle (-2: no cone) [1].
+    kind, m : int
+        0 collimated, 1 point source; sample points per segment.
+    sx, sz, dx, dz : float
+        Point source position [m] (unused for a beam); unit travel direction of a beam or cone axis [1].
+    power, cos_half : float
+        Beam irradiance [W m-2] or point source intensity [W sr-1]; cosine of the cone's half angle (-2: none) [1].
     n1, n2 : float
         Refractive indices outside and inside [1].
-    m : int
-        Sample points per segment.
-    oa, ob : numpy.ndarray, shape (K, 2)
-        Start and end of each support [m].
-    oray : numpy.ndarray of bool, shape (K,)
-        True: that support is a half-line from its start through its end.
+    oa, ob, oray : numpy.ndarray, shapes (K, 2), (K, 2), (K,)
+        Start and end of each support [m]; True (bool) where it is a half-line from its start through its end.
     out : numpy.ndarray, shape (5, N, 2)
         Filled with the fields of :class:`FaceLight` in order: [1], [1], [W m-2], [1], [1].
     """
