@@ -8,7 +8,7 @@ At a point Q with unit vector :math:`\\mathbf v` towards the source, a face of n
 .. math:: \\cos a = \\mathbf v \\cdot \\mathbf m, \\qquad
    E = E_0 \\cos a \\ \\text{(collimated)}, \\qquad E = \\frac{I \\cos a}{r^2} \\ \\text{(point source)}
 
-where :math:`\\cos a > 0` (light on that face's side), the point is inside the beam's cone, and the ray from Q to
+where :math:`\\cos a > 10^{-12}` (light on that face's side), the point is inside the beam's cone, and the ray from Q to
 the source crosses no other segment and no support (2-D segment intersection; the strip is a line, opaque).
 The light entering the film follows Fresnel's formulae for unpolarised light [1]_ and Snell's law; the path
 through the film is lengthened by :math:`1/\\cos a_t`, so a cell's optical depth becomes :math:`\\tau/\\cos a_t`.
@@ -302,7 +302,7 @@ def incidence(points, source, *, n_inside, n_outside=1.0, samples=5, supports=()
     p = _check_points(points)
     src = _source_arrays(source)
     n1, n2 = _indices(n_outside, n_inside)
-    if isinstance(samples, bool) or int(samples) != samples:
+    if isinstance(samples, (bool, float, str)) or not isinstance(samples, (int, np.integer)):
         raise ActsimInputError(f"samples: {samples!r} is not allowed (an integer from 1 to {MAX_SAMPLES})")
     m = int(check_range(int(samples), field="samples", unit="1", lo=1, hi=MAX_SAMPLES))
     oa, ob, oray = _obstacle_arrays(supports)

@@ -329,6 +329,8 @@ def test_numba_kernel_equals_numpy_form(turns, lengths, kind, angle, pos, sample
     (lambda p: incidence(p, (0, -1), n_inside=1.5), "source"),
     (lambda p: incidence(p, beam(0, -1), n_inside=-1.5), "n_inside"),
     (lambda p: incidence(p, beam(0, -1), n_inside=1.5, samples=0), "samples"),
+    (lambda p: incidence(p, beam(0, -1), n_inside=1.5, samples=2.5), "samples"),
+    (lambda p: incidence(p, PointSource((0, math.inf), 1.0), n_inside=1.5), "source.position"),
     (lambda p: incidence(p, beam(0, -1), n_inside=1.5, method="fast"), "method"),
     (lambda p: incidence(p, beam(0, -1), n_inside=1.5, supports=[Support((0, 0), (0, 0))]), "supports[0]"),
     (lambda p: fresnel_unpolarised(angle=2.0, n_outside=1.0, n_inside=1.5), "angle"),
