@@ -33,6 +33,7 @@ MODULES = (
     "actsim.order",
     "actsim.polarised",
     "actsim.laminate",
+    "actsim.shading",
     "actsim.grid",
     "actsim.schedule",
     "actsim.reference",
