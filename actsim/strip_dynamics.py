@@ -132,6 +132,11 @@ class StripParams:
     gauss_b: np.ndarray
     gauss_seg: np.ndarray
 
+    @property
+    def loaded(self) -> bool:
+        """Whether gravity, a tip force or a tip moment acts (bool)."""
+        return bool(np.any(self.gravity != 0.0) or np.any(self.tip_force != 0.0) or self.tip_moment != 0.0)
+
 
 def _number(value, name, unit, lo=None, lo_open=False):
     try:
@@ -304,7 +309,9 @@ def _kappa0(params, kappa0):
 
 
 def _turning(theta):
-    return np.diff(theta, prepend=0.0)
+    out = theta.copy()
+    out[1:] -= theta[:-1]
+    return out
 
 
 def _dt_m(m):
@@ -551,10 +558,13 @@ def _forces(params, theta, omega, kappa0):
     c, s = np.cos(d), np.sin(d)
     w = params.hinge_weight
     m = params.bending_stiffness * (_turning(theta) / w - kappa0 + params.kv_time * _turning(omega) / w)
-    q, _ = _conservative(params, theta)
-    vn, f, W, _ = _drag(params, c, s, omega)
-    S = params.mu_ds2 * s
-    return -_dt_m(m) + q + 0.5 * params.ds * (W.T @ f) - S @ (omega * omega), c, s
+    out = -_dt_m(m) - (params.mu_ds2 * s) @ (omega * omega)
+    if params.loaded:
+        out += _conservative(params, theta)[0]
+    if params.drag_linear > 0.0 or params.drag_quadratic > 0.0:
+        _, f, W, _ = _drag(params, c, s, omega)
+        out += 0.5 * params.ds * (W.T @ f)
+    return out, c, s
 
 
 def generalised_acceleration(params, theta, omega, kappa0):
@@ -582,11 +592,9 @@ def generalised_acceleration(params, theta, omega, kappa0):
 
         M(\\theta)\\ddot\\theta = -D^T m - S(\\theta)\\dot\\theta^2 + Q_g + Q_F + Q_d
     """
-    from scipy.linalg import solve
-
     th = np.asarray(theta, dtype=float)
     F, c, _ = _forces(params, th, np.asarray(omega, dtype=float), _kappa0(params, kappa0))
-    return solve(params.mu_ds2 * c + np.diag(params.seg_inertia), F, assume_a="pos")
+    return np.linalg.solve(params.mu_ds2 * c + np.diag(params.seg_inertia), F)
 
 
 def strip_jacobian(params, theta, omega, kappa0):
@@ -747,9 +755,8 @@ def static_shape(params, kappa0, *, tol=1e-12, max_iter=50):
     theta = np.cumsum(params.hinge_weight * k0)
     K = stiffness_matrix(params)
     rhs0 = _dt_m(params.bending_stiffness * k0)
-    loaded = np.any(params.gravity != 0.0) or np.any(params.tip_force != 0.0) or params.tip_moment != 0.0
     lam, step = 0.0, 1.0
-    while loaded and lam < 1.0:
+    while params.loaded and lam < 1.0:
         target = min(1.0, lam + step)
         th = theta.copy()
         ok = False
