@@ -289,7 +289,7 @@ def hinge_positions(params):
     Parameters
     ----------
     params : StripParams
-        The strip (SI by construction).
+        The strip (a parameter object, unitless; SI inside).
 
     Returns
     -------
@@ -330,7 +330,7 @@ def mass_matrix(params, theta):
     Parameters
     ----------
     params : StripParams
-        The strip (SI by construction).
+        The strip (a parameter object, unitless; SI inside).
     theta : array_like
         Segment angles [rad], shape (N,).
 
@@ -349,7 +349,7 @@ def stiffness_matrix(params, *, kv=False):
     Parameters
     ----------
     params : StripParams
-        The strip (SI by construction).
+        The strip (a parameter object, unitless; SI inside).
     kv : bool, optional
         True: the damping matrix D^T diag(eta_s EI/w) D [N m s] instead.
 
@@ -428,7 +428,7 @@ def kinetic_energy(params, theta, omega):
     Parameters
     ----------
     params : StripParams
-        The strip (SI by construction).
+        The strip (a parameter object, unitless; SI inside).
     theta : array_like
         Segment angles [rad], shape (N,).
     omega : array_like
@@ -449,7 +449,7 @@ def elastic_energy(params, theta, kappa0):
     Parameters
     ----------
     params : StripParams
-        The strip (SI by construction).
+        The strip (a parameter object, unitless; SI inside).
     theta : array_like
         Segment angles [rad], shape (N,).
     kappa0 : float or array_like
@@ -481,7 +481,7 @@ def dissipation_rate(params, theta, omega):
     Parameters
     ----------
     params : StripParams
-        The strip (SI by construction).
+        The strip (a parameter object, unitless; SI inside).
     theta : array_like
         Segment angles [rad], shape (N,).
     omega : array_like
@@ -513,9 +513,9 @@ def dissipated_energy(params, sol, t_end=None):
     Parameters
     ----------
     params : StripParams
-        The strip (SI by construction).
+        The strip (a parameter object, unitless; SI inside).
     sol : scipy.integrate OdeResult
-        Result of :func:`integrate_strip` with ``dense_output=True`` (a result object, SI).
+        Result of :func:`integrate_strip` with ``dense_output=True`` (a result object, unitless; SI inside).
     t_end : float, optional
         End time [s]; default the last time of ``sol``.
 
@@ -573,7 +573,7 @@ def generalised_acceleration(params, theta, omega, kappa0):
     Parameters
     ----------
     params : StripParams
-        The strip (SI by construction).
+        The strip (a parameter object, unitless; SI inside).
     theta : array_like
         Segment angles [rad], shape (N,).
     omega : array_like
@@ -603,7 +603,7 @@ def strip_jacobian(params, theta, omega, kappa0):
     Parameters
     ----------
     params : StripParams
-        The strip (SI by construction).
+        The strip (a parameter object, unitless; SI inside).
     theta : array_like
         Segment angles [rad], shape (N,).
     omega : array_like
@@ -660,7 +660,7 @@ def integrate_strip(params, kappa0_of_t, t_span, y0, *, rtol=1e-6, atol=1e-9, me
     Parameters
     ----------
     params : StripParams
-        The strip (SI by construction).
+        The strip (a parameter object, unitless; SI inside).
     kappa0_of_t : float, array_like or callable
         Natural curvature at the hinges [1/m]: a constant, or ``kappa0_of_t(t)`` of time [s]
         returning a number or N values.
@@ -729,7 +729,7 @@ def static_shape(params, kappa0, *, tol=1e-12, max_iter=50):
     Parameters
     ----------
     params : StripParams
-        The strip (SI by construction); its gravity, tip force and tip moment load it.
+        The strip (a parameter object, unitless; SI inside); its gravity, tip force and tip moment load it.
     kappa0 : float or array_like
         Natural curvature at the hinges [1/m].
     tol : float, optional
@@ -784,7 +784,7 @@ def natural_frequencies(params, n_modes, *, theta=None):
     Parameters
     ----------
     params : StripParams
-        The strip (SI by construction).
+        The strip (a parameter object, unitless; SI inside).
     n_modes : int
         Number of modes, 1 .. N (int).
     theta : array_like, optional
