@@ -1,33 +1,19 @@
 """A cantilever strip resolved along its length: inertia, damping and large rotations (planar).
 
-The strip of free length ``L`` is clamped at ``s = 0`` with its tangent along +x and bends in the
-(x, z) plane (z is the thickness direction of the layered-beam model; the y of
-:mod:`actsim.elastica`), so a positive natural curvature turns the tip toward +z. It is cut into
-``N`` rigid, inextensible segments of length ``ds = L/N``; the generalised coordinates are the
-segments' tangent angles ``theta_i`` from +x (counter-clockwise positive), the state is
-``y = (theta, theta_dot)``. Hinge ``j`` (``j = 0 .. N-1``) sits at ``s_j = j ds``: hinge 0 is the
-clamp (the ghost angle ``theta_{-1} = 0``), and the free tip carries no moment. The discrete
-curvature at hinge ``j`` is the turning angle over the hinge's share of the length,
+Clamped at ``s = 0`` with its tangent along +x, the strip bends in the (x, z) plane (z: thickness
+direction, the y of :mod:`actsim.elastica`; kappa > 0 turns the tip toward +z). It is cut into N rigid,
+inextensible segments of length ``ds = L/N``; the coordinates are the segment angles ``theta_i`` and
+the state is ``y = (theta, theta_dot)``. Hinge ``j`` sits at ``s_j = j ds`` (hinge 0: the clamp), with
+the curvature ``kappa_j = (theta_j - theta_{j-1}) / w_j`` (``w_0 = ds/2``, else ``ds``). Lagrange's
+equations (derived in docs/models.md, "Strip dynamics along the length"):
 
 .. math::
 
-    \\kappa_j = \\frac{\\theta_j - \\theta_{j-1}}{w_j}, \\qquad w_0 = ds/2,\\; w_{j>0} = ds ,
+    M(\\theta)\\ddot\\theta + S(\\theta)\\dot\\theta^2 = -D^T m + Q_g + Q_F + Q_d, \\qquad
+    m_j = EI_j(\\kappa_j - \\kappa_{0,j} + \\eta_s \\dot\\kappa_j),
 
-so the uniform natural curvature gives the polygon inscribed in the circular arc. Equations of
-motion, from Lagrange's equations with the kinetic energy of the rigid segments, the elastic energy
-:math:`\\tfrac12\\sum_j w_j EI_j(\\kappa_j-\\kappa_{0,j})^2`, the Kelvin–Voigt dissipation function
-and the generalised forces of air drag, gravity and a tip load (derivation in docs/models.md,
-"Strip dynamics along the length"):
-
-.. math::
-
-    M(\\theta)\\,\\ddot\\theta + S(\\theta)\\,\\dot\\theta^2
-      = -D^T m + Q_g(\\theta) + Q_F(\\theta) + Q_d(\\theta, \\dot\\theta), \\qquad
-    m_j = EI_j(\\kappa_j - \\kappa_{0,j}) + \\eta_s EI_j \\dot\\kappa_j ,
-
-with ``M_kl = ds^2 mu_kl cos(theta_k - theta_l) + J_k delta_kl`` and
-``S_kl = ds^2 mu_kl sin(theta_k - theta_l)``. All functions take and return SI values
-(m, s, kg, N, rad).
+``M_kl = ds^2 mu_kl cos(theta_k - theta_l) + J_k delta_kl``, ``S_kl = ds^2 mu_kl sin(theta_k - theta_l)``.
+SI throughout (m, s, kg, N, rad).
 
 References
 ----------
@@ -84,33 +70,11 @@ _GAUSS = (0.5 - 0.5 / math.sqrt(3.0), 0.5 + 0.5 / math.sqrt(3.0))  # 2-point Gau
 
 @dataclass(frozen=True, eq=False)
 class StripParams:
-    """Discrete strip (build with :func:`strip_params`; all SI).
-
-    Attributes
-    ----------
-    length : float
-        Free length L [m].
-    n_segments : int
-        Number of rigid segments N [-].
-    ds : float
-        Segment length L/N [m].
-    bending_stiffness : ndarray
-        EI at the hinges s_j = j ds [N m^2], shape (N,).
-    mass_per_length : ndarray
-        rho_A of each segment [kg/m], shape (N,).
-    rotary_inertia : ndarray
-        rho_I, cross-section rotary inertia per length of each segment [kg m], shape (N,).
-    kv_time : ndarray
-        Kelvin–Voigt time eta_s at the hinges [s], shape (N,).
-    drag_linear, drag_quadratic : float
-        c_lin [N s/m^2] and c_quad [kg/m^2] of the normal air drag.
-    gravity, tip_force : ndarray
-        Gravity (g_x, g_z) [m/s^2] and dead tip force (F_x, F_z) [N].
-    tip_moment : float
-        Tip moment, counter-clockwise positive [N m].
-    hinge_weight, mu_ds2, seg_inertia, grav_lever, gauss_b, gauss_seg : ndarray
-        Derived: w_j [m]; ds^2 mu_kl [kg m^2]; J_k [kg m^2]; m_k/2 + (mass beyond k) [kg];
-        Gauss-point lever fractions (2N, N) [-] and their segment index [-].
+    """Discrete strip, built by :func:`strip_params` (SI; see its parameters). Per-hinge arrays
+    (``bending_stiffness``, ``kv_time``, ``hinge_weight`` w_j) and per-segment arrays
+    (``mass_per_length``, ``rotary_inertia``, ``seg_inertia`` J_k, ``grav_lever`` m_k/2 + mass beyond k)
+    have shape (N,); ``mu_ds2`` is ds^2 mu (N, N) [kg m^2]; ``gauss_b`` (2N, N) holds the lever fractions
+    of the 2 Gauss points per segment, ``gauss_seg`` their segment.
     """
 
     length: float
