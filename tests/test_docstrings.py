@@ -34,6 +34,7 @@ MODULES = (
     "actsim.polarised",
     "actsim.laminate",
     "actsim.shading",
+    "actsim.strip_dynamics",
     "actsim.grid",
     "actsim.schedule",
     "actsim.reference",
