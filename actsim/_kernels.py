@@ -1,7 +1,7 @@
 """The hot loop: one design marched through its protocol in one numba call.
 
 The loop only orders the stages; every piece of arithmetic is a stage's own
-kernel step: :func:`actsim.optics.light_pass`, :func:`actsim.kinetics.rates`
+kernel step: :func:`actsim.optics.light_stage` (the light pass), :func:`actsim.kinetics.rates`
 and :func:`actsim.kinetics.exact_update`, :func:`actsim.thermal.heat_source`
 and the conduction steps, :func:`actsim.material.material_state` and
 :func:`actsim.material.network_strain_update`, the viscoelastic steps
@@ -27,7 +27,7 @@ from .kinetics import exact_update, rates
 from .material import (hyper_state, material_state, mechanical_strain, network_strain_update, viscoelastic_accept,
                        viscoelastic_error, viscoelastic_state, viscoelastic_strain)
 from .mechanics import section_solve, section_solve_centred, section_solve_hyper
-from .optics import light_pass
+from .optics import light_stage
 #: Step-size control (Hairer, Nørsett and Wanner, Solving ODEs I, 2nd ed., 1993, sec. II.4): safety factor, largest
 #: and smallest change of the step, the error exponent 1/(q+1) with q = 1 the order of the embedded (predictor) step.
 STEP_SAFETY = 0.9
@@ -211,7 +211,7 @@ def run_design(grid, light, photo, heat, mat, sched, out):
     rise above ``heat.T_ref`` (the stages see the absolute temperature), so
     the stored heat is not rounded at 293 K every step. With liquid-crystal
     layers every light pass is the dichroic, polarised one at the order
-    Q(x, T) of each cell (:func:`actsim.optics.light_pass`), the rates take
+    Q(x, T) of each cell (:func:`actsim.optics.light_stage`), the rates take
     each species' weighted flux, and the material step adds the order strain;
     the light at a predicted conversion takes the temperature at the start of
     the step. ``out.energy`` holds
@@ -342,7 +342,7 @@ def run_design(grid, light, photo, heat, mat, sched, out):
     if has_hyper:
         r = hyper_solve(z_edges, x, T, S, mat, T_ref, E, Ee, hs, sched.step_hold[s0], sched.step_value[s0], r)
     mech[0], mech[1], mech[2], mech[3] = r[0], r[1], r[2], r[3]
-    tr = light_pass(x, T, dz, light, q, mf, ab, fa, fb)
+    tr = light_stage(x, T, dz, light, q, mf, ab, fa, fb)
     record(0, x, T, S, E, Ee, mech, dz, mf, ab, light.beam_emol, q, light.entry, tr, out)
     # mf and ab hold the light at the current x under protocol step `light_of` (-1: not current). The light at
     # the end of a segment, computed for the output record, is the first stage of the next step when the light
@@ -367,7 +367,7 @@ def run_design(grid, light, photo, heat, mat, sched, out):
             # a new protocol step (light, ambient or hold switched): start from a step the fastest
             # photoreaction allows, sqrt(tol) / max(k_f + k_b), or the previous step if smaller
             if light_of != st:
-                light_pass(x, T, dz, light, q, mf, ab, fa, fb)
+                light_stage(x, T, dz, light, q, mf, ab, fa, fb)
                 light_of = st
             rates(mf, fa, fb, light, photo, T, T_ref, kf0, kb0)
             k_max = 0.0
@@ -422,23 +422,23 @@ def run_design(grid, light, photo, heat, mat, sched, out):
                 # error-controlled, one-way reaction, no heat, no light network: the rates at four stages averaged
                 # with RK4's weights in the exact update -- classical RK4 in ln(x_max - x), so fourth order
                 if light_of != st:
-                    light_pass(x, T, dz, light, q, mf, ab, fa, fb)
+                    light_stage(x, T, dz, light, q, mf, ab, fa, fb)
                 rates(mf, fa, fb, light, photo, T, T_ref, kf0, kb0)
                 exact_update(x, kf0, kb0, 0.5 * dt, x_pred)
                 light_of = -1
-                light_pass(x_pred, T, dz, light, q, mf, ab, fa, fb)
+                light_stage(x_pred, T, dz, light, q, mf, ab, fa, fb)
                 rates(mf, fa, fb, light, photo, T, T_ref, kf1, kb1)
                 for i in range(n_cell):
                     kf_sum[i] = kf0[i] + 2.0 * kf1[i]
                     kb_sum[i] = kb0[i] + 2.0 * kb1[i]
                 exact_update(x, kf1, kb1, 0.5 * dt, x_pred)
-                light_pass(x_pred, T, dz, light, q, mf, ab, fa, fb)
+                light_stage(x_pred, T, dz, light, q, mf, ab, fa, fb)
                 rates(mf, fa, fb, light, photo, T, T_ref, kf1, kb1)
                 for i in range(n_cell):
                     kf_sum[i] += 2.0 * kf1[i]
                     kb_sum[i] += 2.0 * kb1[i]
                 exact_update(x, kf1, kb1, dt, x_pred)
-                light_pass(x_pred, T, dz, light, q, mf, ab, fa, fb)
+                light_stage(x_pred, T, dz, light, q, mf, ab, fa, fb)
                 rates(mf, fa, fb, light, photo, T, T_ref, kf1, kb1)
                 for i in range(n_cell):
                     kf_sum[i] = (kf_sum[i] + kf1[i]) / 6.0
@@ -457,14 +457,14 @@ def run_design(grid, light, photo, heat, mat, sched, out):
             else:
                 # light and rates at the start of the step
                 if light_of != st:
-                    light_pass(x, T, dz, light, q, mf, ab, fa, fb)
+                    light_stage(x, T, dz, light, q, mf, ab, fa, fb)
                 rates(mf, fa, fb, light, photo, T, T_ref, kf0, kb0)
                 light_of = -1
                 if heat_mode != HEAT_OFF:
                     heat_source(ab, light.beam_emol, dz, heat.heat_frac, q0)
                 exact_update(x, kf0, kb0, dt, x_pred)
                 # light at the predicted conversion
-                light_pass(x_pred, T, dz, light, q, mf, ab, fa, fb)
+                light_stage(x_pred, T, dz, light, q, mf, ab, fa, fb)
                 lb = 0.0
                 lt = 0.0
                 d_in = 0.0
@@ -587,7 +587,7 @@ def run_design(grid, light, photo, heat, mat, sched, out):
         if has_hyper:
             r = hyper_solve(z_edges, x, T, S, mat, T_ref, E, Ee, hs, hold, value, r)
         mech[0], mech[1], mech[2], mech[3] = r[0], r[1], r[2], r[3]
-        tr = light_pass(x, T, dz, light, q, mf, ab, fa, fb)
+        tr = light_stage(x, T, dz, light, q, mf, ab, fa, fb)
         light_of = st
         record(s + 1, x, T, S, E, Ee, mech, dz, mf, ab, light.beam_emol, q, light.entry, tr, out)
         out.energy[s + 1, 0] = e_in

@@ -37,7 +37,7 @@ from numba import njit
 from scipy.constants import R as _R
 
 from .errors import ActsimInputError
-from .optics import LN10
+from .optics import LN10, species_fluxes
 from .units import check_range, finite_array, scalar_or_array
 
 #: Molar gas constant [J mol-1 K-1] (CODATA, via scipy.constants).
@@ -245,8 +245,9 @@ def rates(mean_flux, flux_a, flux_b, light, photo, T, T_ref, k_f, k_b):
     mean_flux : numpy.ndarray, shape (n_cell, n_beam)
         Cell-mean photon flux [mol m-2 s-1].
     flux_a, flux_b : numpy.ndarray, shape (n_cell, n_beam)
-        With ``light.polarised``: the flux each species sees, weighted by its dichroic absorption factor
-        (:func:`actsim.polarised.polarised_light_pass`) [mol m-2 s-1]; not read otherwise.
+        With a :class:`actsim.optics.PolarisedLightParams`: the flux each species sees, weighted by its
+        dichroic absorption factor (:func:`actsim.polarised.polarised_light_pass`) [mol m-2 s-1]; not read
+        otherwise (:func:`actsim.optics.species_fluxes`).
     light : actsim.optics.LightParams
         Absorptivities.
     photo : actsim.kinetics.PhotoParams
@@ -259,8 +260,7 @@ def rates(mean_flux, flux_a, flux_b, light, photo, T, T_ref, k_f, k_b):
         Outputs [s-1].
     """
     n_cell, n_beam = light.eps_a.shape
-    fa = flux_a if light.polarised else mean_flux
-    fb = flux_b if light.polarised else mean_flux
+    fa, fb = species_fluxes(light, mean_flux, flux_a, flux_b)
     for i in range(n_cell):
         sf = 0.0
         sb = 0.0

@@ -254,8 +254,11 @@ def plate_outputs(scenario, p, *, conversion, temperature, modulus, step_of_time
                ribbon_twist_rate=tc,
                ribbon_helix_radius=radius, ribbon_helix_pitch=pitch, ribbon_width_parameter=wp)
     light = p.light
-    polarised = [b for b in range(light.pol_beam.size) if light.pol_beam[b]]
-    if polarised and light.polarised:
+    from .optics import PolarisedLightParams
+
+    dichroic = isinstance(light, PolarisedLightParams)
+    polarised = [b for b in range(light.pol_beam.size) if light.pol_beam[b]] if dichroic else []
+    if polarised:
         from .polarised import transmitted_polarisation
 
         src = light.beam_source[polarised[0]]

@@ -27,6 +27,7 @@ from typing import NamedTuple
 
 import numpy as np
 from numba import njit
+from numba.extending import overload
 
 from .errors import ActsimInputError
 
@@ -59,24 +60,6 @@ class LightParams(NamedTuple):
         [m].
     beam_fraction : numpy.ndarray, shape (n_beam,)
         Fraction of its source's irradiance the beam carries [1].
-    polarised : bool
-        True when a liquid-crystal layer absorbs or is birefringent: :func:`light_pass` then takes the
-        dichroic, polarised pass (:func:`actsim.polarised.polarised_light_pass`) and fills the species-weighted
-        fluxes. The ``pol_*`` fields are the fields of :class:`actsim.polarised.PolarParams`, kept flat.
-    pol_director_angle, pol_director_tilt : numpy.ndarray, shape (n_cell,)
-        Director's angle from the strip axis in the plane and its tilt out of the plane [rad].
-    pol_birefringence, pol_order_reference, pol_refractive_index : numpy.ndarray, shape (n_cell,)
-        n_e - n_o at the order Q_ref, Q_ref, n_o [1].
-    pol_order_factor_a, pol_order_factor_b, pol_ratio_a, pol_ratio_b : numpy.ndarray, shape (n_cell,)
-        Each species' order as a share of Q, and its absorption across over along its transition moment [1].
-    pol_beam : numpy.ndarray of bool, shape (n_beam,)
-        Linearly polarised beams.
-    pol_beam_angle : numpy.ndarray, shape (n_beam,)
-        Angle of their electric field from the strip axis [rad].
-    order_law, order_par, order_t, order_q
-        The order law of every cell, as :class:`actsim.material.MaterialParams` holds it.
-    order_now : numpy.ndarray, shape (n_cell,)
-        Scratch: the order parameter at the state of the latest light pass [1].
     """
 
     c0: np.ndarray
@@ -89,48 +72,41 @@ class LightParams(NamedTuple):
     beam_source: np.ndarray
     beam_wavelength: np.ndarray
     beam_fraction: np.ndarray
-    polarised: bool
-    pol_director_angle: np.ndarray
-    pol_director_tilt: np.ndarray
-    pol_birefringence: np.ndarray
-    pol_order_reference: np.ndarray
-    pol_refractive_index: np.ndarray
-    pol_order_factor_a: np.ndarray
-    pol_order_factor_b: np.ndarray
-    pol_ratio_a: np.ndarray
-    pol_ratio_b: np.ndarray
-    pol_beam: np.ndarray
-    pol_beam_angle: np.ndarray
-    order_law: np.ndarray
-    order_par: np.ndarray
-    order_t: np.ndarray
-    order_q: np.ndarray
-    order_now: np.ndarray
 
 
-def isotropic_fields(n_cell: int, n_beam: int) -> dict:
-    """The liquid-crystal fields of a :class:`LightParams` for isotropic cells and unpolarised beams.
+#: What a design with liquid-crystal layers that absorb (or are birefringent) adds to :class:`LightParams`.
+POLARISED_FIELDS = (
+    ("pol_director_angle", np.ndarray), ("pol_director_tilt", np.ndarray), ("pol_birefringence", np.ndarray),
+    ("pol_order_reference", np.ndarray), ("pol_refractive_index", np.ndarray), ("pol_order_factor_a", np.ndarray),
+    ("pol_order_factor_b", np.ndarray), ("pol_ratio_a", np.ndarray), ("pol_ratio_b", np.ndarray),
+    ("pol_beam", np.ndarray), ("pol_beam_angle", np.ndarray), ("order_law", np.ndarray), ("order_par", np.ndarray),
+    ("order_t", np.ndarray), ("order_q", np.ndarray), ("order_now", np.ndarray))
 
-    For building a LightParams by hand: ``LightParams(c0=..., ..., **isotropic_fields(n_cell, n_beam))``;
-    :func:`light_pass` then takes the plain Beer–Lambert pass.
+PolarisedLightParams = NamedTuple("PolarisedLightParams", [*LightParams.__annotations__.items(), *POLARISED_FIELDS])
+PolarisedLightParams.__doc__ = """:class:`LightParams` of a design whose liquid-crystal layers absorb or are birefringent, SI.
 
-    Parameters
+    Its own class, so that the kernel is compiled apart for it: :func:`light_stage` and :func:`species_fluxes`
+    choose the dichroic pass at compile time, and the plain Beer–Lambert pass of every other design stays as it
+    was. The fields of :class:`LightParams`, then (the ``pol_*`` ones are those of
+    :class:`actsim.polarised.PolarParams`, kept flat):
+
+    Attributes
     ----------
-    n_cell, n_beam : int
-        Numbers of cells and beams.
-
-    Returns
-    -------
-    dict
-        The ``polarised``, ``pol_*`` and ``order_*`` fields.
+    pol_director_angle, pol_director_tilt : numpy.ndarray, shape (n_cell,)
+        Director's angle from the strip axis in the plane and its tilt out of the plane [rad].
+    pol_birefringence, pol_order_reference, pol_refractive_index : numpy.ndarray, shape (n_cell,)
+        n_e - n_o at the order Q_ref, Q_ref, n_o [1].
+    pol_order_factor_a, pol_order_factor_b, pol_ratio_a, pol_ratio_b : numpy.ndarray, shape (n_cell,)
+        Each species' order as a share of Q, and its absorption across over along its transition moment [1].
+    pol_beam : numpy.ndarray of bool, shape (n_beam,)
+        Linearly polarised beams.
+    pol_beam_angle : numpy.ndarray, shape (n_beam,)
+        Angle of their electric field from the strip axis [rad].
+    order_law, order_par, order_t, order_q : numpy.ndarray
+        The order law of every cell, as :class:`actsim.material.MaterialParams` holds it.
+    order_now : numpy.ndarray, shape (n_cell,)
+        Scratch: the order parameter at the state of the latest light pass [1].
     """
-    return dict(polarised=False, pol_director_angle=np.zeros(n_cell), pol_director_tilt=np.zeros(n_cell),
-                pol_birefringence=np.zeros(n_cell), pol_order_reference=np.ones(n_cell),
-                pol_refractive_index=np.ones(n_cell), pol_order_factor_a=np.zeros(n_cell),
-                pol_order_factor_b=np.zeros(n_cell), pol_ratio_a=np.zeros(n_cell), pol_ratio_b=np.zeros(n_cell),
-                pol_beam=np.zeros(n_beam, np.bool_), pol_beam_angle=np.zeros(n_beam), order_law=np.zeros(n_cell, np.int64),
-                order_par=np.ones((n_cell, 4)), order_t=np.array([0.0, 1.0]), order_q=np.array([1.0, 0.0]),
-                order_now=np.zeros(n_cell))
 
 
 def light_params(scenario, grid) -> LightParams:
@@ -197,12 +173,14 @@ def light_params(scenario, grid) -> LightParams:
             )
     from .liquid_crystal import cell_params, has_polarised_light
 
+    plain = LightParams(c0=c0, eps_a=eps_a, eps_b=eps_b, alpha_bg=alpha_bg, from_top=from_top, entry=entry,
+                        beam_emol=molar_photon_energy(beam_wl) if n_beam else np.zeros(0), beam_source=beam_source,
+                        beam_wavelength=beam_wl, beam_fraction=beam_frac)
+    if not (has_polarised_light(scenario) and n_beam > 0):
+        return plain
     lc = cell_params(scenario, grid)
     pol_angle = [scenario.sources[s].polarisation for s in beam_source]
-    return LightParams(c0=c0, eps_a=eps_a, eps_b=eps_b, alpha_bg=alpha_bg, from_top=from_top, entry=entry,
-                       beam_emol=molar_photon_energy(beam_wl) if n_beam else np.zeros(0), beam_source=beam_source,
-                       beam_wavelength=beam_wl, beam_fraction=beam_frac,
-                       polarised=bool(has_polarised_light(scenario)) and n_beam > 0,
+    return PolarisedLightParams(*plain,
                        pol_director_angle=lc["phi"], pol_director_tilt=lc["tilt"],
                        pol_birefringence=lc["birefringence"],
                        pol_order_reference=np.where(lc["lc_kind"] > 0, lc["order_par"][:, 3], 1.0),
@@ -216,19 +194,13 @@ def light_params(scenario, grid) -> LightParams:
 
 
 @njit(cache=True)
-def light_pass(x, T, dz, light, q_surface, mean_flux, absorbed, flux_a, flux_b):
+def light_pass(x, dz, light, q_surface, mean_flux, absorbed):
     """Kernel step of :func:`light_field`: fill ``mean_flux`` and ``absorbed`` (n_cell, n_beam) in place.
-
-    With ``light.polarised`` the pass is the dichroic one of :func:`actsim.polarised.polarised_light_pass`
-    at the order parameter Q(x, T) of every cell (:func:`actsim.order.order_nb`), which also fills the
-    species-weighted fluxes ``flux_a`` and ``flux_b``; otherwise those are not touched.
 
     Parameters
     ----------
     x : numpy.ndarray, shape (n_cell,)
         Conversion [1].
-    T : numpy.ndarray, shape (n_cell,)
-        Temperature [K] (read only with ``light.polarised``).
     dz : numpy.ndarray, shape (n_cell,)
         Cell widths [m].
     light : actsim.optics.LightParams
@@ -237,24 +209,12 @@ def light_pass(x, T, dz, light, q_surface, mean_flux, absorbed, flux_a, flux_b):
         Incident photon flux of each beam before reflection [mol m-2 s-1].
     mean_flux, absorbed : numpy.ndarray, shape (n_cell, n_beam)
         Outputs [mol m-2 s-1].
-    flux_a, flux_b : numpy.ndarray, shape (n_cell, n_beam)
-        Outputs with ``light.polarised``: the flux each species sees [mol m-2 s-1].
 
     Returns
     -------
     float
         Photon flux leaving through the far faces, summed over beams [mol m-2 s-1].
     """
-    if light.polarised:
-        q = light.order_now
-        for i in range(x.size):
-            q[i] = order_nb(x[i], T[i], light.order_law[i], light.order_par[i, 0], light.order_par[i, 1],
-                            light.order_par[i, 2], light.order_t, light.order_q)
-        pol = PolarParams(light.pol_director_angle, light.pol_director_tilt, light.pol_birefringence,
-                          light.pol_order_reference, light.pol_refractive_index, light.pol_order_factor_a,
-                          light.pol_order_factor_b, light.pol_ratio_a, light.pol_ratio_b, light.pol_beam,
-                          light.pol_beam_angle)
-        return polarised_light_pass(x, q, dz, light, pol, q_surface, mean_flux, absorbed, flux_a, flux_b)
     n_cell, n_beam = light.eps_a.shape
     transmitted = 0.0
     for b in range(n_beam):
@@ -400,6 +360,84 @@ def light_field(*, alpha, dz, surface_flux, entry_transmission, from_top):
             alpha=alpha[:, b], dz=dz, flux_in=surface_flux[b] * entry_transmission[b], from_top=bool(from_top[b])
         )
     return mean_flux, absorbed, transmitted
+
+
+def light_stage(x, T, dz, light, q_surface, mean_flux, absorbed, flux_a, flux_b):
+    """The light pass of the kernel, chosen by the type of ``light`` when numba compiles it (numba only).
+
+    A :class:`LightParams` takes :func:`light_pass` (``T``, ``flux_a`` and ``flux_b`` untouched); a
+    :class:`PolarisedLightParams` the dichroic pass of :func:`actsim.polarised.polarised_light_pass` at the
+    order Q(x, T) of every cell (:func:`actsim.order.order_nb`), which also fills the species-weighted fluxes.
+
+    Parameters
+    ----------
+    x, T : numpy.ndarray, shape (n_cell,)
+        Conversion [1] and temperature [K].
+    dz : numpy.ndarray, shape (n_cell,)
+        Cell widths [m].
+    light : LightParams or PolarisedLightParams
+        The design's optics parameters.
+    q_surface : numpy.ndarray, shape (n_beam,)
+        Incident photon flux of each beam before reflection [mol m-2 s-1].
+    mean_flux, absorbed, flux_a, flux_b : numpy.ndarray, shape (n_cell, n_beam)
+        Outputs [mol m-2 s-1].
+
+    Returns
+    -------
+    float
+        Photon flux leaving through the far faces, summed over beams [mol m-2 s-1].
+    """
+    raise NotImplementedError("light_stage is only callable from numba-compiled code")
+
+
+def species_fluxes(light, mean_flux, flux_a, flux_b):
+    """The flux the reactant and the product see: ``(flux_a, flux_b)`` for a :class:`PolarisedLightParams`,
+    ``(mean_flux, mean_flux)`` otherwise, chosen when numba compiles (numba only).
+
+    Parameters
+    ----------
+    light : LightParams or PolarisedLightParams
+        The design's optics parameters.
+    mean_flux, flux_a, flux_b : numpy.ndarray, shape (n_cell, n_beam)
+        Cell-mean and species-weighted photon fluxes [mol m-2 s-1].
+
+    Returns
+    -------
+    tuple of numpy.ndarray
+        The reactant's and the product's flux.
+    """
+    raise NotImplementedError("species_fluxes is only callable from numba-compiled code")
+
+
+def _polarised(light) -> bool:
+    return getattr(light, "instance_class", None) is PolarisedLightParams
+
+
+@overload(light_stage)
+def _light_stage_impl(x, T, dz, light, q_surface, mean_flux, absorbed, flux_a, flux_b):
+    if not _polarised(light):
+        def plain(x, T, dz, light, q_surface, mean_flux, absorbed, flux_a, flux_b):
+            return light_pass(x, dz, light, q_surface, mean_flux, absorbed)
+        return plain
+
+    def dichroic(x, T, dz, light, q_surface, mean_flux, absorbed, flux_a, flux_b):
+        q = light.order_now
+        for i in range(x.size):
+            q[i] = order_nb(x[i], T[i], light.order_law[i], light.order_par[i, 0], light.order_par[i, 1],
+                            light.order_par[i, 2], light.order_t, light.order_q)
+        pol = PolarParams(light.pol_director_angle, light.pol_director_tilt, light.pol_birefringence,
+                          light.pol_order_reference, light.pol_refractive_index, light.pol_order_factor_a,
+                          light.pol_order_factor_b, light.pol_ratio_a, light.pol_ratio_b, light.pol_beam,
+                          light.pol_beam_angle)
+        return polarised_light_pass(x, q, dz, light, pol, q_surface, mean_flux, absorbed, flux_a, flux_b)
+    return dichroic
+
+
+@overload(species_fluxes)
+def _species_fluxes_impl(light, mean_flux, flux_a, flux_b):
+    if _polarised(light):
+        return lambda light, mean_flux, flux_a, flux_b: (flux_a, flux_b)
+    return lambda light, mean_flux, flux_a, flux_b: (mean_flux, mean_flux)
 
 
 from .order import order_nb  # noqa: E402

@@ -25,7 +25,7 @@ def _light(n, nb, *, c0=0.0, eps_a=0.0, eps_b=0.0, bg=0.0, from_top=True, wavele
         alpha_bg=cells(bg), from_top=np.broadcast_to(np.asarray(from_top, np.bool_), (nb,)).copy(),
         entry=np.broadcast_to(np.asarray(entry, float), (nb,)).copy(), beam_emol=np.ones(nb),
         beam_source=np.zeros(nb, np.int64), beam_wavelength=np.broadcast_to(np.asarray(wavelength, float), (nb,)).copy(),
-        beam_fraction=np.ones(nb), **optics.isotropic_fields(n, nb))
+        beam_fraction=np.ones(nb))
 
 
 def _kernel(x, Q, dz, light, pol, q):
@@ -40,8 +40,7 @@ def _random_film(rng, n, nb, *, isotropic=False):
     light = optics.LightParams(
         c0=rng.uniform(0, 800, n), eps_a=rng.uniform(0, 4, (n, nb)), eps_b=rng.uniform(0, 4, (n, nb)),
         alpha_bg=rng.uniform(0, 300, (n, nb)), from_top=top, entry=rng.uniform(0.9, 1, nb), beam_emol=np.ones(nb),
-        beam_source=np.zeros(nb, np.int64), beam_wavelength=rng.uniform(300e-9, 700e-9, nb), beam_fraction=np.ones(nb),
-        **optics.isotropic_fields(n, nb))
+        beam_source=np.zeros(nb, np.int64), beam_wavelength=rng.uniform(300e-9, 700e-9, nb), beam_fraction=np.ones(nb))
     pol = polar_params(
         n_cell=n, n_beam=nb, director_angle=rng.uniform(-4, 4, n), director_tilt=rng.uniform(-1.5, 1.5, n),
         birefringence=0.0 if isotropic else rng.uniform(-0.2, 0.3, n), order_reference=rng.uniform(0.3, 1, n),
@@ -85,7 +84,7 @@ def test_isotropic_limit_equals_light_pass(polarised, angle):
     light, pol, x, Q, dz, q = _random_film(rng, n, nb, isotropic=True)
     pol = pol._replace(polarised=np.full(nb, polarised), polarisation_angle=np.full(nb, angle))
     mf0, ab0 = np.zeros((n, nb)), np.zeros((n, nb))
-    tr0 = optics.light_pass(x, np.full(x.size, 293.15), dz, light, q, mf0, ab0, np.zeros_like(mf0), np.zeros_like(mf0))
+    tr0 = optics.light_pass(x, dz, light, q, mf0, ab0)
     for order, factor in ((Q, 0.0), (np.zeros(n), 0.8)):
         p = pol._replace(order_factor_a=np.full(n, factor), order_factor_b=np.full(n, factor / 2))
         mf, ab, fa, fb, tr = _kernel(x, order, dz, light, p, q)
