@@ -375,7 +375,7 @@ def light_stage(x, T, dz, light, q_surface, mean_flux, absorbed, flux_a, flux_b)
         Conversion [1] and temperature [K].
     dz : numpy.ndarray, shape (n_cell,)
         Cell widths [m].
-    light : LightParams or PolarisedLightParams
+    light : actsim.optics.LightParams or actsim.optics.PolarisedLightParams
         The design's optics parameters.
     q_surface : numpy.ndarray, shape (n_beam,)
         Incident photon flux of each beam before reflection [mol m-2 s-1].
@@ -396,7 +396,7 @@ def species_fluxes(light, mean_flux, flux_a, flux_b):
 
     Parameters
     ----------
-    light : LightParams or PolarisedLightParams
+    light : actsim.optics.LightParams or actsim.optics.PolarisedLightParams
         The design's optics parameters.
     mean_flux, flux_a, flux_b : numpy.ndarray, shape (n_cell, n_beam)
         Cell-mean and species-weighted photon fluxes [mol m-2 s-1].
