@@ -60,7 +60,7 @@ ALLOWED = {
 
 _UNIT = re.compile(r"(?<![\w\]])\[[^\[\]]+\]")  # "[m]", "[W/(m^2 K)]"; not an index such as "x[i]"
 _NOT_PHYSICAL = re.compile(r"\b(bool|str|int|dimensionless|unitless)\b", re.I)
-_PROJECT_OBJECT = re.compile(r"^(actsim\.[\w.]+|Schedule|callable|numpy dtype)$")
+_PROJECT_OBJECT = re.compile(r"^(actsim\.[\w.]+( or actsim\.[\w.]+)*|Schedule|callable|numpy dtype)$")
 _ENTRY = re.compile(r"^(\*{0,2}[A-Za-z_]\w*(?:\s*,\s*\*{0,2}[A-Za-z_]\w*)*)\s*(?::\s*(.*))?$")
 
 
