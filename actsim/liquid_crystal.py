@@ -162,16 +162,6 @@ def order_strains(q, params) -> tuple:
     return e_par, e_perp
 
 
-def _pol_params(light):
-    """The :class:`actsim.polarised.PolarParams` kept flat in a LightParams."""
-    from .polarised import PolarParams
-
-    return PolarParams(light.pol_director_angle, light.pol_director_tilt, light.pol_birefringence,
-                       light.pol_order_reference, light.pol_refractive_index, light.pol_order_factor_a,
-                       light.pol_order_factor_b, light.pol_ratio_a, light.pol_ratio_b, light.pol_beam,
-                       light.pol_beam_angle)
-
-
 def sample_times(n_time: int, step_of_time, most: int = MAX_RIBBON_TIMES) -> np.ndarray:
     """Output-time indices at which the ribbon and the polarisation are solved: all of them, or ``most`` evenly
     spread plus the last time of every protocol step."""
@@ -264,7 +254,9 @@ def plate_outputs(scenario, p, *, conversion, temperature, modulus, step_of_time
         src = light.beam_source[polarised[0]]
         beams = [b for b in polarised if light.beam_source[b] == src]
         beam = max(beams, key=lambda b: light.beam_fraction[b])
-        pol = _pol_params(light)
+        from .optics import polar_view
+
+        pol = polar_view(light)
         rot = np.array([transmitted_polarisation(conversion=conversion[t], order=q[t], dz=grid.dz, light=light,
                                                  pol=pol, beam=beam).rotation for t in idx])
         out["polarisation_rotation"] = np.interp(times, times[idx], rot)

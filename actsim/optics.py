@@ -413,6 +413,25 @@ def _polarised(light) -> bool:
     return getattr(light, "instance_class", None) is PolarisedLightParams
 
 
+@njit(cache=True)
+def polar_view(light):
+    """The :class:`actsim.polarised.PolarParams` a :class:`PolarisedLightParams` holds flat.
+
+    Parameters
+    ----------
+    light : actsim.optics.PolarisedLightParams
+        The design's optics parameters.
+
+    Returns
+    -------
+    actsim.polarised.PolarParams
+    """
+    return PolarParams(light.pol_director_angle, light.pol_director_tilt, light.pol_birefringence,
+                       light.pol_order_reference, light.pol_refractive_index, light.pol_order_factor_a,
+                       light.pol_order_factor_b, light.pol_ratio_a, light.pol_ratio_b, light.pol_beam,
+                       light.pol_beam_angle)
+
+
 @overload(light_stage)
 def _light_stage_impl(x, T, dz, light, q_surface, mean_flux, absorbed, flux_a, flux_b):
     if not _polarised(light):
@@ -425,11 +444,8 @@ def _light_stage_impl(x, T, dz, light, q_surface, mean_flux, absorbed, flux_a, f
         for i in range(x.size):
             q[i] = order_nb(x[i], T[i], light.order_law[i], light.order_par[i, 0], light.order_par[i, 1],
                             light.order_par[i, 2], light.order_t, light.order_q)
-        pol = PolarParams(light.pol_director_angle, light.pol_director_tilt, light.pol_birefringence,
-                          light.pol_order_reference, light.pol_refractive_index, light.pol_order_factor_a,
-                          light.pol_order_factor_b, light.pol_ratio_a, light.pol_ratio_b, light.pol_beam,
-                          light.pol_beam_angle)
-        return polarised_light_pass(x, q, dz, light, pol, q_surface, mean_flux, absorbed, flux_a, flux_b)
+        return polarised_light_pass(x, q, dz, light, polar_view(light), q_surface, mean_flux, absorbed, flux_a,
+                                    flux_b)
     return dichroic
 
 
