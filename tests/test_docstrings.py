@@ -35,6 +35,7 @@ MODULES = (
     "actsim.laminate",
     "actsim.shading",
     "actsim.strip_dynamics",
+    "actsim.along_strip",
     "actsim.grid",
     "actsim.schedule",
     "actsim.reference",

@@ -1,0 +1,219 @@
+"""A strip resolved along its length under light that follows its shape: the quasi-static coupling.
+
+The free length is cut into ``segments`` equal pieces, each with its own through-thickness state (conversion,
+temperature), all marched together by the batch kernel (:func:`actsim.study.batch.run_group`: the segments are
+its designs). Every coupling step the light each segment receives on each face is computed from the current
+shape (:func:`actsim.shading.incidence`: cosine law, Fresnel entry for unpolarised light, self-shadowing), and
+the absorption along the slanted path in the film is taken into account by dividing every absorption coefficient
+of that face's beams by the cosine of the refraction angle (Beer–Lambert along the ray: optical depth per unit
+depth alpha / cos a_t, and a molecule's rate sigma F with F the flux along the ray). The segments' free
+curvatures then give the new shape (quasi-static: no inertia, no load; each segment a circular arc).
+
+The coupling is explicit in the shape: the light of a coupling step is that of the shape at its start, so the
+result converges at first order in ``coupling_step`` (tested); choose it well below the time the bend takes
+to change by a few degrees.
+
+Not here yet: inertia and damping (:mod:`actsim.strip_dynamics`), error control of the coupling step, a
+scenario section and the command line.
+
+References
+----------
+.. [1] Born, M. and Wolf, E. Principles of Optics, 7th ed., Cambridge 1999, sec. 1.5 (Fresnel, Snell).
+.. [2] Timoshenko, S. P. and Gere, J. M. Theory of Elastic Stability, 2nd ed., McGraw-Hill 1961 (pure bending:
+   a circular arc).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+
+import numpy as np
+import xarray as xr
+
+from .errors import ActsimInputError
+from .scenario.model import Step
+
+#: Most segments along the strip.
+MAX_SEGMENTS = 400
+
+
+def _refuse(scenario):
+    for layer in scenario.layers:
+        m = layer.material
+        if m.network_modulus > 0 or m.relaxation is not None or m.strain_law != "linear":
+            raise ActsimInputError(f"materials.{m.name}: a light-formed network, a relaxing or a large-strain layer "
+                                   "is not modelled along the strip yet (its state does not carry over coupling steps)")
+    for i, step in enumerate(scenario.protocol):
+        if step.hold != "free":
+            raise ActsimInputError(f"protocol[{i}].hold: '{step.hold}': only free steps are modelled along the strip")
+
+
+def arc_points(curvature, ds):
+    """End points of a chain of circular arcs from the clamp (root tangent +x, curvature > 0 toward +z).
+
+    Parameters
+    ----------
+    curvature : numpy.ndarray, shape (n,)
+        Curvature of each segment [m-1].
+    ds : float
+        Arc length of each segment [m].
+
+    Returns
+    -------
+    numpy.ndarray, shape (n + 1, 2)
+        (x, z) of the segment ends [m]; the chord of each arc is exact.
+    """
+    k = np.asarray(curvature, float)
+    phi0 = np.concatenate([[0.0], np.cumsum(k * ds)[:-1]])
+    half = 0.5 * k * ds
+    chord = np.where(np.abs(half) > 1e-12, ds * np.sinc(half / math.pi), ds)  # 2 sin(k ds/2)/k
+    mid = phi0 + half
+    steps = np.column_stack([chord * np.cos(mid), chord * np.sin(mid)])
+    return np.vstack([[0.0, 0.0], np.cumsum(steps, axis=0)])
+
+
+def _doubled(scenario):
+    """The scenario with each source twice, entering the top and the bottom face (source s: 2s and 2s + 1)."""
+    sources = []
+    for src in scenario.sources:
+        sources += [dataclasses.replace(src, face="top"), dataclasses.replace(src, face="bottom")]
+    return scenario.replace(sources=tuple(sources))
+
+
+def _macro_problem(doubled, step: Step, duration: float):
+    from .solver import build_problem
+
+    n = len(doubled.sources)
+    one = dataclasses.replace(step, duration=duration, irradiance=(0.0,) * n, label="")
+    sc = doubled.replace(protocol=(one,), output_interval=duration)
+    return build_problem(sc)
+
+
+def simulate_along(scenario, *, segments: int = 20, beam_angles=None, coupling_step: float | None = None,
+                   samples: int = 5) -> xr.Dataset:
+    """Quasi-static strip along its length, each segment lit as its shape allows.
+
+    Parameters
+    ----------
+    scenario : actsim.scenario.Scenario
+        Free steps only; no light-formed network, relaxing or large-strain layer.
+    segments : int
+        Segments along the free length [1].
+    beam_angles : sequence of float, optional
+        Direction of travel of each source's collimated beam in the bending plane, from the strip axis [rad]
+        (-pi/2: straight down onto the flat strip's top face). Default: normal to the flat strip on the source's
+        face.
+    coupling_step : float, optional
+        Time between updates of the light from the shape [s]; default the scenario's output interval.
+    samples : int
+        Sample points per segment for the shadow test [1].
+
+    Returns
+    -------
+    xarray.Dataset
+        ``curvature`` and the light entering each face, ``irradiance_top`` / ``irradiance_bottom`` (time,
+        segment) [m-1, W m-2]; the shape ``shape_x``, ``shape_z`` (time, point) [m]; ``tip_angle`` [rad] and the
+        tip ``tip_x``, ``tip_z`` [m] (time,).
+    """
+    from .optics import fresnel_reflectance
+    from .shading import Collimated, incidence
+    from .spectra import photon_flux
+    from .study.batch import run_group
+
+    _refuse(scenario)
+    n_seg = int(segments)
+    if not 1 <= n_seg <= MAX_SEGMENTS:
+        raise ActsimInputError(f"segments: {segments} is outside the allowed range (1 to {MAX_SEGMENTS})")
+    n_src = len(scenario.sources)
+    if beam_angles is None:
+        beam_angles = [-math.pi / 2 if s.face == "top" else math.pi / 2 for s in scenario.sources]
+    if len(beam_angles) != n_src:
+        raise ActsimInputError(f"beam_angles: {len(beam_angles)} given for {n_src} sources (give one per source)")
+    dt_c = float(coupling_step or scenario.output_interval)
+    if not (dt_c > 0 and math.isfinite(dt_c)):
+        raise ActsimInputError(f"coupling_step: {coupling_step} s is not allowed (a time > 0 s)")
+    L = scenario.strip.free_length
+    ds = L / n_seg
+    doubled = _doubled(scenario)
+    n_top = scenario.layers[-1].material.refractive_index
+    n_bottom = scenario.layers[0].material.refractive_index
+    n_amb = scenario.optics.ambient_refractive_index
+    reflect = scenario.optics.front_reflection
+
+    x = None
+    T = None
+    kappa = np.zeros(n_seg)
+    times, curv, irr_t, irr_b = [0.0], [kappa.copy()], [np.zeros(n_seg)], [np.zeros(n_seg)]
+    t_now = 0.0
+    for j, step in enumerate(scenario.protocol):
+        n_macro = max(1, math.ceil(step.duration / dt_c - 1e-9))
+        for k in range(n_macro):
+            dur = min(dt_c, step.duration - k * dt_c) if k < n_macro - 1 else step.duration - (n_macro - 1) * dt_c
+            p = _macro_problem(doubled, step, dur)
+            if x is None:
+                x, T = np.tile(p.photo.x0, (n_seg, 1)), np.tile(p.heat.T0, (n_seg, 1))
+            points = arc_points(kappa, ds)
+            light_faces = []
+            for face, n_in in ((0, n_top), (1, n_bottom)):
+                per_src = []
+                for s in range(n_src):
+                    fl = incidence(points, Collimated(angle=float(beam_angles[s]), irradiance=1.0), n_inside=n_in,
+                                   n_outside=n_amb, samples=samples)
+                    per_src.append((fl.irradiance[:, face], fl.transmittance[:, face], fl.cos_refracted[:, face]))
+                light_faces.append(per_src)
+            # the kernel applies the normal-incidence entry 1 - R0 itself: hand it T(a) / (1 - R0)
+            entry0 = np.array([1.0 - fresnel_reflectance(n_outside=n_amb, n_inside=n_top if c % 2 == 0 else n_bottom)
+                               for c in range(2 * n_src)])
+            problems = []
+            e_top = np.zeros(n_seg)
+            e_bot = np.zeros(n_seg)
+            for i in range(n_seg):
+                irr = np.zeros(2 * n_src)
+                cos_t = np.ones(2 * n_src)
+                for s in range(n_src):
+                    for face in (0, 1):
+                        e, tr, ct = (a[i] for a in light_faces[face][s])
+                        c = 2 * s + face
+                        trans = tr / entry0[c] if reflect else 1.0
+                        irr[c] = step.irradiance[s] * e * trans
+                        cos_t[c] = ct
+                        (e_top if face == 0 else e_bot)[i] += step.irradiance[s] * e * (tr if reflect else 1.0)
+                sched = p.schedule
+                flux = np.array([photon_flux(irradiance=irr[c] * p.light.beam_fraction[b],
+                                             wavelength=p.light.beam_wavelength[b])
+                                 for b, c in enumerate(p.light.beam_source)]).reshape(1, -1)
+                sched_i = sched._replace(step_irradiance=irr.reshape(1, -1), step_flux=flux)
+                scale = 1.0 / cos_t[p.light.beam_source]
+                light_i = p.light._replace(eps_a=p.light.eps_a * scale, eps_b=p.light.eps_b * scale,
+                                           alpha_bg=p.light.alpha_bg * scale)
+                problems.append(dataclasses.replace(p, light=light_i, schedule=sched_i,
+                                                    photo=p.photo._replace(x0=x[i].copy()),
+                                                    heat=p.heat._replace(T0=T[i].copy())))
+            o = run_group(problems, full=True)["out"]
+            x = o.x[:, -1].copy()
+            if scenario.heat.enabled:
+                T = o.T[:, -1].copy()
+            kappa = o.mech[:, -1, 1].copy()
+            t_now += dur
+            times.append(t_now)
+            curv.append(kappa.copy())
+            irr_t.append(e_top)
+            irr_b.append(e_bot)
+    curv = np.array(curv)
+    shapes = np.array([arc_points(k, ds) for k in curv])
+    s_mid = (np.arange(n_seg) + 0.5) * ds
+    ds_out = xr.Dataset(
+        {"curvature": (("time", "segment"), curv, {"units": "m-1", "long_name": "free curvature of each segment"}),
+         "irradiance_top": (("time", "segment"), np.array(irr_t),
+                            {"units": "W m-2", "long_name": "irradiance entering the top face (after reflection)"}),
+         "irradiance_bottom": (("time", "segment"), np.array(irr_b),
+                               {"units": "W m-2", "long_name": "irradiance entering the bottom face"}),
+         "shape_x": (("time", "point"), shapes[..., 0], {"units": "m", "long_name": "x of the segment ends"}),
+         "shape_z": (("time", "point"), shapes[..., 1], {"units": "m", "long_name": "z of the segment ends"}),
+         "tip_angle": (("time",), curv.sum(axis=1) * ds, {"units": "rad", "long_name": "tip rotation"}),
+         "tip_x": (("time",), shapes[:, -1, 0], {"units": "m", "long_name": "tip x"}),
+         "tip_z": (("time",), shapes[:, -1, 1], {"units": "m", "long_name": "tip z"})},
+        coords={"time": ("time", np.array(times), {"units": "s"}), "segment": ("segment", s_mid, {"units": "m"})},
+        attrs={"title": scenario.title, "segments": n_seg, "coupling_step": dt_c})
+    return ds_out
