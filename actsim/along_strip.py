@@ -1,4 +1,4 @@
-"""A strip resolved along its length under light that follows its shape: the quasi-static coupling.
+"""A strip resolved along its length under light that follows its shape, quasi-static or with inertia.
 
 The free length is cut into ``segments`` equal pieces, each with its own through-thickness state (conversion,
 temperature), all marched together by the batch kernel (:func:`actsim.study.batch.run_group`: the segments are
@@ -11,10 +11,10 @@ curvatures then give the new shape (quasi-static: no inertia, no load; each segm
 
 The coupling is explicit in the shape: the light of a coupling step is that of the shape at its start, so the
 result converges at first order in ``coupling_step`` (tested); choose it well below the time the bend takes
-to change by a few degrees.
+to change by a few degrees. With ``mode="dynamic"`` the free curvatures drive :mod:`actsim.strip_dynamics`
+(inertia, Kelvin–Voigt damping, air drag), linear in time over each coupling step.
 
-Not here yet: inertia and damping (:mod:`actsim.strip_dynamics`), error control of the coupling step, a
-scenario section and the command line.
+Not here yet: error control of the coupling step, a scenario section and the command line.
 
 References
 ----------
@@ -90,9 +90,25 @@ def _macro_problem(doubled, step: Step, duration: float):
     return build_problem(sc)
 
 
+def _section_stiffness(z_edges, modulus):
+    """Bending stiffness per unit width about the neutral axis, D - B^2/A, of each row of ``modulus`` [N m]."""
+    z0, z1 = z_edges[:-1], z_edges[1:]
+    a = modulus @ (z1 - z0)
+    b = modulus @ (0.5 * (z1**2 - z0**2))
+    d = modulus @ ((z1**3 - z0**3) / 3.0)
+    return d - b * b / a
+
+
+def _at_hinges(per_segment):
+    """Segment values at the hinges s_j = j ds: the clamp takes segment 0's, the others the mean of their two."""
+    v = np.asarray(per_segment, float)
+    return np.concatenate([v[:1], 0.5 * (v[:-1] + v[1:])])
+
+
 def simulate_along(scenario, *, segments: int = 20, beam_angles=None, coupling_step: float | None = None,
-                   samples: int = 5) -> xr.Dataset:
-    """Quasi-static strip along its length, each segment lit as its shape allows.
+                   samples: int = 5, mode: str = "quasi-static", kv_time: float = 0.0, drag_linear: float = 0.0,
+                   drag_quadratic: float = 0.0, rtol: float = 1e-6) -> xr.Dataset:
+    """Strip along its length, each segment lit as its shape allows; quasi-static or with inertia.
 
     Parameters
     ----------
@@ -122,6 +138,9 @@ def simulate_along(scenario, *, segments: int = 20, beam_angles=None, coupling_s
     from .study.batch import run_group
 
     _refuse(scenario)
+    if mode not in ("quasi-static", "dynamic"):
+        raise ActsimInputError(f"mode: '{mode}' is not one of 'quasi-static', 'dynamic'")
+    dynamic = mode == "dynamic"
     n_seg = int(segments)
     if not 1 <= n_seg <= MAX_SEGMENTS:
         raise ActsimInputError(f"segments: {segments} is outside the allowed range (1 to {MAX_SEGMENTS})")
@@ -145,6 +164,18 @@ def simulate_along(scenario, *, segments: int = 20, beam_angles=None, coupling_s
     T = None
     kappa = np.zeros(n_seg)
     times, curv, irr_t, irr_b = [0.0], [kappa.copy()], [np.zeros(n_seg)], [np.zeros(n_seg)]
+    width = scenario.strip.width
+    if dynamic:
+        from . import strip_dynamics as sd
+
+        if n_seg < 2:
+            raise ActsimInputError(f"segments: {segments} is too few for mode 'dynamic' (allowed >= 2)")
+        rho_a = width * sum(la.material.density * la.thickness for la in scenario.layers)
+        y = np.zeros(2 * n_seg)
+        shapes_dyn = [np.zeros((n_seg + 1, 2))]
+        shapes_dyn[0][:, 0] = np.arange(n_seg + 1) * ds
+        omega_tip = [0.0]
+        tips = [0.0]
     t_now = 0.0
     for j, step in enumerate(scenario.protocol):
         n_macro = max(1, math.ceil(step.duration / dt_c - 1e-9))
@@ -153,7 +184,10 @@ def simulate_along(scenario, *, segments: int = 20, beam_angles=None, coupling_s
             p = _macro_problem(doubled, step, dur)
             if x is None:
                 x, T = np.tile(p.photo.x0, (n_seg, 1)), np.tile(p.heat.T0, (n_seg, 1))
-            points = arc_points(kappa, ds)
+            if dynamic:
+                points = shapes_dyn[-1]
+            else:
+                points = arc_points(kappa, ds)
             light_faces = []
             for face, n_in in ((0, n_top), (1, n_bottom)):
                 per_src = []
@@ -194,14 +228,30 @@ def simulate_along(scenario, *, segments: int = 20, beam_angles=None, coupling_s
             x = o.x[:, -1].copy()
             if scenario.heat.enabled:
                 T = o.T[:, -1].copy()
+            k_start = kappa
             kappa = o.mech[:, -1, 1].copy()
+            if dynamic:
+                ei = width * _section_stiffness(p.grid.z_edges, o.E[:, -1])
+                params = sd.strip_params(length=L, n_segments=n_seg, bending_stiffness=_at_hinges(ei),
+                                         mass_per_length=rho_a, kv_time=kv_time, drag_linear=drag_linear,
+                                         drag_quadratic=drag_quadratic)
+                h0, h1 = _at_hinges(k_start), _at_hinges(kappa)
+                t0 = t_now
+                sol = sd.integrate_strip(params, lambda t, a=h0, b=h1, t0=t0, d=dur: a + (b - a) * (t - t0) / d,
+                                         (t0, t0 + dur), y, rtol=rtol)
+                y = sol.y[:, -1].copy()
+                px, pz = sd.centreline(y[:n_seg], ds)
+                shapes_dyn.append(np.column_stack([px, pz]))
+                omega_tip.append(float(y[-1]))
+                tips.append(float(sd.tip_angle(y[:n_seg])))
             t_now += dur
             times.append(t_now)
             curv.append(kappa.copy())
             irr_t.append(e_top)
             irr_b.append(e_bot)
     curv = np.array(curv)
-    shapes = np.array([arc_points(k, ds) for k in curv])
+    shapes = np.array(shapes_dyn) if dynamic else np.array([arc_points(k, ds) for k in curv])
+    tip = np.array(tips) if dynamic else curv.sum(axis=1) * ds
     s_mid = (np.arange(n_seg) + 0.5) * ds
     ds_out = xr.Dataset(
         {"curvature": (("time", "segment"), curv, {"units": "m-1", "long_name": "free curvature of each segment"}),
@@ -211,9 +261,12 @@ def simulate_along(scenario, *, segments: int = 20, beam_angles=None, coupling_s
                                {"units": "W m-2", "long_name": "irradiance entering the bottom face"}),
          "shape_x": (("time", "point"), shapes[..., 0], {"units": "m", "long_name": "x of the segment ends"}),
          "shape_z": (("time", "point"), shapes[..., 1], {"units": "m", "long_name": "z of the segment ends"}),
-         "tip_angle": (("time",), curv.sum(axis=1) * ds, {"units": "rad", "long_name": "tip rotation"}),
+         "tip_angle": (("time",), tip, {"units": "rad", "long_name": "tip rotation"}),
          "tip_x": (("time",), shapes[:, -1, 0], {"units": "m", "long_name": "tip x"}),
          "tip_z": (("time",), shapes[:, -1, 1], {"units": "m", "long_name": "tip z"})},
         coords={"time": ("time", np.array(times), {"units": "s"}), "segment": ("segment", s_mid, {"units": "m"})},
-        attrs={"title": scenario.title, "segments": n_seg, "coupling_step": dt_c})
+        attrs={"title": scenario.title, "segments": n_seg, "coupling_step": dt_c, "mode": mode})
+    if dynamic:
+        ds_out["tip_angular_velocity"] = (("time",), np.array(omega_tip),
+                                          {"units": "rad s-1", "long_name": "angular velocity of the tip segment"})
     return ds_out

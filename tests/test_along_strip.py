@@ -127,3 +127,26 @@ def test_refused_input_is_one_line():
     held = sc.replace(protocol=(dataclasses.replace(sc.protocol[0], hold="flat"),))
     with pytest.raises(ActsimInputError, match=r"^protocol\[0\]\.hold"):
         simulate_along(held)
+
+
+def test_dynamic_mode_follows_the_quasi_static_strip_through_the_kelvin_voigt_lag():
+    # With inertia and Kelvin–Voigt damping (time eta) a strip driven slowly (the curl takes seconds, the first
+    # mode's period is about 20 ms) obeys EI (kappa - kappa0) + eta EI dkappa/dt = 0 to leading order, i.e.
+    # kappa(t) = kappa0(t - eta): the quasi-static strip, late by eta. So the gap to the quasi-static tip angle
+    # is eta times its rate (doubling eta doubles it), and once the lag is taken out what remains is the
+    # discretisation along the length (chords at hinges against arcs), halving with twice the segments.
+    sc = thin_film("4 s")
+    angle = [-math.radians(30)]
+
+    def gaps(n, eta):
+        qs = simulate_along(sc, segments=n, beam_angles=angle, coupling_step=0.05)
+        dy = simulate_along(sc, segments=n, beam_angles=angle, coupling_step=0.05, mode="dynamic", kv_time=eta)
+        t, q = qs.time.values, qs.tip_angle.values
+        return np.max(np.abs(dy.tip_angle.values - q)), np.max(np.abs(dy.tip_angle.values - np.interp(t - eta, t, q)))
+
+    raw_10, lagged_10 = gaps(10, 6e-3)
+    raw_20, lagged_20 = gaps(20, 6e-3)
+    raw_20b, _ = gaps(20, 12e-3)
+    assert raw_20b / raw_20 == pytest.approx(2.0, rel=0.1)  # the lag is eta x rate
+    assert lagged_20 < 0.6 * lagged_10  # first order in the segment length
+    assert lagged_20 < 0.5 * raw_20
