@@ -124,13 +124,25 @@ def simulate_along(scenario, *, segments: int = 20, beam_angles=None, coupling_s
         Time between updates of the light from the shape [s]; default the scenario's output interval.
     samples : int
         Sample points per segment for the shadow test [1].
+    mode : str
+        "quasi-static" (the shape is the free curvatures' arcs at once) or "dynamic" (the free curvatures drive
+        :mod:`actsim.strip_dynamics`, linear in time over each coupling step: inertia, damping, drag).
+    kv_time : float
+        "dynamic": Kelvin–Voigt time of the structural damping [s].
+    drag_linear : float
+        "dynamic": linear air drag per length, -c v_n [N s m-2].
+    drag_quadratic : float
+        "dynamic": quadratic air drag per length, -c |v_n| v_n [kg m-2].
+    rtol : float
+        "dynamic": relative tolerance of the motion's integration (scipy Radau) [1].
 
     Returns
     -------
     xarray.Dataset
-        ``curvature`` and the light entering each face, ``irradiance_top`` / ``irradiance_bottom`` (time,
-        segment) [m-1, W m-2]; the shape ``shape_x``, ``shape_z`` (time, point) [m]; ``tip_angle`` [rad] and the
-        tip ``tip_x``, ``tip_z`` [m] (time,).
+        ``curvature`` (the free curvature of each segment) and the light entering each face,
+        ``irradiance_top`` / ``irradiance_bottom`` (time, segment) [m-1, W m-2]; the shape ``shape_x``,
+        ``shape_z`` (time, point) [m]; ``tip_angle`` [rad] and the tip ``tip_x``, ``tip_z`` [m] (time,);
+        "dynamic" adds ``tip_angular_velocity`` [rad s-1].
     """
     from .optics import fresnel_reflectance
     from .shading import Collimated, incidence
