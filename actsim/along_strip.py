@@ -277,8 +277,223 @@ def simulate_along(scenario, *, segments: int = 20, beam_angles=None, coupling_s
          "tip_x": (("time",), shapes[:, -1, 0], {"units": "m", "long_name": "tip x"}),
          "tip_z": (("time",), shapes[:, -1, 1], {"units": "m", "long_name": "tip z"})},
         coords={"time": ("time", np.array(times), {"units": "s"}), "segment": ("segment", s_mid, {"units": "m"})},
-        attrs={"title": scenario.title, "segments": n_seg, "coupling_step": dt_c, "mode": mode})
+        attrs={"title": scenario.title, "segments": n_seg, "coupling_step": dt_c, "mode": mode,
+               "step_ends": np.cumsum([st.duration for st in scenario.protocol]),
+               "step_labels": "\n".join(st.label or f"step {k}" for k, st in enumerate(scenario.protocol))})
     if dynamic:
         ds_out["tip_angular_velocity"] = (("time",), np.array(omega_tip),
                                           {"units": "rad s-1", "long_name": "angular velocity of the tip segment"})
     return ds_out
+
+
+# --------------------------------------------------------------------------- the [along_strip] section of a run
+
+
+@dataclasses.dataclass(frozen=True)
+class AlongStrip:
+    """Parsed ``[along_strip]``: segments, mode, coupling step [s] (0: the output interval), beam directions
+    [rad] by source name (missing: normal to the flat strip on the source's face), Kelvin–Voigt time [s]."""
+
+    segments: int = 20
+    mode: str = "quasi-static"
+    coupling_step: float = 0.0
+    beams: tuple = ()
+    kv_time: float = 0.0
+
+
+def parse_along_strip(data, *, field: str = "along_strip", base_dir=None, scenario_info=None) -> AlongStrip:
+    """Parse the ``[along_strip]`` section of a scenario.
+
+    Parameters
+    ----------
+    data : dict
+        The TOML table: ``segments`` (1 to 400, default 20), ``mode`` ("quasi-static" or "dynamic"),
+        ``coupling_step`` (a time), ``beams`` (``{ SOURCE = "angle" }``: each source's direction of travel in the
+        bending plane from the strip axis; -90 deg is straight down onto the flat strip), ``kv_time`` (a time;
+        "dynamic" only).
+    field : str
+        Section name for messages.
+    base_dir : pathlib.Path
+        Unused.
+    scenario_info : dict
+        ``sources`` (names): every beam must name one.
+
+    Returns
+    -------
+    AlongStrip
+    """
+    from .schema import Table
+
+    info = scenario_info or {}
+    t = Table(data, field)
+    segments = t.integer("segments", default=20, lo=1, hi=MAX_SEGMENTS)
+    mode = t.string("mode", default="quasi-static", choices=("quasi-static", "dynamic"))
+    step = t.quantity("coupling_step", "time", default=0.0, lo=1e-6, hi=1e4)
+    kv = t.quantity("kv_time", "time", default=0.0, lo=0.0, hi=10.0)
+    if mode != "dynamic" and t.has("kv_time"):
+        raise ActsimInputError(f"{field}.kv_time: used only with mode = 'dynamic' (here '{mode}')")
+    if mode == "dynamic" and segments < 2:
+        raise ActsimInputError(f"{field}.segments: {segments} is too few for mode 'dynamic' (allowed >= 2)")
+    beams = []
+    if t.has("beams"):
+        bt = t.table("beams")
+        for name in list(bt.data):
+            if info.get("sources") is not None and name not in info["sources"]:
+                raise ActsimInputError(f"{field}.beams.{name}: no source '{name}'; sources are: "
+                                       f"{', '.join(info['sources']) or 'none'}")
+            beams.append((name, bt.quantity(name, "angle", lo=-2 * math.pi, hi=2 * math.pi)))
+        bt.finish()
+    t.finish()
+    return AlongStrip(segments=segments, mode=mode, coupling_step=step, beams=tuple(beams), kv_time=kv)
+
+
+def along_strip_settings(scenario) -> AlongStrip | None:
+    """The scenario's ``[along_strip]`` section parsed by :func:`parse_along_strip` (None without one).
+
+    Parameters
+    ----------
+    scenario : actsim.scenario.Scenario
+
+    Returns
+    -------
+    AlongStrip or None
+    """
+    from .scenario import section_settings
+
+    return section_settings(scenario, "along_strip", parse_along_strip)
+
+
+def simulate_along_section(scenario, settings: AlongStrip) -> xr.Dataset:
+    """:func:`simulate_along` with the settings of a scenario's ``[along_strip]`` section.
+
+    Parameters
+    ----------
+    scenario : actsim.scenario.Scenario
+    settings : AlongStrip
+
+    Returns
+    -------
+    xarray.Dataset
+    """
+    given = dict(settings.beams)
+    angles = [given.get(s.name, -math.pi / 2 if s.face == "top" else math.pi / 2) for s in scenario.sources]
+    ds = simulate_along(scenario, segments=settings.segments, beam_angles=angles,
+                        coupling_step=settings.coupling_step or None, mode=settings.mode, kv_time=settings.kv_time)
+    import json
+
+    ds.attrs["beam_angles_deg"] = json.dumps([round(math.degrees(a), 6) for a in angles])
+    return ds
+
+
+def along_summary(ds) -> dict:
+    """Key numbers of a strip along its length.
+
+    The largest tip angle and its time; at the end of every protocol step the tip angle, whether it has settled
+    (the tip turned less than 0.5 deg over the step's last tenth) and the share of the segments lit on each face.
+    Angles in rad, times in s.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        From :func:`simulate_along`.
+
+    Returns
+    -------
+    dict
+    """
+    tip = ds["tip_angle"].values
+    t = ds["time"].values
+    i = int(np.argmax(np.abs(tip)))
+    steps = []
+    start = 0.0
+    labels = str(ds.attrs.get("step_labels", "")).split("\n")
+    for k, end in enumerate(np.atleast_1d(ds.attrs["step_ends"])):
+        j = int(np.argmin(np.abs(t - end)))
+        last = (t >= end - 0.1 * (end - start) - 1e-12) & (t <= end + 1e-12)
+        steps.append({"step": k, "label": labels[k] if k < len(labels) else "", "time": float(t[j]),
+                      "tip_angle": float(tip[j]), "settled": bool(np.ptp(tip[last]) < math.radians(0.5)),
+                      "lit_share_top": float(np.mean(ds["irradiance_top"].values[j] > 0)),
+                      "lit_share_bottom": float(np.mean(ds["irradiance_bottom"].values[j] > 0))})
+        start = float(end)
+    return {"segments": int(ds.attrs["segments"]), "mode": str(ds.attrs["mode"]), "largest_tip_angle": float(tip[i]),
+            "time_of_largest": float(t[i]), "steps": steps}
+
+
+def filmstrip_figure(ds, path, n_frames: int = 8) -> dict:
+    """The strip's shape at ``n_frames`` times, side by side along one axis, with the beam's direction.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        From :func:`simulate_along`.
+    path : str or os.PathLike
+        PNG file.
+    n_frames : int
+        Frames [1].
+
+    Returns
+    -------
+    dict
+        The figure's record (:func:`actsim.figures.figure_record`).
+    """
+    import json
+
+    from .figures import figure_record, fmt, new_figure
+    from .io import save_figure
+
+    t = ds["time"].values
+    picks = np.unique(np.linspace(0, t.size - 1, n_frames).round().astype(int))
+    fig = new_figure((min(2.0 * len(picks), 14.0), 2.9))
+    axes = fig.subplots(1, len(picks), sharey=True)
+    axes = np.atleast_1d(axes)
+    L = float(ds["shape_x"].values[0, -1])
+    angles = json.loads(ds.attrs.get("beam_angles_deg", "[]"))
+    for ax, i in zip(axes, picks):
+        ax.plot(ds["shape_x"].values[i] * 1e3, ds["shape_z"].values[i] * 1e3, color="C0", lw=2)
+        ax.plot([-0.15 * L * 1e3, 0], [0, 0], color="0.3", lw=4)  # the clamp
+        for a in angles:
+            d = np.array([math.cos(math.radians(a)), math.sin(math.radians(a))])
+            start = np.array([0.5 * L, 0.5 * L]) * 1e3 - 0.45 * L * 1e3 * d
+            ax.annotate("", xy=start + 0.3 * L * 1e3 * d, xytext=start,
+                        arrowprops={"arrowstyle": "->", "color": "#c51b7d", "lw": 1})
+        ax.set_aspect("equal")
+        ax.set_xlim(-0.2 * L * 1e3, 1.1 * L * 1e3)
+        ax.set_ylim(-0.6 * L * 1e3, 1.1 * L * 1e3)
+        ax.set_title(f"{fmt(t[i])} s\n{math.degrees(float(ds['tip_angle'].values[i])):.0f}°", fontsize=8)
+        ax.tick_params(labelsize=6)
+    axes[0].set_ylabel("z (mm)", fontsize=8)
+    fig.supxlabel("x (mm)", fontsize=8)
+    save_figure(fig, path)
+    caption = (f"The strip's centre line (mm) at {len(picks)} times from {fmt(t[0])} to {fmt(t[-1])} s, "
+               f"{ds.attrs['segments']} segments, {ds.attrs['mode']}; titles: time and tip angle; grey: the clamp; "
+               f"arrows: the beams' direction of travel ({', '.join(f'{a:g}°' for a in angles)} from the strip axis)")
+    return figure_record(path, "Shape over time (filmstrip)", caption)
+
+
+def write_along(ds, out_dir, *, figures=True) -> dict:
+    """Write ``along_strip.nc`` (and ``figures/filmstrip.png``) into a result folder; returns the summary (with
+    ``figures``: the figure's record, when drawn).
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        From :func:`simulate_along`.
+    out_dir : str or os.PathLike
+        The (staging) result folder.
+    figures : bool
+        Draw the filmstrip.
+
+    Returns
+    -------
+    dict
+    """
+    from pathlib import Path
+
+    from .io import write_netcdf
+
+    out = Path(out_dir)
+    write_netcdf(ds, out / "along_strip.nc")
+    summary = along_summary(ds)
+    if figures:
+        summary["figures"] = [filmstrip_figure(ds, out / "figures" / "filmstrip.png")]
+    return summary

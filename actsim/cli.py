@@ -192,10 +192,13 @@ def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set
 
     sc = load_with_overrides(scenario_path, set_items)
     mask = mask_settings(sc)  # a bad [mask] is refused before the run
+    from .along_strip import along_strip_settings
+
+    along = along_strip_settings(sc)
     from .jitcache import compile_notice
     from .solver import grid_error_estimate
 
-    parts = ["mask"] * (mask is not None) + ["uncertainty"] * bool(uncertainty)
+    parts = ["mask"] * (mask is not None) + ["uncertainty"] * bool(uncertainty) + ["along_strip"] * (along is not None)
     # one transaction: every file of this run (mask, uncertainty bands included) or none, never a mixture
     with result_folder(out_dir, kind="run", overwrite=overwrite, parts=parts) as stage:
         with compile_notice():
@@ -228,6 +231,8 @@ def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set
             print("  through the mask (the table above is the strip lit all along its length):")
             print(f"  peak fold angle  {_fmt_angle(pat['peak_fold_angle'])} at t = {pat['time_of_peak_fold']:.4g} s")
             print(f"  peak tip travel  {_fmt(pat['peak_tip_travel_patterned'], 'mm', 1e3)}   (patterned.nc)")
+        if along is not None:
+            _run_along(sc, along, stage, figures=figures)
         if uncertainty:
             from .calibrate.uncertainty import run_uncertainty
 
@@ -237,6 +242,32 @@ def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set
     files = f"result.nc, timeseries.csv, summary.json{', figures/' if figures else ''}"
     print(with_caution(fit_text(f"\nresults written to {out_dir}/ ({files})", width), width))
     return 0
+
+
+def _run_along(sc, along, stage, *, figures) -> None:
+    """The ``[along_strip]`` part of a run: the strip along its length under light that follows its shape."""
+    import json
+    import math
+
+    from .along_strip import simulate_along_section, write_along
+    from .io import write_json
+
+    summary = write_along(simulate_along_section(sc, along), stage, figures=figures)
+    along_figures = summary.pop("figures", [])
+    record = json.loads((stage / "summary.json").read_text(encoding="utf-8"))
+    record["along_strip"] = summary
+    record["files"] += ["along_strip.nc"] + [f["file"] for f in along_figures]
+    record["figures"] = record.get("figures", []) + along_figures
+    write_json(stage / "summary.json", record)
+    print(f"  along the strip ({summary['segments']} segments, {summary['mode']}, light following the shape; the "
+          "table above is the strip lit straight on):")
+    print(f"  largest tip angle {math.degrees(summary['largest_tip_angle']):.4g} deg at t = "
+          f"{summary['time_of_largest']:.4g} s   (along_strip.nc)")
+    for st in summary["steps"]:
+        state = "settled" if st["settled"] else "still moving"
+        print(f"  end of step {st['step']} ({st['label']}), t = {st['time']:.4g} s: tip {math.degrees(st['tip_angle']):.4g} "
+              f"deg, {state}; lit: {100 * st['lit_share_top']:.0f} % of the segments on top, "
+              f"{100 * st['lit_share_bottom']:.0f} % below")
 
 
 def cmd_run(args):

@@ -78,7 +78,7 @@ MANIFEST_VERSION = 1
 KINDS = ("run", "check", "sweep", "fit")
 #: Optional parts of a folder, listed in the manifest: ``uncertainty`` (``actsim run --uncertainty``),
 #: ``mask`` (a scenario with ``[mask]``: ``patterned.nc``), ``inverse`` (``actsim sweep --optimise``).
-PARTS = ("uncertainty", "mask", "inverse")
+PARTS = ("uncertainty", "mask", "inverse", "along_strip")
 #: Files a reader may add to a finished folder without making it invalid (``actsim report`` writes
 #: ``report.html`` into the folder it reports on); anything else not in the manifest is refused.
 DERIVED_FILES = ("report.html",)

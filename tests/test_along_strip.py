@@ -150,3 +150,36 @@ def test_dynamic_mode_follows_the_quasi_static_strip_through_the_kelvin_voigt_la
     assert raw_20b / raw_20 == pytest.approx(2.0, rel=0.1)  # the lag is eta x rate
     assert lagged_20 < 0.6 * lagged_10  # first order in the segment length
     assert lagged_20 < 0.5 * raw_20
+
+
+def test_the_along_strip_section_runs_with_actsim_run(tmp_path, capsys):
+    # the demo scenario end to end: its [along_strip] part is written into the run's folder, with its summary
+    from pathlib import Path
+
+    from actsim.cli import main
+    from actsim.results import read_summary
+
+    scenario = Path(__file__).parents[1] / "scenarios" / "flap_oblique_lamp.toml"
+    assert main(["run", str(scenario), "-o", str(tmp_path / "out"), "--no-figures"]) == 0
+    shown = capsys.readouterr().out
+    assert "along the strip (20 segments, quasi-static" in shown and "end of step 0 (lamp on)" in shown
+    record = read_summary(tmp_path / "out")
+    along = record["along_strip"]
+    lit = along["steps"][0]
+    assert lit["settled"] and 120 < math.degrees(lit["tip_angle"]) < 150  # short of edge-on to the 30-deg beam
+    assert (tmp_path / "out" / "along_strip.nc").is_file() and "along_strip.nc" in record["files"]
+
+
+@pytest.mark.parametrize("section, message", [
+    ('segments = 0', r"^along_strip\.segments: 0"),
+    ('beams = { sun = "-30 deg" }', r"^along_strip\.beams\.sun: no source 'sun'"),
+    ('kv_time = "5 ms"', r"^along_strip\.kv_time: used only with mode = 'dynamic'"),
+    ('mode = "wobbly"', r"^along_strip\.mode: 'wobbly' is not one of"),
+])
+def test_bad_along_strip_section_is_one_line(section, message):
+    from actsim.along_strip import along_strip_settings
+
+    sc = parse_scenario(textwrap.dedent(THIN_FILM.format(duration="1 s")) + f"\n[along_strip]\n{section}\n")
+    with pytest.raises(ActsimInputError, match=message) as err:
+        along_strip_settings(sc)
+    assert "\n" not in str(err.value)

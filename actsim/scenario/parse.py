@@ -43,6 +43,7 @@ JOB_SECTIONS = {
     "safety": "actsim check (actsim.checks.settings.safety_settings)",
     "joint": "actsim check (actsim.checks.settings.joint_settings)",
     "mask": "actsim run (actsim.patterned.mask_settings)",
+    "along_strip": "actsim run (actsim.along_strip.along_strip_settings)",
     "calibration": "actsim run --uncertainty (actsim.calibrate.settings.calibration_settings)",
 }
 
