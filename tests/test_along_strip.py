@@ -168,6 +168,9 @@ def test_the_along_strip_section_runs_with_actsim_run(tmp_path, capsys):
     lit = along["steps"][0]
     assert lit["settled"] and 120 < math.degrees(lit["tip_angle"]) < 150  # short of edge-on to the 30-deg beam
     assert (tmp_path / "out" / "along_strip.nc").is_file() and "along_strip.nc" in record["files"]
+    assert main(["report", str(tmp_path / "out")]) == 0
+    html = (tmp_path / "out" / "report.html").read_text(encoding="utf-8")
+    assert "Along the strip, light following its shape" in html and "tip angle, end of step 0 (lamp on)" in html
 
 
 @pytest.mark.parametrize("section, message", [

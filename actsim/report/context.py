@@ -65,6 +65,8 @@ def report_context(result_dir) -> dict:
         label += " with uncertainty bands"
     if "mask" in parts:
         label += " through a mask"
+    if "along_strip" in parts:
+        label += ", resolved along its length"
     if "inverse" in parts:
         label = "inverse design"
     head, sep, rest = CAUTION.partition(":")

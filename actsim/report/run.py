@@ -143,6 +143,21 @@ def _mask_cards(pat: dict) -> list[dict]:
     return cards
 
 
+def _along_data(along) -> dict | None:
+    """Rows of the ``along_strip`` part of a run's summary (largest tip angle; each step's end), or None."""
+    if not isinstance(along, dict) or "steps" not in along:
+        return None
+    rows = [{"name": "largest tip angle", "value": _deg(along.get("largest_tip_angle")), "unit": "°"},
+            {"name": "time of the largest tip angle", "value": _num(along.get("time_of_largest")), "unit": "s"}]
+    for st in along["steps"]:
+        where = f"end of step {st['step']}" + (f" ({st['label']})" if st.get("label") else "")
+        rows += [{"name": f"tip angle, {where}", "value": _deg(st["tip_angle"]), "unit": "°"},
+                 {"name": f"settled by the {where}", "value": "yes" if st["settled"] else "no", "unit": "—"},
+                 {"name": f"segments lit on the top / bottom face, {where}",
+                  "value": f"{_num(100 * st['lit_share_top'])} / {_num(100 * st['lit_share_bottom'])}", "unit": "%"}]
+    return {"segments": str(along.get("segments", "")), "mode": str(along.get("mode", "")), "rows": rows}
+
+
 def _run_context(out: Path, manifest: dict) -> dict:
     record = _load_summary(out)
     metrics = record["metrics"]
@@ -171,7 +186,8 @@ def _run_context(out: Path, manifest: dict) -> dict:
            "scenario": _scenario_data(sc) if sc is not None else None, "scenario_reason": reason,
            "scenario_fallback": _scenario_fallback(text) if sc is None else [],
            "appendix": [{"title": "the scenario TOML exactly as run (scenario.toml)", "text": text}] if text else [],
-           "written_by": record.get("actsim_version", "unknown"), "uncertainty": None, "mask": None}
+           "written_by": record.get("actsim_version", "unknown"), "uncertainty": None, "mask": None,
+           "along": _along_data(record.get("along_strip"))}
     if "mask" in manifest.get("parts", []) or isinstance(record.get("patterned"), dict):
         pat = record.get("patterned") if isinstance(record.get("patterned"), dict) else {}
         ctx["mask"] = {"rows": [{"name": k.replace("_", " "), "value": _deg(v) if "angle" in k else
