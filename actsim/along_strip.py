@@ -307,16 +307,16 @@ def parse_along_strip(data, *, field: str = "along_strip", base_dir=None, scenar
     Parameters
     ----------
     data : dict
-        The TOML table: ``segments`` (1 to 400, default 20), ``mode`` ("quasi-static" or "dynamic"),
+        The TOML table (unitless itself; its values are unit strings): ``segments`` (1 to 400, default 20), ``mode`` ("quasi-static" or "dynamic"),
         ``coupling_step`` (a time), ``beams`` (``{ SOURCE = "angle" }``: each source's direction of travel in the
         bending plane from the strip axis; -90 deg is straight down onto the flat strip), ``kv_time`` (a time;
         "dynamic" only).
     field : str
         Section name for messages.
     base_dir : pathlib.Path
-        Unused.
+        Unused (a folder, unitless).
     scenario_info : dict
-        ``sources`` (names): every beam must name one.
+        ``sources`` (names): every beam must name one (unitless).
 
     Returns
     -------
@@ -369,7 +369,7 @@ def simulate_along_section(scenario, settings: AlongStrip) -> xr.Dataset:
     Parameters
     ----------
     scenario : actsim.scenario.Scenario
-    settings : AlongStrip
+    settings : actsim.along_strip.AlongStrip
 
     Returns
     -------
@@ -395,7 +395,7 @@ def along_summary(ds) -> dict:
     Parameters
     ----------
     ds : xarray.Dataset
-        From :func:`simulate_along`.
+        From :func:`simulate_along` (a container, unitless: each variable carries its ``units``).
 
     Returns
     -------
@@ -425,7 +425,7 @@ def filmstrip_figure(ds, path, n_frames: int = 8) -> dict:
     Parameters
     ----------
     ds : xarray.Dataset
-        From :func:`simulate_along`.
+        From :func:`simulate_along` (a container, unitless: each variable carries its ``units``).
     path : str or os.PathLike
         PNG file.
     n_frames : int
@@ -477,7 +477,7 @@ def write_along(ds, out_dir, *, figures=True) -> dict:
     Parameters
     ----------
     ds : xarray.Dataset
-        From :func:`simulate_along`.
+        From :func:`simulate_along` (a container, unitless: each variable carries its ``units``).
     out_dir : str or os.PathLike
         The (staging) result folder.
     figures : bool

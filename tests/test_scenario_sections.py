@@ -66,7 +66,7 @@ def test_unknown_or_malformed_top_level_section_still_refused_at_load():
     assert "\n" not in str(exc.value)
     with pytest.raises(ActsimInputError, match=r"^mask: expected a table"):
         parse_scenario("mask = 3\n" + BASE)
-    assert set(JOB_SECTIONS) == {"checks", "safety", "joint", "mask", "calibration"}
+    assert set(JOB_SECTIONS) == {"checks", "safety", "joint", "mask", "calibration", "along_strip"}
 
 
 def test_every_material_name_is_known_to_the_sections():
