@@ -43,6 +43,9 @@ MODULES = (
     "actsim.thermal",
     "actsim.thermal_reference",
     "actsim.elastica",
+    "actsim.solve_budget",
+    "actsim.curvature_profile",
+    "actsim.load_line_history",
     "actsim.metrics",
     "actsim.shape_memory",
 )

@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 
 import actsim
-from actsim.elastica import load_line_history
+from actsim.load_line_history import load_line_history
 
 from conftest import film_toml
 

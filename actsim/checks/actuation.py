@@ -58,7 +58,7 @@ def actuation_state(scenario, ds, cs: CheckSettings, *, elastica: bool, budget=N
         ``tip_load_not_solved`` (str) why the tip-loaded shape is missing.
     """
     from ..elastica import FULL_TURN, ElasticaLimitError, SolveBudget, blocked_tip_force, load_line, progress_bar
-    from ..elastica import _user_reason
+    from ..solve_budget import user_reason
 
     budget = SolveBudget() if budget is None else budget
 
@@ -126,7 +126,7 @@ def actuation_state(scenario, ds, cs: CheckSettings, *, elastica: bool, budget=N
             except (ActsimInputError, ElasticaLimitError) as exc:
                 n_failed += 1
                 if failed_at is None:
-                    failed_at = (float(times[i]), _user_reason(exc))
+                    failed_at = (float(times[i]), user_reason(exc))
             cache[key] = f
             force[i] = f
     out["blocked_force"] = force
@@ -156,7 +156,7 @@ def actuation_state(scenario, ds, cs: CheckSettings, *, elastica: bool, budget=N
                     "_object": ll,
                 }
             except (ActsimInputError, ElasticaLimitError) as exc:
-                reason = _user_reason(exc)
+                reason = user_reason(exc)
         if reason:
             out["load_line_not_solved"] = reason
             missing.append(("the load line at peak bend", None if peak_beyond else reason))

@@ -121,7 +121,7 @@ def cmd_check(args) -> int:
             raise ActsimInputError("check: nothing to check in this scenario; add a [checks] section (see docs/checks.md)")
         lines = None
         if not args.no_elastica:  # computed before anything is written
-            from ..elastica import load_line_history
+            from ..load_line_history import load_line_history
 
             lines = load_line_history(ds, budget=budget, progress=True)
         write_result_files(ds, sc, stage, figures=not args.no_figures)
