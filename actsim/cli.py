@@ -167,15 +167,19 @@ def load_with_overrides(scenario_path, set_items=None):
     return apply_overrides(sc, overrides) if overrides else sc
 
 
-def _add_figures(stage, records) -> None:
-    """Append figure records (file, title, caption) to the summary.json of a staging folder."""
+def _add_figures(stage, records, *, part=None, summary=None, data_file=None) -> None:
+    """Append figure records (file, title, caption) to the summary.json of a staging folder; with ``part``, also
+    the part's ``summary`` under that key and its ``data_file``."""
     import json
 
     from .io import write_json
 
-    if not records:
+    if not records and part is None:
         return
     record = json.loads((stage / "summary.json").read_text(encoding="utf-8"))
+    if part is not None:
+        record[part] = summary
+        record["files"] = record.get("files", []) + [data_file]
     record["figures"] = record.get("figures", []) + list(records)
     record["files"] = record.get("files", []) + [r["file"] for r in records if r["file"] not in record.get("files", [])]
     write_json(stage / "summary.json", record)
@@ -215,19 +219,10 @@ def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set
         for note in model_notes(sc) + ([ds.attrs["small_strain_warning"]] if "small_strain_warning" in ds.attrs else []):
             print("\n".join(wrap(note, width, indent="  ")))
         if mask is not None:
-            import json
-
             from .patterned import simulate_patterned, write_patterned
 
             pat = write_patterned(simulate_patterned(sc, engine=engine), stage, figures=figures)
-            from .io import write_json
-
-            pat_figures = pat.pop("figures", [])
-            record = json.loads((stage / "summary.json").read_text(encoding="utf-8"))
-            record["patterned"] = pat
-            record["files"] += ["patterned.nc"] + [f["file"] for f in pat_figures]
-            record["figures"] = record.get("figures", []) + pat_figures
-            write_json(stage / "summary.json", record)
+            _add_figures(stage, pat.pop("figures", []), part="patterned", summary=pat, data_file="patterned.nc")
             print("  through the mask (the table above is the strip lit all along its length):")
             print(f"  peak fold angle  {_fmt_angle(pat['peak_fold_angle'])} at t = {pat['time_of_peak_fold']:.4g} s")
             print(f"  peak tip travel  {_fmt(pat['peak_tip_travel_patterned'], 'mm', 1e3)}   (patterned.nc)")
@@ -246,19 +241,12 @@ def _run_and_write(scenario_path, out_dir, *, figures=True, engine="kernel", set
 
 def _run_along(sc, along, stage, *, figures) -> None:
     """The ``[along_strip]`` part of a run: the strip along its length under light that follows its shape."""
-    import json
     import math
 
     from .along_strip import simulate_along_section, write_along
-    from .io import write_json
 
     summary = write_along(simulate_along_section(sc, along), stage, figures=figures)
-    along_figures = summary.pop("figures", [])
-    record = json.loads((stage / "summary.json").read_text(encoding="utf-8"))
-    record["along_strip"] = summary
-    record["files"] += ["along_strip.nc"] + [f["file"] for f in along_figures]
-    record["figures"] = record.get("figures", []) + along_figures
-    write_json(stage / "summary.json", record)
+    _add_figures(stage, summary.pop("figures", []), part="along_strip", summary=summary, data_file="along_strip.nc")
     print(f"  along the strip ({summary['segments']} segments, {summary['mode']}, light following the shape; the "
           "table above is the strip lit straight on):")
     print(f"  largest tip angle {math.degrees(summary['largest_tip_angle']):.4g} deg at t = "
