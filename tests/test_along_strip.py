@@ -60,6 +60,7 @@ def thin_film(duration="16 s"):
 
 def test_arc_points_are_the_circular_arc():
     # a uniform curvature k over length L: the clamped circular arc, tip at (sin kL / k, (1 - cos kL) / k)
+    # (pure bending gives a circular arc: Timoshenko and Gere, Theory of Elastic Stability, 1961)
     k, L, n = 150.0, 0.01, 16
     p = arc_points(np.full(n, k), L / n)
     assert p[-1] == pytest.approx([math.sin(k * L) / k, (1 - math.cos(k * L)) / k], rel=1e-12)
